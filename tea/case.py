@@ -1,0 +1,517 @@
+"""Case files: load TOML, merge the crop preset, convert units, validate everything at once.
+
+A case is one field, one crop and one deal. :func:`load_case` reads it, lays the
+crop preset under the case's own values, converts every quantity to canonical
+units (ha, t, kg, km, l, GJ; see :mod:`tea.units`) and checks every key against
+:mod:`tea.schema`. Every problem is collected, each naming the file, the key
+path and what was expected, and raised together as one :class:`~tea.errors.CaseError`.
+Legal but unusual values become warnings on the case.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import json
+import math
+import re
+import tomllib
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+from typing import Any, Iterable, Mapping
+
+from . import carbon, schema, units
+from .errors import CaseError, Problem
+
+#: physical ceiling on a harvested yield [t DM ha⁻¹ yr⁻¹]: from memory, the
+#: most that the maximum efficiency of solar energy conversion allows any crop
+YIELD_CEILING_T_DM_PER_HA = 100.0
+
+_CURRENCY_RE = re.compile(r"^[A-Z]{3}$")
+#: a short list of common ISO 4217 codes; another well-formed code only warns
+COMMON_CURRENCIES = frozenset(
+    "AUD BRL CAD CHF CNY CZK DKK EUR GBP HUF INR JPY MXN NOK NZD PLN RON SEK USD ZAR".split()
+)
+
+
+# ----------------------------------------------------------------------------- presets
+@dataclass(frozen=True)
+class Preset:
+    """A crop preset: canonical values by key path, each with its source."""
+
+    name: str
+    title: str
+    kind: str
+    non_native_warning: bool
+    values: Mapping[str, Any]
+    sources: Mapping[str, str]
+
+
+def preset_names() -> list[str]:
+    """Names of the packaged crop presets."""
+    return sorted(p.name[:-5] for p in resources.files("tea.presets").iterdir() if p.name.endswith(".toml"))
+
+
+@lru_cache(maxsize=None)
+def load_preset(name: str) -> Preset:
+    """Read a packaged preset. Raises KeyError naming the valid presets."""
+    if name not in preset_names():
+        raise KeyError(f"unknown crop preset {name!r}; valid presets: {', '.join(preset_names())}")
+    text = resources.files("tea.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8")
+    data = tomllib.loads(text)
+    head = data.pop("preset")
+    values: dict[str, Any] = {}
+    sources: dict[str, str] = {}
+    spelled = _spelling_index()
+    for section, table in data.items():
+        for key, entry in table.items():
+            found = spelled.get(section, {}).get(key)
+            if found is None or not isinstance(entry, dict) or "value" not in entry or "source" not in entry:
+                raise ValueError(f"preset {name}: {section}.{key} is not a schema key with value and source")
+            k, factor = found
+            values[k.path] = _scale(entry["value"], factor)
+            sources[k.path] = entry["source"]
+    return Preset(name, head["title"], head["kind"], bool(head.get("non_native_warning")), values, sources)
+
+
+# ----------------------------------------------------------------------------- the case
+@dataclass(frozen=True)
+class Case:
+    """A validated case: canonical values by dotted key path.
+
+    ``origin[path]`` says where each value came from (``case``, ``preset``,
+    ``default`` or ``derived``) and ``notes[path]`` its source note.
+    """
+
+    source: str
+    values: Mapping[str, Any]
+    origin: Mapping[str, str]
+    notes: Mapping[str, str]
+    warnings: tuple[str, ...] = ()
+    given_spelling: Mapping[str, str] = field(default_factory=dict)
+
+    def __getitem__(self, path: str) -> Any:
+        return self.values[path]
+
+    @property
+    def name(self) -> str:
+        return self.values["case.name"]
+
+    @property
+    def currency(self) -> str:
+        return self.values["case.currency"]
+
+    @property
+    def unit_system(self) -> str:
+        return self.values["case.units"]
+
+    @property
+    def area_ha(self) -> float:
+        return self.values["field.area_ha"]
+
+    @property
+    def stand_life(self) -> int:
+        return self.values["finance.stand_life_years"]
+
+    @property
+    def preset(self) -> Preset:
+        return load_preset(self.values["crop.preset"])
+
+    @property
+    def price_basis(self) -> str:
+        """``"t_dm"`` or ``"gj"``: which price the case gave."""
+        return "gj" if self.values.get("revenue.price_per_gj") is not None else "t_dm"
+
+    @property
+    def real_discount_rate(self) -> float:
+        """The real rate the ledger is discounted at (Fisher equation for a nominal rate)."""
+        r = self.values["finance.discount_rate"]
+        if self.values["finance.rate_basis"] == "nominal":
+            return (1.0 + r) / (1.0 + self.values["finance.inflation"]) - 1.0
+        return r
+
+    @property
+    def hash(self) -> str:
+        """SHA-256 (first 16 hex digits) of the resolved canonical values."""
+        blob = json.dumps(self.values, sort_keys=True, separators=(",", ":"), default=str)
+        return hashlib.sha256(blob.encode()).hexdigest()[:16]
+
+    def replace(self, **changes: Any) -> "Case":
+        """A copy with some canonical values changed, e.g. ``replace(**{"revenue.price_per_t_dm": 90})``.
+
+        The changed values are validated like a case file's; the result keeps its origin notes.
+        """
+        raw = _nest({p: v for p, v in self.values.items() if self.origin.get(p) == "case"})
+        for path, value in changes.items():
+            section, _, key = path.partition(".")
+            raw.setdefault(section, {})[key] = value
+        return load_mapping(raw, source=self.source)
+
+    def given(self) -> dict[str, dict[str, Any]]:
+        """The values the case file itself gave, canonical, nested by section."""
+        return _nest({p: v for p, v in self.values.items() if self.origin.get(p) == "case"})
+
+
+def _nest(flat: Mapping[str, Any]) -> dict[str, dict[str, Any]]:
+    out: dict[str, dict[str, Any]] = {}
+    for path, value in flat.items():
+        section, _, key = path.partition(".")
+        out.setdefault(section, {})[key] = value
+    return out
+
+
+# ----------------------------------------------------------------------------- loading
+def load_case(path: str | Path) -> Case:
+    """Load and validate a case file (TOML, or a workbook written by `tea`).
+
+    Raises
+    ------
+    CaseError
+        listing every problem, each with the file, key path and what was expected.
+    """
+    path = Path(path)
+    source = str(path)
+    if path.suffix.lower() == ".xlsx":
+        from .workbook import read_case_mapping  # only when a workbook is read back
+
+        return load_mapping(read_case_mapping(path), source=source)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise CaseError([Problem(source, "", "file not found")]) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise CaseError([Problem(source, "", f"cannot read the file ({exc.__class__.__name__}: {exc})")]) from None
+    return load_text(text, source=source)
+
+
+def load_text(text: str, source: str = "<case>") -> Case:
+    """Load and validate a case from TOML text."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError([Problem(source, "", f"malformed TOML: {exc}")]) from None
+    return load_mapping(data, source=source)
+
+
+@lru_cache(maxsize=None)
+def _spelling_index() -> dict[str, dict[str, tuple[schema.Key, float]]]:
+    """section -> accepted spelling -> (key, factor to canonical)."""
+    index: dict[str, dict[str, tuple[schema.Key, float]]] = {}
+    for k in schema.KEYS:
+        for spelling, factor in k.spellings().items():
+            index.setdefault(k.section, {})[spelling] = (k, factor)
+    return index
+
+
+@lru_cache(maxsize=None)
+def _alias_index() -> dict[str, dict[str, tuple[schema.Key, float]]]:
+    """section -> alias spelling (e.g. a fresh-yield key) -> (key, factor)."""
+    index: dict[str, dict[str, tuple[schema.Key, float]]] = {}
+    for k in schema.KEYS:
+        for alias in k.aliases:
+            for spelling, factor in units.spellings(alias).items():
+                index.setdefault(k.section, {})[spelling] = (k, factor)
+    return index
+
+
+def _scale(value: Any, factor: float) -> Any:
+    if factor == 1.0 or isinstance(value, (str, bool)):
+        return value
+    if isinstance(value, list):
+        return [v * factor for v in value]
+    return value * factor
+
+
+def _suggest(word: str, candidates: Iterable[str]) -> str:
+    close = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.5)
+    return f"; did you mean {close[0]!r}?" if close else ""
+
+
+def _expected(k: schema.Key, system: str = "metric") -> str:
+    if k.kind == "enum":
+        return "one of " + ", ".join(k.choices)
+    if k.kind == "bool":
+        return "true or false"
+    if k.kind == "str":
+        return "a text string"
+    what = {"float": "a number", "int": "a whole number", "list": "a list of numbers"}[k.kind]
+    unit = k.unit_text(system)
+    return f"{what}" + (f" [{unit}]" if unit else "")
+
+
+def _type_error(k: schema.Key, value: Any) -> str | None:
+    """Why ``value`` has the wrong type for ``k``, or None."""
+    is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
+    if k.kind == "float":
+        if not is_num:
+            return f"expected {_expected(k)}, got {value!r}"
+        if not math.isfinite(value):
+            return f"expected a finite number, got {value!r}"
+    elif k.kind == "int":
+        if isinstance(value, float) and value.is_integer():
+            return None
+        if not (isinstance(value, int) and not isinstance(value, bool)):
+            return f"expected a whole number, got {value!r}"
+    elif k.kind in ("str", "enum"):
+        if not isinstance(value, str):
+            return f"expected {_expected(k)}, got {value!r}"
+        if k.kind == "enum" and value not in k.choices:
+            return f"expected one of {', '.join(k.choices)}, got {value!r}" + _suggest(value, k.choices)
+    elif k.kind == "bool":
+        if not isinstance(value, bool):
+            return f"expected true or false, got {value!r}"
+    elif k.kind == "list":
+        if not isinstance(value, list) or not value:
+            return f"expected a non-empty list of numbers, got {value!r}"
+        for v in value:
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                return f"expected a list of finite numbers, got {value!r}"
+    return None
+
+
+def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str | None:
+    """Why a canonical ``value`` is outside the key's physical range, or None.
+
+    Bounds are shown in the unit the case used (``factor`` converts to canonical).
+    """
+    if k.kind not in ("float", "int", "list") or (k.lo is None and k.hi is None):
+        return None
+    items = value if isinstance(value, list) else [value]
+    shown = (lambda x: x / factor) if factor not in (0.0, 1.0) else (lambda x: x)
+    for v in items:
+        if k.lo is not None and (v < k.lo or (k.lo_open and v == k.lo)):
+            sign = ">" if k.lo_open else ">="
+            return f"must be {sign} {shown(k.lo):g}, got {shown(v):g}"
+        if k.hi is not None and (v > k.hi or (k.hi_open and v == k.hi)):
+            sign = "<" if k.hi_open else "<="
+            unit = " (as a fraction: 0.2 means 20 %)" if k.unit == "fraction" and k.hi == 1.0 else ""
+            return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
+    return None
+
+
+def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
+    """Validate a case given as nested mappings (the parsed TOML).
+
+    Every problem is collected; a :class:`CaseError` lists them all.
+    """
+    problems: list[Problem] = []
+    warnings: list[str] = []
+
+    def bad(key: str, message: str) -> None:
+        problems.append(Problem(source, key, message))
+
+    values: dict[str, Any] = {}
+    origin: dict[str, str] = {}
+    notes: dict[str, str] = {}
+    spelled: dict[str, str] = {}
+    factors: dict[str, float] = {}
+    fresh_given = False
+
+    index, aliases = _spelling_index(), _alias_index()
+    if not isinstance(data, Mapping):
+        raise CaseError([Problem(source, "", "expected a TOML document of [sections]")])
+
+    # 1. the case's own keys: known, well typed, one spelling each
+    for section, table in data.items():
+        if section not in index:
+            bad(section, "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
+            continue
+        if not isinstance(table, Mapping):
+            bad(section, f"expected a [{section}] table of keys, got {table!r}")
+            continue
+        for key, value in table.items():
+            path = f"{section}.{key}"
+            hit = index[section].get(key) or aliases.get(section, {}).get(key)
+            if hit is None:
+                elsewhere = [s for s in index if key in index[s]]
+                hint = f"; it belongs in [{elsewhere[0]}]" if elsewhere else _suggest(key, list(index[section]) + list(aliases.get(section, {})))
+                bad(path, "unknown key" + hint)
+                continue
+            k, factor = hit
+            if k.path in values:
+                bad(path, f"given twice (also as {k.section}.{spelled[k.path]}); give it once")
+                continue
+            why = _type_error(k, value)
+            if why:
+                bad(path, why)
+                continue
+            if k.kind == "int":
+                value = int(value)
+            if key in aliases.get(section, {}):
+                fresh_given = True
+            values[k.path] = _scale(value, factor)
+            origin[k.path] = "case"
+            notes[k.path] = "case file"
+            spelled[k.path] = key
+            factors[k.path] = factor
+
+    system = values.get("case.units", "metric") if values.get("case.units") in units.SYSTEMS else "metric"
+
+    # 2. the crop preset under the case's values
+    preset = None
+    preset_name = values.get("crop.preset")
+    if isinstance(preset_name, str):
+        try:
+            preset = load_preset(preset_name)
+        except KeyError:
+            bad("crop.preset", f"unknown crop preset {preset_name!r}; expected one of {', '.join(preset_names())}"
+                + _suggest(preset_name, preset_names()))
+    if preset is not None:
+        for path, value in preset.values.items():
+            if path not in values:
+                values[path] = value
+                origin[path] = "preset"
+                notes[path] = f"preset {preset.name}: {preset.sources[path]}"
+
+    # 3. fresh-weight yield to dry matter
+    if fresh_given:
+        m = values.get("yield.fresh_moisture")
+        if m is None:
+            bad("yield.fresh_moisture", "missing value: a mature yield given as fresh tonnes needs its moisture content "
+                "(wet-basis fraction, e.g. 0.5)")
+        elif 0.0 <= m < 1.0:
+            values["yield.mature_t_dm_per_ha"] *= 1.0 - m
+            notes["yield.mature_t_dm_per_ha"] = f"case file, fresh yield at {m:.0%} moisture"
+
+    # 4. defaults, derived values and missing ones
+    for k in schema.KEYS:
+        if k.path in values:
+            continue
+        if k.default is schema.REQUIRED or (k.default is schema.PRESET and preset is None and preset_name is None):
+            bad(k.path, f"missing value: expected {_expected(k, system)}")
+        elif k.default is schema.PRESET:
+            if preset is not None:
+                bad(k.path, f"missing value: preset {preset.name} does not set it; expected {_expected(k, system)}")
+        elif k.default is schema.DERIVED:
+            pass  # below, once climate and soil are known
+        else:
+            values[k.path] = k.default
+            origin[k.path] = "default"
+            notes[k.path] = k.source or "default"
+            if k.path == "field.current_margin_per_ha":
+                warnings.append(f"{source}: field.current_margin_per_ha: not given; the current use is taken to earn 0 a year")
+    _derive(values, origin, notes, problems, source)
+
+    # 5. physical ranges
+    for k in schema.KEYS:
+        v = values.get(k.path)
+        if v is None or k.path in {p.key for p in problems}:
+            continue
+        why = _range_error(k, v, factors.get(k.path, 1.0), system)
+        if why:
+            bad(spelled.get(k.path) and f"{k.section}.{spelled[k.path]}" or k.path, why)
+            continue
+        for item in v if isinstance(v, list) else [v]:
+            if k.kind in ("float", "int") and (
+                (k.warn_lo is not None and item < k.warn_lo) or (k.warn_hi is not None and item > k.warn_hi)
+            ):
+                lo = "" if k.warn_lo is None else f"{k.warn_lo:g}"
+                hi = "" if k.warn_hi is None else f"{k.warn_hi:g}"
+                warnings.append(f"{source}: {k.path}: {item:g} is unusual (expected {lo}..{hi} [{k.unit_text()}]); check it")
+
+    # 6. rules that tie keys together
+    _cross_checks(values, problems, warnings, source, spelled)
+
+    if problems:
+        raise CaseError(_dedupe(problems))
+    return Case(source, values, origin, notes, tuple(warnings), spelled)
+
+
+def _dedupe(problems: list[Problem]) -> list[Problem]:
+    seen, out = set(), []
+    for p in problems:
+        if (p.key, p.message) not in seen:
+            seen.add((p.key, p.message))
+            out.append(p)
+    return out
+
+
+def _derive(values, origin, notes, problems, source) -> None:
+    """Fill DERIVED keys from published tables (SOC_ref, land-use factors, input factors)."""
+    climate, soil = values.get("field.climate"), values.get("field.soil")
+    known_site = climate in schema.CLIMATES and soil in schema.SOILS
+
+    def put(path: str, value: float, note: str) -> None:
+        if path not in values:
+            values[path] = value
+            origin[path] = "derived"
+            notes[path] = note
+
+    if "carbon.soc_ref_t_c_per_ha" not in values and known_site:
+        try:
+            put("carbon.soc_ref_t_c_per_ha", carbon.soc_ref_t_c_per_ha(climate, soil),
+                f"IPCC 2006 Vol.4 Ch.2 Table 2.3, {climate}, {soil}")
+        except KeyError:
+            problems.append(Problem(source, "carbon.soc_ref_t_c_per_ha",
+                                    f"missing value: IPCC Table 2.3 has no default for {climate} on {soil}; "
+                                    "give the reference stock [t C/ha]"))
+    use = values.get("field.current_use")
+    if climate in schema.CLIMATES and use in schema.LAND_USES:
+        f_lu, f_mg, f_i = carbon.land_use_factors(use, climate)
+        for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
+            put(f"carbon.current_{name}", f, f"IPCC 2006 Vol.4 Tables 5.5/6.2, {use}, {climate}")
+    factors = carbon.default_input_factors()
+    for path, key in (
+        ("carbon.diesel_kg_co2e_per_l", "diesel_kg_co2_per_l"),
+        ("carbon.n_manufacture_kg_co2e_per_kg", "fertiliser_n_kg_co2e_per_kg_n"),
+        ("carbon.p2o5_manufacture_kg_co2e_per_kg", "fertiliser_p2o5_kg_co2e_per_kg_p2o5"),
+        ("carbon.k2o_manufacture_kg_co2e_per_kg", "fertiliser_k2o_kg_co2e_per_kg_k2o"),
+        ("carbon.haul_kg_co2e_per_t_km", "road_haulage_kg_co2e_per_t_km"),
+    ):
+        entry = factors[key]
+        put(path, entry["value"], entry["source"])
+    for k in schema.KEYS:
+        if k.default is schema.DERIVED and k.path not in values and not any(p.key == k.path for p in problems):
+            if not known_site or use not in schema.LAND_USES:
+                continue  # the climate/soil/use problem is reported already
+            problems.append(Problem(source, k.path, f"missing value: expected {_expected(k)}"))
+
+
+def _cross_checks(values, problems, warnings, source, spelled) -> None:
+    def bad(key: str, message: str) -> None:
+        problems.append(Problem(source, key, message))
+
+    def warn(key: str, message: str) -> None:
+        warnings.append(f"{source}: {key}: {message}")
+
+    bad_keys = {p.key for p in problems}
+    currency = values.get("case.currency")
+    if isinstance(currency, str) and "case.currency" not in bad_keys:
+        if not _CURRENCY_RE.match(currency):
+            bad("case.currency", f"expected a three-letter ISO 4217 code such as EUR or USD, got {currency!r}")
+        elif currency not in COMMON_CURRENCIES:
+            warn("case.currency", f"{currency} is not a common ISO 4217 code; check it")
+
+    has_t, has_gj = values.get("revenue.price_per_t_dm") is not None, values.get("revenue.price_per_gj") is not None
+    if has_t and has_gj:
+        bad("revenue.price_per_gj", "give one price, price_per_t_dm or price_per_gj, not both")
+    elif not has_t and not has_gj and "revenue.price_per_t_dm" not in bad_keys and "revenue.price_per_gj" not in bad_keys:
+        bad("revenue.price_per_t_dm", "missing value: expected a biomass price per t of dry matter (or price_per_gj)")
+
+    y, rec = values.get("yield.mature_t_dm_per_ha"), values.get("yield.record_t_dm_per_ha")
+    if isinstance(y, (int, float)) and isinstance(rec, (int, float)) and y > 0 and rec > 0:
+        ceiling = min(YIELD_CEILING_T_DM_PER_HA, 2.0 * rec)
+        key = f"yield.{spelled.get('yield.mature_t_dm_per_ha', 'mature_t_dm_per_ha')}"
+        if y > ceiling:
+            bad(key, f"{y:g} t DM/ha is far above the highest recorded for this crop ({rec:g} t DM/ha); "
+                f"expected at most {ceiling:g}")
+        elif y > rec:
+            warn(key, f"{y:g} t DM/ha is above the highest recorded for this crop ({rec:g} t DM/ha)")
+
+    share = values.get("loan.share_of_establishment")
+    if isinstance(share, (int, float)) and share > 0 and values.get("loan.rate") is None and "loan.rate" not in bad_keys:
+        bad("loan.rate", "missing value: a loan (share_of_establishment > 0) needs its interest rate [fraction/yr]")
+    life, first = values.get("finance.stand_life_years"), values.get("harvest.first_year")
+    grace, term = values.get("loan.grace_years"), values.get("loan.term_years")
+    if isinstance(share, (int, float)) and share > 0 and isinstance(life, int) and isinstance(grace, int) \
+            and isinstance(term, int) and grace + term > life:
+        bad("loan.term_years", f"grace ({grace}) + term ({term}) years run past the stand life ({life} years)")
+    if isinstance(life, int) and isinstance(first, int) and first > life and "harvest.first_year" not in bad_keys:
+        bad("harvest.first_year", f"the first harvest (year {first}) falls after the stand's life ({life} years)")
+    start = values.get("yield.decline_start_year")
+    if isinstance(life, int) and isinstance(start, int) and start >= life and start > 0:
+        warn("yield.decline_start_year", f"year {start} is not before the last year ({life}); no decline is modelled")
+    if values.get("finance.rate_basis") == "real" and values.get("finance.inflation", 0.0) not in (0, 0.0):
+        warn("finance.inflation", "is ignored with rate_basis = real (cash flows are in today's money)")

@@ -1,0 +1,201 @@
+"""The `tea` command line: parse arguments, call the library, print. No arithmetic here.
+
+Exit status: 0 done; 2 bad input or usage (every problem printed, one line each,
+no traceback); 1 an unexpected internal error (one line; set TEA_DEBUG=1 for the
+traceback).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+from typing import Sequence
+
+from . import __version__
+from .errors import CaseError, OutputError, TeaError
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
+    from . import terminal
+    from .case import load_case
+    from .ledger import build_ledger
+    from .results import summarise
+
+    cases, ledgers, results = [], [], []
+    problems = []
+    for path in args.cases:
+        try:
+            case = load_case(path)
+        except CaseError as exc:
+            problems.extend(exc.problems)
+            continue
+        cases.append(case)
+    if problems:
+        raise CaseError(problems)
+    outputs = [p for p in (args.xlsx, args.pdf, args.html) if p]
+    _check_outputs(outputs, args.force)
+    for case in cases:
+        for w in case.warnings:
+            print(f"warning: {w}", file=sys.stderr)
+        frame = build_ledger(case)
+        ledgers.append(frame)
+        results.append(summarise(case, frame))
+    if args.json:
+        payload = [terminal.json_payload(c, f, r) for c, f, r in zip(cases, ledgers, results)]
+        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2, allow_nan=False))
+    else:
+        for c, f, r in zip(cases, ledgers, results):
+            print(terminal.summary_text(c, f, r, yearly=not args.brief))
+    if args.xlsx:
+        from .workbook import write_portfolio, write_workbook
+
+        if len(cases) == 1:
+            write_workbook(cases[0], ledgers[0], results[0], args.xlsx, force=args.force)
+        else:
+            write_portfolio(cases, ledgers, results, args.xlsx, force=args.force)
+        print(f"wrote {args.xlsx}", file=sys.stderr)
+    for out, kind in ((args.pdf, "pdf"), (args.html, "html")):
+        if out:
+            from .report import render_comparison, render_summary
+
+            if len(cases) == 1:
+                render_summary(cases[0], ledgers[0], results[0], out, force=args.force, page_size=args.page_size)
+            else:
+                render_comparison(cases, ledgers, results, out, force=args.force, page_size=args.page_size)
+            print(f"wrote {out}", file=sys.stderr)
+    return 0
+
+
+def _check_outputs(paths: Sequence[str], force: bool) -> None:
+    """Refuse, before any work, to overwrite files or write into missing folders."""
+    problems = []
+    for p in paths:
+        path = Path(p)
+        if path.exists() and not force:
+            problems.append(f"{p}: exists; pass --force to overwrite it")
+        elif not path.parent.exists():
+            problems.append(f"{p}: folder {path.parent} does not exist")
+    if problems:
+        raise OutputError("\n".join(problems))
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    from .case import load_case
+
+    problems = []
+    for path in args.cases:
+        try:
+            case = load_case(path)
+        except CaseError as exc:
+            problems.extend(exc.problems)
+            continue
+        for w in case.warnings:
+            print(f"warning: {w}", file=sys.stderr)
+        print(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
+    if problems:
+        raise CaseError(problems)
+    return 0
+
+
+def _cmd_new(args: argparse.Namespace) -> int:
+    from .starter import starter_case
+
+    name = args.name if args.name.endswith(".toml") else args.name + ".toml"
+    path = Path(name)
+    _check_outputs([name], args.force)
+    text = starter_case(Path(name).stem, args.crop, args.units, args.currency)
+    from .files import atomic_write_text
+
+    atomic_write_text(path, text)
+    print(f"wrote {path}: a starter case for preset {args.crop}; edit it, then `tea check {path}`")
+    return 0
+
+
+def _cmd_presets(args: argparse.Namespace) -> int:
+    from . import terminal
+
+    print(terminal.presets_text(verbose=args.verbose))
+    return 0
+
+
+def _add_analysis_commands(sub) -> None:
+    """Risk and screening commands, where the module exists."""
+    try:
+        from . import analysis_cli
+    except ImportError:
+        return
+    analysis_cli.add_commands(sub)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="tea",
+        description="Stand-life economics and carbon accounting for perennial energy crops. "
+        "Planning estimates, not financial, tax or agronomic advice.",
+    )
+    parser.add_argument("--version", action="version", version=f"tea {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
+
+    run = sub.add_parser("run", help="compute cases: terminal summary, JSON, workbook, printed summary")
+    run.add_argument("cases", nargs="+", metavar="CASE", help="case files (.toml, or a workbook written by tea)")
+    run.add_argument("--json", action="store_true", help="print machine-readable JSON instead of the summary")
+    run.add_argument("--brief", action="store_true", help="leave the yearly table out of the summary")
+    run.add_argument("--xlsx", metavar="OUT.xlsx", help="write the live-formula workbook")
+    run.add_argument("--pdf", metavar="OUT.pdf", help="write the printed summary as PDF")
+    run.add_argument("--html", metavar="OUT.html", help="write the printed summary as HTML")
+    run.add_argument("--page-size", choices=("A4", "Letter"), help="paper size (default: the case's)")
+    run.add_argument("--force", action="store_true", help="overwrite existing output files")
+    run.set_defaults(func=_cmd_run)
+
+    check = sub.add_parser("check", help="validate case files without computing them")
+    check.add_argument("cases", nargs="+", metavar="CASE")
+    check.set_defaults(func=_cmd_check)
+
+    from .case import preset_names
+
+    new = sub.add_parser("new", help="write a commented starter case")
+    new.add_argument("name", metavar="NAME", help="file to write (.toml is added if missing)")
+    new.add_argument("--crop", required=True, choices=preset_names(), help="crop preset")
+    new.add_argument("--units", default="metric", choices=("metric", "us_customary"), help="unit system of the keys")
+    new.add_argument("--currency", default="EUR", help="ISO 4217 currency code (default EUR)")
+    new.add_argument("--force", action="store_true", help="overwrite an existing file")
+    new.set_defaults(func=_cmd_new)
+
+    presets = sub.add_parser("presets", help="list the crop presets and the sources of their values")
+    presets.add_argument("-v", "--verbose", action="store_true", help="show every value with its source")
+    presets.set_defaults(func=_cmd_presets)
+
+    _add_analysis_commands(sub)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except CaseError as exc:
+        for problem in exc.problems:
+            print(f"error: {problem}", file=sys.stderr)
+        return 2
+    except (OutputError, TeaError) as exc:
+        for line in str(exc).splitlines():
+            print(f"error: {line}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("interrupted; no output file was left half-written", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+    except Exception as exc:  # a bug: one line, and the traceback only on request
+        if os.environ.get("TEA_DEBUG"):
+            raise
+        print(f"tea: internal error: {exc.__class__.__name__}: {exc} (set TEA_DEBUG=1 for details)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,304 @@
+"""The case-file schema: every key a case may hold, its unit, default, range and source.
+
+One table drives the loader's validation, the starter case written by
+``tea new``, the case-file reference in the README and the inputs sheet of the
+workbook, so the four cannot drift apart.
+
+Key templates carry their unit in slots (see :mod:`tea.units`):
+``mature_{t}_dm_per_{ha}`` accepts ``mature_t_dm_per_ha`` or
+``mature_short_ton_dm_per_acre``. Money is always in the case's one currency.
+Values are stored canonically (ha, t, kg, km, l, GJ) after loading.
+
+Default kinds
+-------------
+* a plain value: the default below, with its source;
+* ``PRESET``: the crop preset supplies it (each preset value has its source);
+* ``REQUIRED``: the case must give it;
+* ``DERIVED``: looked up from another input (e.g. SOC_ref from climate and soil);
+* ``None``: optional, absent means "not used".
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from . import units
+
+
+class _Marker:
+    def __init__(self, name: str):
+        self.name = name
+
+    def __repr__(self) -> str:
+        return self.name
+
+
+PRESET = _Marker("PRESET")
+REQUIRED = _Marker("REQUIRED")
+DERIVED = _Marker("DERIVED")
+
+CLIMATES = (
+    "boreal",
+    "cool_temperate_dry",
+    "cool_temperate_moist",
+    "warm_temperate_dry",
+    "warm_temperate_moist",
+    "tropical_dry",
+    "tropical_moist",
+    "tropical_wet",
+)
+SOILS = ("high_activity_clay", "low_activity_clay", "sandy", "spodic", "volcanic")
+LAND_USES = (
+    "cropland_full_till",
+    "cropland_reduced_till",
+    "cropland_no_till",
+    "cropland_low_input",
+    "set_aside",
+    "grassland",
+    "grassland_degraded",
+    "grassland_improved",
+    "perennial_crop",
+)
+
+
+@dataclass(frozen=True)
+class Key:
+    """One case key.
+
+    ``lo``/``hi`` bound the canonical value (an error outside); ``lo_open``/
+    ``hi_open`` make a bound exclusive. ``warn_lo``/``warn_hi`` mark legal but
+    unusual values (a warning outside).
+    """
+
+    section: str
+    template: str
+    kind: str  # float | int | str | enum | list | bool
+    default: Any
+    doc: str
+    source: str = ""
+    money: bool = False  # value is in the case's currency
+    choices: tuple[str, ...] = ()
+    lo: float | None = None
+    hi: float | None = None
+    lo_open: bool = False
+    hi_open: bool = False
+    warn_lo: float | None = None
+    warn_hi: float | None = None
+    unit: str = ""  # unit words beyond the slots, e.g. "fraction", "yr", "GJ/t DM"
+    aliases: tuple[str, ...] = field(default=())  # further accepted templates (e.g. fresh yield)
+
+    @property
+    def name(self) -> str:
+        """The canonical (metric) spelling, e.g. ``mature_t_dm_per_ha``."""
+        return units.spell(self.template)
+
+    @property
+    def path(self) -> str:
+        return f"{self.section}.{self.name}"
+
+    def unit_text(self, system: str = "metric", currency: str = "") -> str:
+        """The unit of the key as shown to people, in a unit system (e.g. ``USD/acre/yr``)."""
+        num, den = [], []
+        if self.money:
+            num.append(currency or "currency")
+        for name, exponent in units.slots_of(self.template):
+            word = units.SYSTEMS[system][name].replace("_", " ")
+            (num if exponent > 0 else den).append(word)
+        if self.unit.startswith("/"):
+            den.append(self.unit[1:])
+        elif self.unit:
+            num.append(self.unit)
+        text = " ".join(num) if num else ("1" if den else "")
+        return text + "".join("/" + d for d in den)
+
+    def spellings(self) -> dict[str, float]:
+        return units.spellings(self.template)
+
+
+def _k(section, template, kind, default, doc, **kw) -> Key:
+    return Key(section, template, kind, default, doc, **kw)
+
+
+FRACTION = dict(lo=0.0, hi=1.0, unit="fraction")
+MONEY_HA = dict(money=True, lo=0.0)
+
+KEYS: tuple[Key, ...] = (
+    # --- case --------------------------------------------------------------------
+    _k("case", "name", "str", REQUIRED, "Name of the case, shown on every output."),
+    _k("case", "notes", "str", "", "Free text shown on the outputs (e.g. who prepared it, for whom)."),
+    _k("case", "currency", "str", REQUIRED, "ISO 4217 code of the one currency all money is in (e.g. EUR, USD, GBP)."),
+    _k("case", "units", "enum", "metric", "Unit system the outputs are shown in.", choices=tuple(units.SYSTEMS)),
+    _k("case", "demo", "bool", False, "Marks the case as invented demo data; outputs then say so."),
+    _k("case", "page_size", "enum", "A4", "Paper size of the printed summary.", choices=("A4", "Letter")),
+    # --- field -------------------------------------------------------------------
+    _k("field", "name", "str", "field", "Name of the field."),
+    _k("field", "area_{ha}", "float", REQUIRED, "Area planted.", lo=0.0, lo_open=True, warn_hi=5000.0),
+    _k("field", "climate", "enum", REQUIRED, "IPCC climate zone (IPCC 2006 Vol.4 Ch.3 Fig. 3A.5.1).", choices=CLIMATES),
+    _k("field", "soil", "enum", REQUIRED, "IPCC soil class (IPCC 2006 Vol.4 Ch.3 Fig. 3A.5.3).", choices=SOILS),
+    _k("field", "current_use", "enum", "cropland_full_till",
+       "What the field is used for today (the counterfactual); sets its SOC factors.", choices=LAND_USES),
+    _k("field", "current_margin_per_{ha}", "float", 0.0,
+       "Annual gross margin the field earns today, before rent and overheads, years 1..stand life; "
+       "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)"),
+    # --- crop --------------------------------------------------------------------
+    _k("crop", "preset", "str", REQUIRED, "Crop preset (see `tea presets`): its values fill every key the case leaves out."),
+    # --- establishment (year 0) -----------------------------------------------------
+    _k("establishment", "site_preparation_per_{ha}", "float", REQUIRED, "Ploughing, cultivation, stone picking.", **MONEY_HA),
+    _k("establishment", "weed_control_per_{ha}", "float", REQUIRED, "Herbicide and its application in the planting year.", **MONEY_HA),
+    _k("establishment", "planting_units_per_{ha}", "float", PRESET,
+       "Planting material per ha: rhizomes, cuttings or kg of seed.", lo=0.0, unit="units"),
+    _k("establishment", "planting_unit_price", "float", REQUIRED, "Price of one unit of planting material.", money=True, lo=0.0, unit="/unit"),
+    _k("establishment", "planting_unit", "str", PRESET, "What one unit of planting material is (shown on outputs)."),
+    _k("establishment", "planting_operation_per_{ha}", "float", REQUIRED, "Contract planting or drilling.", **MONEY_HA),
+    _k("establishment", "fertiliser_per_{ha}", "float", REQUIRED, "Fertiliser and lime at planting.", **MONEY_HA),
+    _k("establishment", "fencing_other_per_{ha}", "float", 0.0, "Fencing (e.g. against rabbits or deer) and other one-off costs.", **MONEY_HA),
+    _k("establishment", "n_{kg}_per_{ha}", "float", 0.0, "Nitrogen applied at planting (for N2O).", lo=0.0, warn_hi=200.0),
+    _k("establishment", "failure_probability", "float", PRESET,
+       "Chance that establishment partly fails and must be gap-filled or replanted in year 1.", **FRACTION, warn_hi=0.5),
+    _k("establishment", "replant_share", "float", PRESET,
+       "Share of the planting material and planting operation re-spent when it fails.", **FRACTION),
+    _k("establishment", "grant_per_{ha}", "float", 0.0, "Establishment grant received in year 0.", **MONEY_HA),
+    # --- yield -------------------------------------------------------------------
+    _k("yield", "mature_{t}_dm_per_{ha}", "float", PRESET,
+       "Mature annual yield: dry matter standing at the autumn peak (for a coppice, wood grown per year), "
+       "before site factor and losses. Fresh input: give mature_fresh_t_per_ha and fresh_moisture instead.",
+       lo=0.0, lo_open=True, unit="/yr", aliases=("mature_fresh_{t}_per_{ha}",)),
+    _k("yield", "fresh_moisture", "float", None,
+       "Moisture content (wet basis) of a mature yield given as fresh tonnes.", lo=0.0, hi=1.0, hi_open=True, unit="fraction"),
+    _k("yield", "record_{t}_dm_per_{ha}", "float", PRESET,
+       "Highest yield recorded for the crop; a mature yield above it is warned, above twice it (or 100 t DM/ha) refused.",
+       lo=0.0, lo_open=True, unit="/yr"),
+    _k("yield", "ramp_up_fractions", "list", PRESET,
+       "Yield in years 1, 2, ... as fractions of the mature yield, until the list ends (then 1).",
+       lo=0.0, hi=1.5, unit="fraction"),
+    _k("yield", "decline_start_year", "int", 0, "Last year at full yield before a late decline; 0 means no decline.", lo=0),
+    _k("yield", "decline_per_year", "float", 0.0, "Yield lost per year after decline_start_year, compounding.", **FRACTION, warn_hi=0.2),
+    _k("yield", "site_factor", "float", 1.0, "Yield of this field relative to the crop's mature yield (marginal land < 1).",
+       lo=0.0, hi=2.0, lo_open=True, warn_hi=1.2, unit="fraction"),
+    # --- harvest -----------------------------------------------------------------
+    _k("harvest", "timing", "enum", PRESET, "When the crop is cut.", choices=("autumn", "late_winter")),
+    _k("harvest", "interval_years", "int", PRESET, "Years between harvests (1 for grasses, 2-5 for coppice).", lo=1, hi=10),
+    _k("harvest", "first_year", "int", PRESET, "Year of the first harvest; each harvest takes the growth since the last.", lo=1),
+    _k("harvest", "overwinter_dm_loss", "float", PRESET,
+       "Share of the autumn standing dry matter lost (leaves, tips) by a late-winter harvest.", **FRACTION, warn_hi=0.5),
+    _k("harvest", "field_loss", "float", PRESET, "Share of cut dry matter lost in cutting, baling or chipping.", **FRACTION, warn_hi=0.3),
+    _k("harvest", "storage_loss", "float", PRESET, "Share of harvested dry matter lost in storage.", **FRACTION, warn_hi=0.3),
+    _k("harvest", "moisture_autumn", "float", PRESET, "Moisture content (wet basis) at an autumn harvest.",
+       lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
+    _k("harvest", "moisture_late_winter", "float", PRESET, "Moisture content (wet basis) at a late-winter harvest.",
+       lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
+    # --- nutrients -----------------------------------------------------------------
+    *(
+        _k("nutrients", f"{nut}_{timing}_{{kg}}_per_{{t}}_dm", "float", PRESET,
+           f"{label} removed per t of dry matter harvested {when}.", lo=0.0, warn_hi=40.0)
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+        for timing, when in (("autumn", "in autumn"), ("late_winter", "in late winter"))
+    ),
+    *(
+        _k("nutrients", f"{nut}_replace_share", "float", PRESET,
+           f"Share of the {label} removed that is put back as fertiliser in the harvest year.",
+           lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+    ),
+    *(
+        _k("nutrients", f"{nut}_price_per_{{kg}}", "float", REQUIRED, f"Price of {label} in fertiliser.", money=True, lo=0.0)
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+    ),
+    _k("nutrients", "spreading_per_{ha}", "float", 0.0, "Cost of spreading fertiliser, in each year any is applied.", **MONEY_HA),
+    # --- annual costs ----------------------------------------------------------------
+    _k("costs", "harvest_per_{ha}", "float", REQUIRED, "Cutting, per harvest.", **MONEY_HA),
+    _k("costs", "baling_chipping_per_{t}_dm", "float", REQUIRED, "Baling or chipping, per t of dry matter harvested.", **MONEY_HA),
+    _k("costs", "haul_distance_{km}", "float", REQUIRED, "One-way distance from field to buyer.", lo=0.0, warn_hi=300.0),
+    _k("costs", "haul_per_{t}_{km}", "float", REQUIRED, "Haulage, per fresh tonne delivered and unit distance.", **MONEY_HA),
+    _k("costs", "storage_per_{t}_dm", "float", 0.0, "Storage, per t of dry matter sold.", **MONEY_HA),
+    _k("costs", "rent_per_{ha}", "float", 0.0, "Land rent (or its opportunity cost), years 1..stand life.", **MONEY_HA, unit="/yr"),
+    _k("costs", "overheads_per_{ha}", "float", 0.0, "Share of farm overheads, years 1..stand life.", **MONEY_HA, unit="/yr"),
+    _k("costs", "insurance_per_{ha}", "float", 0.0, "Crop and liability insurance, years 1..stand life.", **MONEY_HA, unit="/yr"),
+    _k("costs", "upkeep_per_{ha}", "float", 0.0, "Yearly field upkeep (weed control, inspection), years 1..stand life.", **MONEY_HA, unit="/yr"),
+    _k("costs", "removal_per_{ha}", "float", REQUIRED, "Taking the stand out and returning the field to its former use, in the last year.", **MONEY_HA),
+    # --- revenue -----------------------------------------------------------------
+    _k("revenue", "price_per_{t}_dm", "float", None, "Biomass price per t of dry matter delivered (give this or price_per_gj).",
+       money=True, lo=0.0),
+    _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True, lo=0.0),
+    _k("revenue", "heating_value_gj_per_{t}_dm", "float", PRESET, "Net heating value of the dry matter.", unit="GJ",
+       lo=0.0, lo_open=True, warn_lo=12.0, warn_hi=22.0),
+    _k("revenue", "price_change_per_year", "float", 0.0,
+       "Real change of the price per year, from year 1 (0.01 = +1 %/yr).", lo=-0.5, hi=0.5, warn_lo=-0.1, warn_hi=0.1, unit="fraction/yr"),
+    _k("revenue", "price_path", "list", None,
+       "Real price multipliers for years 1, 2, ... (the last repeats); replaces price_change_per_year.",
+       lo=0.0, hi=10.0, unit="fraction"),
+    _k("revenue", "annual_payment_per_{ha}", "float", 0.0, "Yearly payment (e.g. an agri-environment payment).", **MONEY_HA, unit="/yr"),
+    _k("revenue", "annual_payment_years", "int", 0, "Number of years from year 1 the payment is made; 0 = every year.", lo=0),
+    # --- carbon ------------------------------------------------------------------
+    _k("carbon", "soc_method", "enum", "stock_change",
+       "SOC path: IPCC Tier 1 linear stock change over the transition, or a first-order approach to the new equilibrium.",
+       choices=("stock_change", "first_order")),
+    _k("carbon", "transition_years", "int", 20, "Years to the new SOC equilibrium.", lo=1, hi=200,
+       source="IPCC 2006 Vol.4 Ch.2, default time dependence of stock change factors (D = 20 yr)"),
+    _k("carbon", "first_order_rate_per_year", "float", 0.15, "Rate constant k of the first-order option.",
+       lo=0.0, hi=5.0, lo_open=True, unit="1/yr", source="from memory: k = 3/D puts 95 % of the change within D = 20 yr"),
+    _k("carbon", "soc_ref_{t}_c_per_{ha}", "float", DERIVED, "Reference SOC stock, 0-30 cm, native vegetation.",
+       lo=0.0, lo_open=True, warn_hi=200.0, source="IPCC 2006 Vol.4 Ch.2 Table 2.3 by climate and soil"),
+    *(
+        _k("carbon", f"current_{f}", "float", DERIVED, f"{label} of the current land use.", lo=0.0, hi=3.0, lo_open=True,
+           source="IPCC 2006 Vol.4 Table 5.5 (cropland) / Table 6.2 (grassland) by current_use and climate")
+        for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
+    ),
+    *(
+        _k("carbon", f"crop_{f}", "float", PRESET, f"{label} under the stand.", lo=0.0, hi=3.0, lo_open=True)
+        for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
+    ),
+    _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
+       choices=("ipcc2006", "ipcc2019")),
+    _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),
+    _k("carbon", "diesel_kg_co2e_per_{l}", "float", DERIVED, "CO2 from burning one unit of diesel.", unit="kg CO2e", lo=0.0, warn_lo=2.0, warn_hi=3.5,
+       source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/data/ipcc.toml)"),
+    _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
+    _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),
+    _k("carbon", "diesel_{l}_per_{t}_dm", "float", PRESET, "Diesel burnt baling or chipping, per t DM harvested.", lo=0.0),
+    _k("carbon", "diesel_removal_{l}_per_{ha}", "float", PRESET, "Diesel burnt removing the stand.", lo=0.0),
+    *(
+        _k("carbon", f"{nut}_manufacture_{{kg}}_co2e_per_{{kg}}", "float", DERIVED, f"Emissions from making one unit of {label}.", unit="CO2e",
+           lo=0.0, warn_hi=15.0, source="tea/data/ipcc.toml (from memory)")
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+    ),
+    _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.", unit="CO2e",
+       lo=0.0, warn_hi=1.0, source="tea/data/ipcc.toml (from memory)"),
+    _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
+    _k("carbon", "credit_first_year", "int", 1, "First year credits are paid.", lo=0),
+    _k("carbon", "credit_buffer_share", "float", 0.2, "Share of removals held back in a non-permanence buffer.", **FRACTION,
+       source="common practice: registries hold back 10-30 % of soil-carbon removals"),
+    # --- finance -------------------------------------------------------------------
+    _k("finance", "discount_rate", "float", REQUIRED, "Discount rate, real or nominal as rate_basis says.",
+       lo=-0.5, hi=1.0, lo_open=True, warn_lo=0.0, warn_hi=0.2, unit="fraction/yr"),
+    _k("finance", "rate_basis", "enum", "real", "Whether discount_rate is real or nominal (then made real with inflation, Fisher equation).",
+       choices=("real", "nominal")),
+    _k("finance", "inflation", "float", 0.0, "General inflation per year, used when rate_basis = nominal.",
+       lo=-0.5, hi=1.0, lo_open=True, warn_lo=-0.05, warn_hi=0.15, unit="fraction/yr"),
+    _k("finance", "stand_life_years", "int", PRESET, "Years from planting to removal; the analysis horizon.", lo=2, hi=60, warn_hi=30),
+    _k("finance", "mirr_finance_rate", "float", None, "Finance rate of MIRR; the real discount rate if not given.",
+       lo=-0.5, hi=1.0, lo_open=True, unit="fraction/yr"),
+    _k("finance", "mirr_reinvest_rate", "float", None, "Reinvestment rate of MIRR; the real discount rate if not given.",
+       lo=-0.5, hi=1.0, lo_open=True, unit="fraction/yr"),
+    # --- establishment loan ------------------------------------------------------------
+    _k("loan", "share_of_establishment", "float", 0.0,
+       "Share of the year-0 establishment cost borrowed; 0 = no loan.", **FRACTION),
+    _k("loan", "rate", "float", None, "Loan interest rate per year (needed when a share is borrowed).",
+       lo=0.0, hi=1.0, warn_hi=0.2, unit="fraction/yr"),
+    _k("loan", "term_years", "int", 10, "Years of repayment after the grace years.", lo=1, hi=40),
+    _k("loan", "grace_years", "int", 0, "Years 1..n during ramp-up with no principal repaid.", lo=0, hi=10),
+    _k("loan", "grace_interest", "enum", "interest_only",
+       "In the grace years, pay the interest, or add it to the loan (capitalised).",
+       choices=("interest_only", "capitalised")),
+    _k("loan", "dscr_covenant", "float", 1.25, "Lowest debt service cover ratio the lender accepts.",
+       lo=0.0, lo_open=True, hi=10.0, warn_lo=1.0, warn_hi=2.0, unit="ratio",
+       source="from memory: common lending practice asks 1.20-1.35, often 1.25"),
+)
+
+SECTIONS: tuple[str, ...] = tuple(dict.fromkeys(k.section for k in KEYS))
+BY_PATH: dict[str, Key] = {k.path: k for k in KEYS}
+
+
+def keys_in(section: str) -> list[Key]:
+    return [k for k in KEYS if k.section == section]

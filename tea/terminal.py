@@ -1,0 +1,227 @@
+"""Terminal and JSON views of a computed case. They render; they never recompute the model."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import pandas as pd
+
+from . import __version__, display
+from .case import Case, load_preset, preset_names
+from .ledger import BY_NAME, LINE_NAMES
+from .results import FIGURE_BY_NAME, Results
+from .texts import CAUTIONS
+
+
+def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
+    """One figure formatted in the case's units and currency."""
+    fig = FIGURE_BY_NAME[name]
+    value = (res.whole_field if whole else res.per_ha)[name]
+    unit = fig.unit
+    if whole and fig.scales:
+        unit = unit.replace("/ha", "")
+    price_unit = "GJ" if res.price_basis == "gj" else "t DM"
+    if name.startswith("breakeven_price") and res.price_basis == "gj":
+        unit = "money/GJ"
+    elif name.startswith("breakeven_price"):
+        unit = "money/t DM"
+    value, unit = display.convert(value, unit, case.unit_system)
+    if value is None:
+        note = res.notes.get(name, "undefined")
+        return f"– ({note})"
+    if unit.startswith("money"):
+        return display.money(value, display.unit_text(unit, case.currency, price_unit))
+    if unit == "fraction":
+        return display.percent(value)
+    if unit == "ratio":
+        return f"{value:.2f}"
+    if name == "years_below_covenant":
+        return f"{value:.0f}"
+    if unit == "yr":
+        return f"year {value:.0f}" if name.endswith("_year") else f"{value:.1f} years"
+    return f"{display.number(value)} {unit}"
+
+
+SUMMARY_ROWS = (
+    ("Cash", ("npv", "npv_vs_current_use", "irr", "irr_vs_current_use", "mirr", "eav", "current_margin",
+              "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year",
+              "peak_funding_need", "peak_funding_year", "establishment_cost")),
+    ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_mature_yield_t_dm_per_ha",
+                    "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
+    ("Output", ("sold_t_dm", "mean_sold_t_dm_per_year", "sold_gj")),
+    ("Carbon", ("soc_start_t_c_per_ha", "soc_end_t_c_per_ha", "soc_gain_t_c", "soc_gain_t_co2e",
+                "soc_loss_after_reversion_t_c", "ghg_emissions_t_co2e", "ghg_net_t_co2e", "ghg_net_t_co2e_per_year",
+                "ghg_net_kg_co2e_per_t_dm", "ghg_net_kg_co2e_per_gj", "credited_t_co2e", "carbon_credit_pv")),
+    ("Loan", ("loan_principal", "loan_payment", "loan_interest_total", "min_dscr", "min_dscr_year", "dscr_covenant",
+              "years_below_covenant", "equity_peak_funding_need")),
+)
+
+LABELS = {
+    "npv": "NPV",
+    "npv_vs_current_use": "NPV vs current use",
+    "irr": "IRR",
+    "irr_vs_current_use": "IRR vs current use",
+    "mirr": "MIRR",
+    "eav": "Equivalent annual value",
+    "current_margin": "Current use margin",
+    "eav_vs_current_use": "EAV vs current use",
+    "payback_year": "Payback",
+    "payback_years": "Payback (interpolated)",
+    "discounted_payback_year": "Discounted payback",
+    "peak_funding_need": "Peak funding need",
+    "peak_funding_year": "Peak funding in",
+    "establishment_cost": "Establishment cost",
+    "breakeven_price": "Break-even price",
+    "breakeven_price_vs_current_use": "Break-even price vs current use",
+    "breakeven_mature_yield_t_dm_per_ha": "Break-even mature yield",
+    "breakeven_mature_yield_vs_current_use_t_dm_per_ha": "Break-even yield vs current use",
+    "sold_t_dm": "Dry matter sold (life)",
+    "mean_sold_t_dm_per_year": "Dry matter sold per year",
+    "sold_gj": "Energy sold (life)",
+    "soc_start_t_c_per_ha": "SOC at planting",
+    "soc_end_t_c_per_ha": "SOC at removal",
+    "soc_gain_t_c": "SOC gain",
+    "soc_gain_t_co2e": "SOC gain as CO2",
+    "soc_loss_after_reversion_t_c": "SOC lost after reversion",
+    "ghg_emissions_t_co2e": "GHG emissions (life)",
+    "ghg_net_t_co2e": "Net GHG balance (life)",
+    "ghg_net_t_co2e_per_year": "Net GHG per year",
+    "ghg_net_kg_co2e_per_t_dm": "Net GHG per t DM",
+    "ghg_net_kg_co2e_per_gj": "Net GHG per GJ",
+    "credited_t_co2e": "Carbon credited (life)",
+    "carbon_credit_pv": "Carbon credits, present value",
+    "loan_principal": "Establishment loan",
+    "loan_payment": "Yearly loan payment",
+    "loan_interest_total": "Interest over the loan",
+    "min_dscr": "Lowest DSCR",
+    "min_dscr_year": "Lowest DSCR in",
+    "dscr_covenant": "DSCR covenant",
+    "years_below_covenant": "Years below covenant",
+    "equity_peak_funding_need": "Peak own funding after loan",
+}
+
+TABLE = (
+    ("year", "year", "yr"),
+    ("harvested_t_dm", "harvest DM", "t DM/ha"),
+    ("sold_t_dm", "sold DM", "t DM/ha"),
+    ("total_revenue", "revenue", "money/ha"),
+    ("total_cost", "costs", "money/ha"),
+    ("net_cash_flow", "net cash", "money/ha"),
+    ("cumulative_cash_flow", "cumulative", "money/ha"),
+    ("cumulative_discounted_cash_flow", "cum. disc.", "money/ha"),
+    ("soc_t_c", "SOC", "t C/ha"),
+    ("ghg_net_t_co2e", "net GHG", "t CO2e/ha"),
+)
+
+
+def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = True) -> str:
+    """The readable terminal summary: the decision figures, then the yearly table."""
+    system = case.unit_system
+    area, area_unit = display.area(case.area_ha, system)
+    per = "acre" if system == "us_customary" else "ha"
+    out = []
+    head = f"{case.name}"
+    if case["case.demo"]:
+        head += "   [DEMO DATA]"
+    out.append(head)
+    out.append("=" * len(head))
+    out.append(f"{case['field.name']}: {display.number(area)} {area_unit}, {case.preset.title}")
+    rate = f"{display.percent(res.discount_rate_real, 2)} real"
+    if res.rate_basis == "nominal":
+        rate += f" (from {display.percent(res.discount_rate_given, 2)} nominal, {display.percent(res.inflation, 2)} inflation, Fisher)"
+    out.append(f"Stand life {case.stand_life} years; discount rate {rate}; money in {case.currency}; case hash {case.hash}")
+    out.append("")
+    out.append(decision_sentence(case, res))
+    out.append("")
+    width = max(len(v) for v in LABELS.values()) + 2
+    for title, names in SUMMARY_ROWS:
+        if title == "Loan" and not res["loan_principal"]:
+            continue
+        out.append(f"{title} (per {per} | whole field)")
+        for name in names:
+            per_ha = _fig(res, case, name)
+            whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
+            out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
+        out.append("")
+    if yearly:
+        out.append(f"Yearly ledger (per {per}; {case.currency}; `tea run --json` gives every line)")
+        out.append(yearly_table(case, frame))
+        out.append("")
+    for w in case.warnings:
+        out.append(f"warning: {w}")
+    out.append("Cautions:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out)
+
+
+def decision_sentence(case: Case, res: Results) -> str:
+    """The decision in one plain sentence, with the numbers."""
+    per = "acre" if case.unit_system == "us_customary" else "ha"
+    diff, _ = display.convert(res["eav_vs_current_use"], "money/ha", case.unit_system)
+    word = "more" if diff >= 0 else "less"
+    rate = display.percent(res.discount_rate_real, 1)
+    text = (f"Over {case.stand_life} years at {rate} (real), the stand earns "
+            f"{display.money(abs(diff), case.currency)} per {per} per year {word} than the field's current use")
+    pay = res["payback_year"]
+    text += f", and its cash flow pays back in year {pay:.0f}." if pay is not None else \
+        ", and its cash flow does not pay back within the stand life."
+    return text
+
+
+def yearly_table(case: Case, frame: pd.DataFrame) -> str:
+    system = case.unit_system
+    cols, heads = [], []
+    for name, head, unit in TABLE:
+        vals = []
+        for v in frame[name].tolist():
+            conv, shown = display.convert(v, unit, system)
+            if name == "year":
+                vals.append(f"{int(v)}")
+            elif unit.startswith("money"):
+                vals.append(display.money(conv, digits=0))
+            else:
+                vals.append(f"{conv:,.2f}")
+        cols.append(vals)
+        heads.append(head)
+    widths = [max(len(h), *(len(v) for v in col)) for h, col in zip(heads, cols)]
+    lines = ["  ".join(h.rjust(w) for h, w in zip(heads, widths))]
+    lines += ["  ".join(col[i].rjust(w) for col, w in zip(cols, widths)) for i in range(len(frame))]
+    return "\n".join(lines)
+
+
+def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any]:
+    """Everything a program needs: figures, discount rate, the whole ledger, version, hash, cautions."""
+    payload = res.to_dict()
+    payload["tool_version"] = __version__
+    payload["demo_data"] = bool(case["case.demo"])
+    payload["unit_system"] = case.unit_system
+    payload["ledger"] = {
+        "per": "ha",
+        "years": [int(y) for y in frame["year"]],
+        "units": {name: BY_NAME[name].unit for name in LINE_NAMES},
+        "lines": {name: [_json_number(v) for v in frame[name]] for name in LINE_NAMES if name != "year"},
+    }
+    payload["inputs"] = {path: value for path, value in sorted(case.values.items())}
+    return payload
+
+
+def _json_number(v: float) -> float | None:
+    """A float for JSON; NaN (e.g. DSCR in a year without debt service) becomes null."""
+    v = float(v)
+    return v if v == v and abs(v) != float("inf") else None
+
+
+def presets_text(verbose: bool = False) -> str:
+    out = []
+    for name in preset_names():
+        p = load_preset(name)
+        out.append(f"{name}: {p.title}")
+        if verbose:
+            for path, value in p.values.items():
+                out.append(f"    {path} = {value!r}    # {p.sources[path]}")
+        else:
+            sources = sorted({s.split(":")[0].split(",")[0] for s in p.sources.values()})
+            out.append("    sources: " + "; ".join(sources))
+    out.append("")
+    out.append("`tea presets -v` lists every value with its source; a case overrides any of them.")
+    return "\n".join(out)

@@ -1,0 +1,13 @@
+"""Fixed texts every output carries: the cautions."""
+
+from __future__ import annotations
+
+CAUTIONS: tuple[str, ...] = (
+    "Planning estimates only: these figures are not financial, tax or agronomic advice.",
+    "Planting a non-native perennial grass may be regulated (invasive-species and planting rules); "
+    "check local rules before planting.",
+    "Carbon credits depend on the rules of the buyer or registry (eligibility, baselines, permanence, "
+    "verification); the credit figures here are indicative only.",
+    "Defer to local regulation and to licensed professionals (agronomist, accountant, lender, "
+    "carbon-registry verifier) before acting.",
+)

@@ -1,0 +1,119 @@
+"""Units of measure: the exact definitions `tea` converts with, and key spellings.
+
+Canonical internal units are ha, t (tonne, 1000 kg), kg, km, litre, GJ and the
+case's one currency. A case key carries its unit in its name, written with
+*slots*: ``mature_{t}_dm_per_{ha}`` is spelled ``mature_t_dm_per_ha`` in metric
+units or ``mature_short_ton_dm_per_acre`` in US customary units (any mix of the
+two is accepted). A slot before the first ``_per_`` is a numerator, after it a
+denominator, which fixes the conversion factor.
+
+References
+----------
+.. [1] NIST Handbook 44 (2024), Appendix C, "General Tables of Units of
+   Measurement": 1 acre = 4046.8564224 m² (international foot basis), 1 short
+   ton = 2000 lb, 1 lb = 0.45359237 kg, 1 mile = 1.609344 km, 1 US gallon =
+   231 in³ = 3.785411784 L.
+"""
+
+from __future__ import annotations
+
+import itertools
+import re
+
+#: exact legal definitions [canonical unit per unit]
+HA_PER_ACRE = 0.40468564224
+T_PER_SHORT_TON = 0.90718474
+KG_PER_LB = 0.45359237
+KM_PER_MILE = 1.609344
+L_PER_US_GALLON = 3.785411784
+#: 1 kg m⁻² = 1000 kg / 1000 m² ... i.e. 10 t ha⁻¹ (10,000 m² per ha, 1,000 kg per t)
+T_PER_HA_PER_KG_PER_M2 = 10.0
+
+#: slot -> {spelling: size in canonical units}; the first spelling is canonical
+SLOTS: dict[str, dict[str, float]] = {
+    "ha": {"ha": 1.0, "acre": HA_PER_ACRE},
+    "t": {"t": 1.0, "short_ton": T_PER_SHORT_TON},
+    "kg": {"kg": 1.0, "lb": KG_PER_LB},
+    "km": {"km": 1.0, "mile": KM_PER_MILE},
+    "l": {"l": 1.0, "gal": L_PER_US_GALLON},
+}
+
+#: the spelling of each slot in each unit system a case may choose for display
+SYSTEMS: dict[str, dict[str, str]] = {
+    "metric": {"ha": "ha", "t": "t", "kg": "kg", "km": "km", "l": "l"},
+    "us_customary": {"ha": "acre", "t": "short_ton", "kg": "lb", "km": "mile", "l": "gal"},
+}
+
+_SLOT_RE = re.compile(r"\{(\w+)\}")
+
+
+def slots_of(template: str) -> list[tuple[str, int]]:
+    """The slots of a key template with their exponent (+1 numerator, -1 denominator).
+
+    >>> slots_of("haul_per_{t}_{km}")
+    [('t', -1), ('km', -1)]
+    >>> slots_of("n_autumn_{kg}_per_{t}_dm")
+    [('kg', 1), ('t', -1)]
+    """
+    per = template.find("_per_")
+    out = []
+    for m in _SLOT_RE.finditer(template):
+        exponent = -1 if (per >= 0 and m.start() > per) else 1
+        out.append((m.group(1), exponent))
+    return out
+
+
+def spell(template: str, system: str | dict[str, str] = "metric") -> str:
+    """A key template spelled in one unit system.
+
+    >>> spell("mature_{t}_dm_per_{ha}", "us_customary")
+    'mature_short_ton_dm_per_acre'
+    """
+    choice = SYSTEMS[system] if isinstance(system, str) else system
+    return _SLOT_RE.sub(lambda m: choice[m.group(1)], template)
+
+
+def spellings(template: str) -> dict[str, float]:
+    """Every accepted spelling of a key template -> factor to canonical units.
+
+    The value given under a spelling is multiplied by the factor to give the
+    canonical value.
+
+    >>> round(spellings("area_{ha}")["area_acre"], 11)
+    0.40468564224
+    >>> round(spellings("rent_per_{ha}")["rent_per_acre"], 6)
+    2.471054
+    """
+    names = [s for s, _ in slots_of(template)]
+    exps = [e for _, e in slots_of(template)]
+    out: dict[str, float] = {}
+    for combo in itertools.product(*(list(SLOTS[n].items()) for n in names)):
+        choice = dict(zip(names, (spelling for spelling, _ in combo)))
+        factor = 1.0
+        for (_, size), e in zip(combo, exps):
+            factor *= size**e
+        out[spell(template, choice)] = factor
+    if not names:
+        out[template] = 1.0
+    return out
+
+
+def display_factor(template: str, system: str) -> float:
+    """Factor turning a canonical value into the value shown in ``system``.
+
+    >>> round(display_factor("yield_{t}_dm_per_{ha}", "us_customary"), 6)
+    0.44609
+    """
+    return 1.0 / spellings(template)[spell(template, system)]
+
+
+def unit_label(template: str, system: str) -> str:
+    """A short human unit label for a template's slots, e.g. ``short ton/acre``."""
+    num, den = [], []
+    for name, e in slots_of(template):
+        word = SYSTEMS[system][name].replace("_", " ")
+        (num if e > 0 else den).append(word)
+    text = " ".join(num) if num else ""
+    if den:
+        text = (text or "1") + "/" + "/".join(den)
+    return text
