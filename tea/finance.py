@@ -36,9 +36,13 @@ in the flows (zeros ignored) or less than that by an even number. Hence:
   when exactly one lies in (-1, inf).
 
 Where the IRR is undefined, ``irr`` returns NaN and ``irr_explained`` says why;
-``mirr`` is defined for any flows with both signs. A repeated root (NPV
-touching zero without changing sign) counts twice, so it is never reported
-as a unique IRR.
+``mirr`` is defined for any flows with both signs. Roots are counted with
+multiplicity, so a rate at which NPV only touches zero without changing sign
+(a double root) is never reported as a unique IRR. An eigenvalue whose
+imaginary part is below 1e-7 of its modulus counts as real: in double
+precision such a pair cannot be told apart from a double root. The count is
+reliable while the flows of a row span less than about ten orders of
+magnitude; beyond that, companion-matrix eigenvalues lose the small roots.
 
 These are planning estimates, not financial, tax or investment advice.
 
@@ -98,7 +102,7 @@ __all__ = [
 # the rate is then accurate to about 1e-13 * (1 + r).
 _STEP_RTOL = 1e-13
 # Newton steps taken by every row before the convergence mask is looked at.
-_NEWTON_STEPS = 5
+_NEWTON_STEPS = 6
 # Further safeguarded Newton steps for the rows not yet converged.
 _EXTRA_NEWTON_STEPS = 12
 # Geometric bisection steps for the (rare) rows still not converged: enough to
@@ -106,6 +110,8 @@ _EXTRA_NEWTON_STEPS = 12
 _BISECTION_STEPS = 64
 # Rows solved together: keeps the working vectors in the processor cache.
 _CHUNK_ROWS = 32768
+# Rows per block when transposing (cases, years) to (years, cases).
+_TRANSPOSE_ROWS = 512
 # An eigenvalue whose imaginary part is below this fraction of its modulus is
 # taken as real: in double precision such a pair cannot be told apart from a
 # repeated real root.
@@ -260,25 +266,30 @@ def npv(rate, flows):
 # ---------------------------------------------------------------------------
 # sign changes
 # ---------------------------------------------------------------------------
-def _sign_structure(f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Sign changes per row (zeros ignored) and whether the first nonzero is < 0."""
-    neg = f < 0
-    nonzero = f != 0
-    if nonzero.all():
-        changes = np.count_nonzero(neg[:, 1:] != neg[:, :-1], axis=1)
-        return changes, neg[:, 0].copy()
-    # Carry the last nonzero sign forward over zeros, then count changes between
-    # a filled position and the one before it (only once a nonzero has occurred).
-    years = f.shape[1]
-    last = np.where(nonzero, np.arange(years), -1)
-    np.maximum.accumulate(last, axis=1, out=last)
-    filled = np.take_along_axis(neg, np.maximum(last, 0), axis=1)
-    changes = np.count_nonzero(
-        (filled[:, 1:] != filled[:, :-1]) & (last[:, :-1] >= 0), axis=1
-    )
-    first = np.argmax(nonzero, axis=1)
-    first_negative = np.take_along_axis(neg, first[:, np.newaxis], axis=1)[:, 0]
-    return changes, first_negative
+def _transpose(f: np.ndarray) -> np.ndarray:
+    """(cases, years) -> C-contiguous (years, cases), copied in cache-sized blocks."""
+    rows, years = f.shape
+    t = np.empty((years, rows))
+    for start in range(0, rows, _TRANSPOSE_ROWS):
+        t[:, start : start + _TRANSPOSE_ROWS] = f[start : start + _TRANSPOSE_ROWS].T
+    return t
+
+
+def _sign_structure(t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per column of t (years, cases): sign changes (zeros ignored), first nonzero < 0."""
+    neg = t < 0
+    if t.all():  # no zeros
+        return np.count_nonzero(neg[1:] != neg[:-1], axis=0), neg[0].copy()
+    years, m = t.shape
+    changes = np.zeros(m, dtype=np.int64)
+    last = np.zeros(m)  # sign of the last nonzero flow so far; 0 before the first
+    first = np.zeros(m)
+    for k in range(years):
+        s = np.sign(t[k])
+        changes += (s * last) < 0
+        np.copyto(last, s, where=s != 0)
+        np.copyto(first, s, where=first == 0)
+    return changes, first < 0
 
 
 def sign_changes(flows):
@@ -315,7 +326,7 @@ def sign_changes(flows):
     if f.shape[1] == 0:
         counts = np.zeros(f.shape[0], dtype=np.int64)
     else:
-        counts = _sign_structure(f)[0].astype(np.int64)
+        counts = _sign_structure(_transpose(f))[0].astype(np.int64)
     return int(counts[0]) if one else counts
 
 
@@ -336,32 +347,33 @@ def _horner(g: np.ndarray, z: np.ndarray, p: np.ndarray, d: np.ndarray | None) -
         np.add(p, g[k], out=p)
 
 
-def _newton(g, z, lo, hi, dz, dzold, steps):
-    """Safeguarded Newton steps on c(z), c < 0 below the root and > 0 above.
+def _newton(g, z, lo, hi, steps):
+    """Safeguarded Newton steps on c(z), c < 0 below the root and c > 0 above.
 
-    Updates, in place, the iterate ``z``, the sign bracket ``lo`` (c < 0) and
-    ``hi`` (c > 0), the last step ``dz`` and the one before, ``dzold``. A
-    Newton step is replaced by bisection of the bracket when it would leave
-    the bracket, when the derivative is not positive, or when it is not at
-    least half the step before last (the rule of ``rtsafe`` [5]_). A row stops
-    moving once a step is within ``_STEP_RTOL * z``.
+    ``lo`` and ``hi`` (updated in place) bracket the root. A Newton step that
+    would leave the bracket (which includes a non-positive derivative, since
+    the iterate is always one end of it) is replaced by bisection [5]_.
+    Returns the final iterate and the size of the last step.
     """
     p = np.empty_like(z)
     d = np.empty_like(z)
+    new = np.empty_like(z)
+    off = np.empty(z.shape, dtype=bool)
     for _ in range(steps):
-        done = dz <= _STEP_RTOL * z
         _horner(g, z, p, d)
         below = p < 0
         np.copyto(lo, z, where=below)
-        np.copyto(hi, z, where=~below)
-        step = p / d
-        new = z - step
-        newton = (new >= lo) & (new <= hi) & (new > 0) & (d > 0) & (2.0 * np.abs(step) <= dzold)
-        new = np.where(newton, new, 0.5 * (lo + hi))
-        new = np.where(done | (p == 0), z, new)
-        dzold[...] = np.where(done, dzold, dz)
-        dz[...] = np.where(done, dz, np.abs(new - z))
-        z[...] = new
+        np.logical_not(below, out=below)
+        np.copyto(hi, z, where=below)
+        np.divide(p, d, out=p)
+        np.subtract(z, p, out=new)
+        np.less(new, lo, out=off)
+        off |= ~(new <= hi)
+        np.add(lo, hi, out=p)
+        p *= 0.5
+        np.copyto(new, p, where=off)
+        z, new = new, z
+    return z, np.abs(z - new)
 
 
 def _geometric_bisection(g, lo, hi, steps):
@@ -379,15 +391,26 @@ def _geometric_bisection(g, lo, hi, steps):
 
 
 def _solve_unit(g: np.ndarray) -> np.ndarray:
-    """Root in (0, 1] of each column polynomial of g (shape (years, cases)).
+    """Root in (0, 1) of each column polynomial of g (shape (years, cases)).
 
-    Each column k-th entry is the coefficient of z**k, scaled so that the
-    largest is 1 in magnitude, signed so that c(0+) < 0 and c(1) > 0, with
+    Entry ``g[k, j]`` is the coefficient of z**k of case j, scaled so that
+    the largest is 1 in magnitude and signed so that c(0+) < 0 < c(1), with
     exactly one root in (0, 1).
     """
     years, m = g.shape
+    # Lower end of the bracket: a root of sum_k g_k z^k whose first nonzero
+    # coefficient is g_j is at least |g_j| / (|g_j| + max|g_k|) (Cauchy's
+    # bound on the reversed polynomial), with max|g_k| = 1 after scaling;
+    # half of it is below the root, where c < 0.
+    lead = np.abs(g[0])
+    none = np.flatnonzero(lead == 0)
+    if none.size:
+        gz = g[:, none]
+        lead[none] = np.abs(gz[np.argmax(gz != 0, axis=0), np.arange(none.size)])
+    lo = 0.5 * lead / (lead + 1.0)
+    hi = np.ones(m)
     # Start: lump the costs and the receipts into one flow each, at their
-    # undiscounted mean times; the two-flow equation has a closed-form root.
+    # undiscounted mean times; that two-flow equation has a closed-form root.
     weights = np.vstack([np.ones(years), np.arange(years, dtype=float)])
     positive = weights @ np.maximum(g, 0.0)
     total = weights @ g
@@ -396,29 +419,19 @@ def _solve_unit(g: np.ndarray) -> np.ndarray:
     with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
         span = receipt_time / receipts - cost_time / costs
         z = np.exp(np.log(-costs / receipts) / span)
-    z[~((z > 0) & (z < 1))] = 0.5
+    np.copyto(z, 0.5, where=~((z > lo) & (z < 1.0)))
 
-    lo = np.zeros(m)
-    hi = np.ones(m)
-    dz = np.ones(m)
-    dzold = np.ones(m)
-    _newton(g, z, lo, hi, dz, dzold, _NEWTON_STEPS)
+    z, dz = _newton(g, z, lo, hi, _NEWTON_STEPS)
     todo = np.flatnonzero(~(dz <= _STEP_RTOL * z))
     if todo.size:
         gs = np.ascontiguousarray(g[:, todo])
-        zs, los, his, dzs, dzolds = z[todo], lo[todo], hi[todo], dz[todo], dzold[todo]
-        _newton(gs, zs, los, his, dzs, dzolds, _EXTRA_NEWTON_STEPS)
+        los, his = lo[todo], hi[todo]
+        zs, dzs = _newton(gs, z[todo], los, his, _EXTRA_NEWTON_STEPS)
         z[todo] = zs
-        left = ~(dzs <= _STEP_RTOL * zs)
-        if left.any():
-            # A root of sum_k g_k z^k with g_j its first nonzero coefficient is
-            # at least |g_j| / (|g_j| + max|g_k|) (Cauchy's bound on the
-            # reciprocal polynomial); max|g_k| = 1 after scaling.
-            gl = gs[:, left]
-            first = np.argmax(gl != 0, axis=0)
-            lead = np.abs(gl[first, np.arange(gl.shape[1])])
-            lower = np.maximum(los[left], 0.5 * lead / (lead + 1.0))
-            z[todo[left]] = _geometric_bisection(gl, lower, his[left].copy(), _BISECTION_STEPS)
+        left = np.flatnonzero(~(dzs <= _STEP_RTOL * zs))
+        if left.size:
+            gl = np.ascontiguousarray(gs[:, left])
+            z[todo[left]] = _geometric_bisection(gl, los[left], his[left], _BISECTION_STEPS)
     return z
 
 
@@ -516,38 +529,42 @@ def _irr_block(f: np.ndarray) -> np.ndarray:
     out = np.full(rows, np.nan)
     if years < 2 or rows == 0:
         return out
-    top = f.max(axis=1)
-    bottom = f.min(axis=1)
-    # max/min propagate NaN; +-inf show up as non-finite extremes.
-    ok = np.isfinite(top) & np.isfinite(bottom) & (top > 0) & (bottom < 0)
-    if not ok.any():
-        return out
-    changes, first_negative = _sign_structure(f)
-    solve = ok & (changes == 1)
-    odd = ok & (changes >= 3) & (changes % 2 == 1)
+    t = _transpose(f)
+    total = t.sum(axis=0)  # NPV at r = 0; NaN or inf in a row make it non-finite
+    changes, first_negative = _sign_structure(t)
+    finite = np.isfinite(total)
+    if not finite.all():
+        bad = np.flatnonzero(~finite)
+        tb = t[:, bad]
+        big = np.isfinite(tb).all(axis=0)  # finite flows whose sum overflowed
+        if big.any():
+            tb = tb[:, big]
+            total[bad[big]] = (tb / np.abs(tb).max(axis=0)).sum(axis=0)
+            finite[bad[big]] = True
+    solve = finite & (changes == 1)
+    odd = finite & (changes >= 3) & (changes % 2 == 1)
     if odd.any():
         idx = np.flatnonzero(odd)
         solve[idx[_unique_by_eigenvalues(f[idx])]] = True
-    idx = np.flatnonzero(solve)
-    if idx.size == 0:
+    sign = np.where(first_negative, 1.0, -1.0)
+    # Signed so that the costs come first: NPV(0) > 0 means r > 0.
+    at_zero = total * sign
+    forward = np.flatnonzero(solve & (at_zero > 0))
+    # For r < 0 the root is solved in y = 1 + r in (0, 1): coefficients reversed.
+    backward = np.flatnonzero(solve & (at_zero < 0))
+    out[solve & (at_zero == 0)] = 0.0
+    nf = forward.size
+    if nf + backward.size == 0:
         return out
-    fs = f if idx.size == rows else f[idx]
-    sign = np.where(first_negative[idx], 1.0, -1.0)
-    # NPV at r = 0, signed so that the costs come first: > 0 means r > 0.
-    at_zero = fs.sum(axis=1) * sign
-    reverse = at_zero < 0
-    scale = sign / np.maximum(top[idx], -bottom[idx])
-    scale[reverse] = -scale[reverse]
-    if reverse.any():
-        # For r < 0 solve in y = 1 + r in (0, 1): coefficients in reverse order.
-        fs = np.where(reverse[:, np.newaxis], fs[:, ::-1], fs)
-    g = np.empty((years, idx.size))
-    np.multiply(fs.T, scale, out=g)
+    g = np.empty((years, nf + backward.size))
+    g[:, :nf] = t[:, forward]
+    g[:, nf:] = t[::-1, backward]
+    signs = np.concatenate([sign[forward], -sign[backward]])
+    g *= signs / np.maximum(g.max(axis=0), -g.min(axis=0))
     z = _solve_unit(g)
     with np.errstate(divide="ignore", over="ignore"):
-        rate = np.where(reverse, z - 1.0, (1.0 - z) / z)
-    rate[at_zero == 0] = 0.0
-    out[idx] = rate
+        out[forward] = (1.0 - z[:nf]) / z[:nf]
+    out[backward] = z[nf:] - 1.0
     return out
 
 
@@ -630,54 +647,46 @@ def irr(flows):
 # ---------------------------------------------------------------------------
 def _solve_unit_scalar(c: list[float]) -> float:
     """Pure-Python twin of ``_solve_unit`` for one coefficient list."""
-    n = len(c)
+    top = len(c) - 1
+    lead = 0.0
     receipts = receipt_time = costs = cost_time = 0.0
     for k, v in enumerate(c):
-        if v > 0:
+        if v > 0.0:
             receipts += v
             receipt_time += k * v
         else:
             costs += v
             cost_time += k * v
+        if lead == 0.0 and v != 0.0:
+            lead = -v if v < 0.0 else v
+    lo, hi = 0.5 * lead / (lead + 1.0), 1.0
     z = 0.5
     try:
-        span = receipt_time / receipts - cost_time / costs
-        guess = math.exp(math.log(-costs / receipts) / span)
-        if 0.0 < guess < 1.0:
+        guess = math.exp(math.log(-costs / receipts) / (receipt_time / receipts - cost_time / costs))
+        if lo < guess < 1.0:
             z = guess
     except (ZeroDivisionError, ValueError, OverflowError):
         pass
-    lo, hi = 0.0, 1.0
-    top = n - 1
     last = c[top]
-    dz = dzold = 1.0
     for _ in range(_NEWTON_STEPS + _EXTRA_NEWTON_STEPS):
         p = last
         d = 0.0
         for k in range(top - 1, -1, -1):
             d = d * z + p
             p = p * z + c[k]
-        if p == 0.0:
-            return z
         if p < 0.0:
             lo = z
         else:
             hi = z
-        new = -1.0
-        if d > 0.0:
-            step = p / d
-            if 2.0 * abs(step) <= dzold:
-                new = z - step
-        if not (lo <= new <= hi and new > 0.0):
+        try:
+            new = z - p / d
+        except ZeroDivisionError:
+            new = math.nan
+        if not lo <= new <= hi:
             new = 0.5 * (lo + hi)
-        dzold = dz
-        dz = abs(new - z)
+        if abs(new - z) <= _STEP_RTOL * new:
+            return new
         z = new
-        if dz <= _STEP_RTOL * z:
-            return z
-    first = next(k for k, v in enumerate(c) if v != 0.0)
-    lead = abs(c[first])
-    lo = max(lo, 0.5 * lead / (lead + 1.0))
     for _ in range(_BISECTION_STEPS):
         mid = math.sqrt(lo * hi)
         p = last
@@ -832,10 +841,15 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
         rates = sorted(float(r) for r in 1.0 / roots - 1.0)
     if not rates:
         return math.nan, "no rate in (-100 %, inf) makes NPV zero"
-    listed = ", ".join(_pct(r) for r in rates)
-    if len(rates) == 1:
+    # Roots that agree to 1e-6 are one repeated root split by rounding.
+    distinct = [rates[0]]
+    for r in rates[1:]:
+        if abs(r - distinct[-1]) > 1e-6 * (1.0 + abs(r)):
+            distinct.append(r)
+    listed = ", ".join(_pct(r) for r in distinct)
+    if len(distinct) == 1:
         return math.nan, f"NPV touches zero at {listed} without changing sign; see MIRR"
-    return math.nan, f"{len(rates)} rates make NPV zero ({listed}); see MIRR"
+    return math.nan, f"{len(distinct)} rates make NPV zero ({listed}); see MIRR"
 
 
 # ---------------------------------------------------------------------------
