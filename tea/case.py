@@ -29,6 +29,11 @@ from .errors import CaseError, Problem
 #: most that the maximum efficiency of solar energy conversion allows any crop
 YIELD_CEILING_T_DM_PER_HA = 100.0
 
+#: a numeric guard, not a model coefficient: no case number means anything
+#: beyond 10^12 in size (money per ha, units per ha, years), and below it every
+#: sum and product of the ledger stays far inside the float range
+MAGNITUDE_LIMIT = 1e12
+
 _CURRENCY_RE = re.compile(r"^[A-Z]{3}$")
 #: a short list of common ISO 4217 codes; another well-formed code only warns
 COMMON_CURRENCIES = frozenset(
@@ -177,6 +182,8 @@ def load_case(path: str | Path) -> Case:
     """
     path = Path(path)
     source = str(path)
+    if not path.exists():
+        raise CaseError([Problem(source, "", "file not found")])
     if path.suffix.lower() == ".xlsx":
         from .workbook import read_case_mapping  # only when a workbook is read back
 
@@ -228,12 +235,33 @@ def _scale(value: Any, factor: float) -> Any:
     return value * factor
 
 
+def _key_text(name: str) -> str:
+    """A section or key name as written in TOML: bare if it can be, else quoted with visible escapes.
+
+    Keeps each problem on one line whatever the name holds (newlines, control characters, nothing).
+    """
+    return name if re.fullmatch(r"[A-Za-z0-9_-]+", name) else json.dumps(name)
+
+
 def _suggest(word: str, candidates: Iterable[str]) -> str:
     close = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.5)
     return f"; did you mean {close[0]!r}?" if close else ""
 
 
-def _expected(k: schema.Key, system: str = "metric") -> str:
+def _suggest_key(word: str, section: str) -> str:
+    """The nearest key of a section, named in both unit systems (``area_ha`` or ``area_acre``);
+    without a near one, the keys the section takes."""
+    index = {**_spelling_index().get(section, {}), **_alias_index().get(section, {})}
+    close = difflib.get_close_matches(word, list(index), n=1, cutoff=0.5)
+    if not close:
+        return f"; [{section}] takes " + ", ".join(k.name for k in schema.keys_in(section))
+    k, _ = index[close[0]]
+    template = next((t for t in (k.template, *k.aliases) if close[0] in units.spellings(t)), k.template)
+    names = list(dict.fromkeys(units.spell(template, system) for system in units.SYSTEMS))
+    return "; did you mean " + " or ".join(repr(n) for n in names) + "?"
+
+
+def _expected(k: schema.Key, system: str = "metric", currency: str = "") -> str:
     if k.kind == "enum":
         return "one of " + ", ".join(k.choices)
     if k.kind == "bool":
@@ -241,23 +269,28 @@ def _expected(k: schema.Key, system: str = "metric") -> str:
     if k.kind == "str":
         return "a text string"
     what = {"float": "a number", "int": "a whole number", "list": "a list of numbers"}[k.kind]
-    unit = k.unit_text(system)
+    unit = k.unit_text(system, currency)
     return f"{what}" + (f" [{unit}]" if unit else "")
 
 
 def _type_error(k: schema.Key, value: Any) -> str | None:
     """Why ``value`` has the wrong type for ``k``, or None."""
     is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
+    too_big = f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {value!r}"
     if k.kind == "float":
         if not is_num:
             return f"expected {_expected(k)}, got {value!r}"
-        if not math.isfinite(value):
+        if isinstance(value, float) and not math.isfinite(value):
             return f"expected a finite number, got {value!r}"
+        if abs(value) > MAGNITUDE_LIMIT:  # exact for any int: no conversion to float
+            return too_big
     elif k.kind == "int":
         if isinstance(value, float) and value.is_integer():
-            return None
+            return too_big if abs(value) > MAGNITUDE_LIMIT else None
         if not (isinstance(value, int) and not isinstance(value, bool)):
             return f"expected a whole number, got {value!r}"
+        if abs(value) > MAGNITUDE_LIMIT:
+            return too_big
     elif k.kind in ("str", "enum"):
         if not isinstance(value, str):
             return f"expected {_expected(k)}, got {value!r}"
@@ -270,7 +303,8 @@ def _type_error(k: schema.Key, value: Any) -> str | None:
         if not isinstance(value, list) or not value:
             return f"expected a non-empty list of numbers, got {value!r}"
         for v in value:
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or \
+                    (isinstance(v, float) and not math.isfinite(v)) or abs(v) > MAGNITUDE_LIMIT:
                 return f"expected a list of finite numbers, got {value!r}"
     return None
 
@@ -311,6 +345,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     notes: dict[str, str] = {}
     spelled: dict[str, str] = {}
     factors: dict[str, float] = {}
+    rejected: dict[str, str] = {}  # key path -> spelling of a value refused (reported once, not again as missing)
+    misplaced: set[str] = set()  # key paths found in the wrong section (reported there, not again as missing)
     fresh_given = False
 
     index, aliases = _spelling_index(), _alias_index()
@@ -328,26 +364,30 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 notes[section] = "case file"
             continue
         if section not in index:
-            bad(section, "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
+            bad(_key_text(section), "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
             continue
         if not isinstance(table, Mapping):
             bad(section, f"expected a [{section}] table of keys, got {table!r}")
+            rejected.update({k.path: k.name for k in schema.keys_in(section)})
             continue
         for key, value in table.items():
-            path = f"{section}.{key}"
+            path = f"{section}.{_key_text(key)}"
             hit = index[section].get(key) or aliases.get(section, {}).get(key)
             if hit is None:
                 elsewhere = [s for s in index if key in index[s]]
-                hint = f"; it belongs in [{elsewhere[0]}]" if elsewhere else _suggest(key, list(index[section]) + list(aliases.get(section, {})))
+                hint = f"; it belongs in [{elsewhere[0]}]" if elsewhere else _suggest_key(key, section)
                 bad(path, "unknown key" + hint)
+                if elsewhere:
+                    misplaced.add(index[elsewhere[0]][key][0].path)
                 continue
             k, factor = hit
-            if k.path in values:
-                bad(path, f"given twice (also as {k.section}.{spelled[k.path]}); give it once")
+            if k.path in values or k.path in rejected:
+                bad(path, f"given twice (also as {k.section}.{spelled.get(k.path) or rejected[k.path]}); give it once")
                 continue
             why = _type_error(k, value)
             if why:
                 bad(path, why)
+                rejected[k.path] = key
                 continue
             if k.kind == "int":
                 value = int(value)
@@ -360,6 +400,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             factors[k.path] = factor
 
     system = values.get("case.units", "metric") if values.get("case.units") in units.SYSTEMS else "metric"
+    currency = values.get("case.currency") if isinstance(values.get("case.currency"), str) else ""
 
     # 2. the crop preset under the case's values
     preset = None
@@ -378,7 +419,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 notes[path] = f"preset {preset.name}: {preset.sources[path]}"
 
     # 3. fresh-weight yield to dry matter
-    if fresh_given:
+    if fresh_given and "yield.fresh_moisture" not in rejected:
         m = values.get("yield.fresh_moisture")
         if m is None:
             bad("yield.fresh_moisture", "missing value: a mature yield given as fresh tonnes needs its moisture content "
@@ -389,13 +430,15 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
 
     # 4. defaults, derived values and missing ones
     for k in schema.KEYS:
-        if k.path in values:
+        if k.path in values or k.path in rejected or k.path in misplaced:
             continue
-        if k.default is schema.REQUIRED or (k.default is schema.PRESET and preset is None and preset_name is None):
-            bad(k.path, f"missing value: expected {_expected(k, system)}")
+        if k.default is schema.REQUIRED:
+            bad(f"{k.section}.{units.spell(k.template, system)}",  # named as the case's unit system spells it
+                f"missing value: expected {_expected(k, system, currency)}")
         elif k.default is schema.PRESET:
-            if preset is not None:
-                bad(k.path, f"missing value: preset {preset.name} does not set it; expected {_expected(k, system)}")
+            if preset is not None:  # without a preset, the crop.preset problem says it all
+                bad(f"{k.section}.{units.spell(k.template, system)}",
+                    f"missing value: preset {preset.name} does not set it; expected {_expected(k, system, currency)}")
         elif k.default is schema.DERIVED:
             pass  # below, once climate and soil are known
         else:
@@ -414,6 +457,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         why = _range_error(k, v, factors.get(k.path, 1.0), system)
         if why:
             bad(spelled.get(k.path) and f"{k.section}.{spelled[k.path]}" or k.path, why)
+            rejected[k.path] = spelled.get(k.path, k.name)
             continue
         for item in v if isinstance(v, list) else [v]:
             if k.kind in ("float", "int") and (
@@ -424,7 +468,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 warnings.append(f"{source}: {k.path}: {item:g} is unusual (expected {lo}..{hi} [{k.unit_text()}]); check it")
 
     # 6. rules that tie keys together
-    _cross_checks(values, problems, warnings, source, spelled)
+    _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced)
 
     if problems:
         raise CaseError(_dedupe(problems))
@@ -498,14 +542,15 @@ def _derive(values, origin, notes, problems, source) -> None:
             problems.append(Problem(source, k.path, f"missing value: expected {_expected(k)}"))
 
 
-def _cross_checks(values, problems, warnings, source, spelled) -> None:
+def _cross_checks(values, problems, warnings, source, spelled, rejected=frozenset()) -> None:
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
 
     def warn(key: str, message: str) -> None:
         warnings.append(f"{source}: {key}: {message}")
 
-    bad_keys = {p.key for p in problems}
+    bad_keys = {p.key for p in problems} | set(rejected)
+    values = {p: v for p, v in values.items() if p not in rejected}  # a refused value ties nothing
     currency = values.get("case.currency")
     if isinstance(currency, str) and "case.currency" not in bad_keys:
         if not _CURRENCY_RE.match(currency):

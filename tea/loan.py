@@ -31,7 +31,8 @@ def level_payment(rate, n_periods, principal):
     rate = np.asarray(rate, dtype=float)
     n = np.asarray(n_periods, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        annuity = np.where(rate == 0, n, (1.0 - (1.0 + rate) ** -n) / np.where(rate == 0, 1.0, rate))
+        # 1 - (1 + r)^-n as -expm1(-n log1p(r)): exact for rates too small for 1 + r to tell from 1
+        annuity = np.where(rate == 0, n, -np.expm1(-n * np.log1p(rate)) / np.where(rate == 0, 1.0, rate))
     return principal / annuity
 
 
@@ -73,7 +74,7 @@ def schedule(principal, rate, term_years, grace_years, capitalised, n_years):
     # balance before repayment year k: B (1+r)^(k-1) - pay ((1+r)^(k-1) - 1)/r
     km1 = np.maximum(k - 1, 0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        fv_factor = np.where(r == 0, km1, (growth**km1 - 1.0) / np.where(r == 0, 1.0, r))
+        fv_factor = np.where(r == 0, km1, np.expm1(km1 * np.log1p(r)) / np.where(r == 0, 1.0, r))
     opening = B * growth**km1 - pay * fv_factor
     grace_opening = np.where(cap, P * growth ** np.maximum(t - 1, 0), P)
     interest_due = np.where(repaying, opening * r, np.where(in_grace, grace_opening * r, 0.0))

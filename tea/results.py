@@ -266,12 +266,13 @@ def _clean(v: float) -> float | None:
 
 
 def summarise(case: Case, frame: pd.DataFrame | None = None) -> Results:
-    """The decision figures of one case (``frame`` is unused beyond a check; the ledger is recomputed cheaply)."""
-    p = ledger.model_inputs(case.values)
-    p = with_case_options(case, p)
-    L = ledger.compute(p)
-    if frame is not None and len(frame) != L["net_cash_flow"].shape[1]:
-        raise ValueError("ledger does not belong to this case")
+    """The decision figures of one case, read off its ledger (built here if not given)."""
+    if frame is None:
+        frame = ledger.build_ledger(case)
+    if frame.attrs.get("case_hash") != case.hash:
+        raise ValueError("this ledger was not built from this case")
+    p = with_case_options(case, ledger.model_inputs(case.values))
+    L = {name: frame[name].to_numpy(dtype=float)[None, :] for name in ledger.LINE_NAMES}
     figs = figures(p, L)
     per_ha = {name: _clean(figs[name][0]) for name in FIGURE_NAMES}
     notes: dict[str, str] = {}

@@ -83,15 +83,22 @@ def spellings(template: str) -> dict[str, float]:
     0.40468564224
     >>> round(spellings("rent_per_{ha}")["rent_per_acre"], 6)
     2.471054
+
+    A slot that appears twice is spelled the same both times, so a ratio of
+    like units stays a pure number:
+
+    >>> spellings("n_manufacture_{kg}_co2e_per_{kg}")
+    {'n_manufacture_kg_co2e_per_kg': 1.0, 'n_manufacture_lb_co2e_per_lb': 1.0}
     """
-    names = [s for s, _ in slots_of(template)]
-    exps = [e for _, e in slots_of(template)]
+    slots = slots_of(template)
+    names = list(dict.fromkeys(n for n, _ in slots))  # each distinct slot once
     out: dict[str, float] = {}
     for combo in itertools.product(*(list(SLOTS[n].items()) for n in names)):
         choice = dict(zip(names, (spelling for spelling, _ in combo)))
+        size = dict(zip(names, (s for _, s in combo)))
         factor = 1.0
-        for (_, size), e in zip(combo, exps):
-            factor *= size**e
+        for n, e in slots:
+            factor *= size[n] ** e
         out[spell(template, choice)] = factor
     if not names:
         out[template] = 1.0
