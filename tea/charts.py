@@ -1,0 +1,397 @@
+"""Charts of the printed summary: matplotlib figures returned as inline SVG.
+
+Every chart function takes plain numbers already in the units the page shows
+(the report converts them with :func:`tea.display.convert`) and returns a
+:class:`Chart`, whose ``svg`` is markup ready to sit inside an HTML page:
+
+* no XML prolog, DOCTYPE or metadata block (nothing refers outside the page);
+* every ``id`` prefixed with the chart's own name, so several charts can share
+  one HTML document without their clip paths and glyphs colliding;
+* deterministic bytes: a fixed ``svg.hashsalt``, no date in the metadata,
+  text kept as text (``svg.fonttype = "none"``) in DejaVu Sans.
+
+Figures are built with :class:`matplotlib.figure.Figure` directly, never through
+pyplot, so no global figure state or GUI backend is involved.
+
+Text given to a chart (legend labels, axis labels) is escaped by matplotlib's
+SVG writer; a ``$`` is escaped here so that a case's name is never read as
+mathematical markup.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import os
+import re
+from dataclasses import dataclass
+from typing import Sequence
+from xml.sax.saxutils import escape as xml_escape
+
+os.environ.setdefault("MPLBACKEND", "Agg")
+
+import matplotlib  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
+from matplotlib.ticker import Formatter, MaxNLocator  # noqa: E402
+
+#: matplotlib settings every chart is drawn with (fixed, so the output is byte-stable)
+STYLE = {
+    "svg.hashsalt": "tea-report",
+    "svg.fonttype": "none",
+    "font.family": "DejaVu Sans",
+    "font.size": 6.5,
+    "axes.titlesize": 7.0,
+    "axes.labelsize": 6.5,
+    "axes.linewidth": 0.6,
+    "axes.edgecolor": "#555555",
+    "axes.labelcolor": "#333333",
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.unicode_minus": True,
+    "xtick.labelsize": 6.0,
+    "ytick.labelsize": 6.0,
+    "xtick.color": "#444444",
+    "ytick.color": "#444444",
+    "xtick.major.width": 0.5,
+    "ytick.major.width": 0.5,
+    "xtick.major.size": 2.5,
+    "ytick.major.size": 2.5,
+    "legend.fontsize": 6.0,
+    "legend.frameon": False,
+    "lines.linewidth": 1.4,
+}
+
+#: colours of the page (also used by the stylesheet): ink, gain, loss, muted, accent
+INK, GAIN, LOSS, MUTED, ACCENT = "#1f2a30", "#2e7d4f", "#b23a2a", "#8a9399", "#2b5d8a"
+#: line colours for several cases on one chart (distinguishable in grey print too, with the markers)
+SERIES = ("#2b5d8a", "#c0762a", "#2e7d4f", "#8a3f8f", "#5b6770", "#b23a2a", "#1c8c9c", "#7a6a1f")
+MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
+
+#: default size of one chart on the page [in]: a third of the printable width of A4
+WIDTH_IN, HEIGHT_IN = 2.40, 1.50
+
+
+@dataclass(frozen=True)
+class Chart:
+    """One chart ready for the page.
+
+    Attributes
+    ----------
+    name : str
+        Short identifier, also the prefix of every SVG ``id``.
+    title : str
+        Heading shown above the chart (plain text; the template escapes it).
+    svg : str
+        The SVG markup (trusted: produced by :func:`svg_of`).
+    alt : str
+        A sentence describing what the chart shows, for readers who cannot see it.
+    """
+
+    name: str
+    title: str
+    svg: str
+    alt: str
+
+
+# ----------------------------------------------------------------------------- helpers
+def plain(text: str) -> str:
+    """Text safe for a matplotlib label: ``$`` cannot start mathematical markup."""
+    return str(text).replace("$", r"\$")
+
+
+def _tick(value: float, digits: int | None = None) -> str:
+    """Number text for a chart: thousands separators, a true minus sign, no needless decimals."""
+    if digits is None:
+        a = abs(value)
+        digits = 0 if a >= 10 or float(value).is_integer() else 1 if a >= 1 else 2
+    text = f"{value:,.{digits}f}"
+    if float(text.replace(",", "")) == 0:
+        text = text.lstrip("-")
+    return text.replace("-", "\u2212")
+
+
+class _Ticks(Formatter):
+    """Tick labels with as many decimals as the tick step needs, all ticks alike."""
+
+    digits = 0
+
+    def set_locs(self, locs):
+        super().set_locs(locs)
+        steps = [abs(b - a) for a, b in zip(locs[:-1], locs[1:]) if b != a]
+        step = min(steps) if steps else 1.0
+        self.digits = max(0, -math.floor(math.log10(step) + 1e-9)) if step < 1 else 0
+
+    def __call__(self, value, pos=None):
+        return _tick(value, self.digits)
+
+
+def _new_figure(width_in: float, height_in: float) -> Figure:
+    fig = Figure(figsize=(width_in, height_in))
+    fig.patch.set_alpha(0.0)
+    return fig
+
+
+def _style_axes(ax, years: Sequence[float]) -> None:
+    ax.set_facecolor("none")
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=8))
+    ax.yaxis.set_major_formatter(_Ticks())
+    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+    if len(years):
+        ax.set_xlim(min(years) - 0.6, max(years) + 0.6)
+    ax.grid(axis="y", color="#dddddd", linewidth=0.4)
+    ax.set_axisbelow(True)
+    ax.set_xlabel("year after planting")
+
+
+_ID = re.compile(r'\bid="([^"]+)"')
+_REF = re.compile(r'(url\(#|href="#)([^)"]+)')
+
+
+def svg_of(fig: Figure, name: str) -> str:
+    """The figure as inline SVG markup with ids prefixed by ``name``.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The finished figure (drawn under :data:`STYLE`).
+    name : str
+        Prefix of every element id, unique within the HTML page (letters,
+        digits and ``-`` only).
+    """
+    if not re.fullmatch(r"[A-Za-z][A-Za-z0-9-]*", name):
+        raise ValueError(f"chart name {name!r}: expected letters, digits and '-'")
+    buf = io.StringIO()
+    with matplotlib.rc_context(STYLE):
+        fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None, "Format": None, "Type": None})
+    text = buf.getvalue()
+    text = text[text.index("<svg"):]
+    text = re.sub(r"\s*<metadata>.*?</metadata>", "", text, flags=re.S)
+    text = _ID.sub(lambda m: f'id="{name}-{m.group(1)}"', text)
+    text = _REF.sub(lambda m: f"{m.group(1)}{name}-{m.group(2)}", text)
+    text = text.replace("<svg ", f'<svg class="chart" role="img" aria-labelledby="{name}-title" ', 1)
+    return text.strip() + "\n"
+
+
+def from_figure(fig: Figure, name: str, title: str, alt: str) -> Chart:
+    """Any matplotlib figure (e.g. a sensitivity tornado) as a :class:`Chart` for the page.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The finished figure; it is scaled to the width of its place on the page.
+    name : str
+        Id prefix, unique on the page, e.g. ``"case-0-tornado"``.
+    title : str
+        Heading above the chart.
+    alt : str
+        One sentence saying what the chart shows.
+    """
+    return _finish(fig, name, title, alt)
+
+
+def _finish(fig: Figure, name: str, title: str, alt: str) -> Chart:
+    svg = svg_of(fig, name)
+    # an accessible name inside the SVG itself, escaped as matplotlib escapes its own text
+    title_xml = f'\n <title id="{name}-title">{xml_escape(alt)}</title>'
+    svg = re.sub(r"(<svg[^>]*>)", lambda m: m.group(1) + title_xml, svg, count=1)
+    return Chart(name=name, title=title, svg=svg, alt=alt)
+
+
+# ----------------------------------------------------------------------------- the charts
+def cumulative_cash(
+    years: Sequence[float],
+    cumulative: Sequence[float],
+    payback_year: float | None,
+    unit_label: str,
+    *,
+    name: str = "cash",
+    height_in: float = HEIGHT_IN,
+    width_in: float = WIDTH_IN,
+) -> Chart:
+    """Running total of the net cash flow, with the payback year marked.
+
+    Parameters
+    ----------
+    years : sequence of float
+        Year after planting [yr], 0 = planting year.
+    cumulative : sequence of float
+        Running total of the net cash flow at the end of each year [money per area unit].
+    payback_year : float or None
+        First year the running total is back to zero [yr]; None if it never is.
+    unit_label : str
+        Axis unit, e.g. ``"EUR per ha"``.
+    """
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height_in)
+        ax = fig.add_subplot()
+        y = list(cumulative)
+        ax.axhline(0.0, color="#666666", linewidth=0.6)
+        ax.fill_between(years, y, 0.0, where=[v < 0 for v in y], interpolate=True, color=LOSS, alpha=0.16, linewidth=0)
+        ax.fill_between(years, y, 0.0, where=[v >= 0 for v in y], interpolate=True, color=GAIN, alpha=0.16, linewidth=0)
+        ax.plot(years, y, color=INK, marker="o", markersize=2.0, linewidth=1.2)
+        if payback_year is not None:
+            ax.axvline(payback_year, color=ACCENT, linewidth=0.9, linestyle=(0, (3, 2)))
+            lo, hi = min(y + [0.0]), max(y + [0.0])
+            ax.annotate(f"pays back\nin year {payback_year:.0f}", xy=(payback_year, lo + 0.82 * (hi - lo)),
+                        xytext=(4, 0), textcoords="offset points", color=ACCENT, fontsize=6.0, va="center")
+        _style_axes(ax, years)
+        ax.set_ylabel(plain(unit_label))
+        fig.tight_layout(pad=0.3)
+    pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
+        "; it does not get back to zero within the stand life"
+    alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
+           f"lowest {_tick(min(y))}, last {_tick(y[-1])}{pay}.")
+    return _finish(fig, name, "Running total of cash", alt)
+
+
+def yield_by_age(
+    years: Sequence[float],
+    grown: Sequence[float],
+    sold: Sequence[float],
+    harvest: Sequence[float],
+    unit_label: str,
+    *,
+    name: str = "yield",
+    height_in: float = HEIGHT_IN,
+    width_in: float = WIDTH_IN,
+) -> Chart:
+    """Dry matter grown each year and sold in the harvest years, by stand age.
+
+    Parameters
+    ----------
+    years : sequence of float
+        Stand age [yr], 0 = planting year.
+    grown : sequence of float
+        Dry matter grown in the year [t DM per area unit, or short tons].
+    sold : sequence of float
+        Dry matter delivered and sold in the year [same unit].
+    harvest : sequence of float
+        1 in a harvest year, else 0.
+    unit_label : str
+        Axis unit, e.g. ``"t DM per ha"``.
+    """
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height_in)
+        ax = fig.add_subplot()
+        hy = [t for t, h in zip(years, harvest) if h > 0]
+        hs = [s for s, h in zip(sold, harvest) if h > 0]
+        ax.bar(hy, hs, width=0.7, color=GAIN, alpha=0.85, label="sold", linewidth=0)
+        ax.plot(years, grown, color=INK, linewidth=1.0, marker="o", markersize=1.8, label="grown that year")
+        _style_axes(ax, years)
+        top = max(list(grown) + list(sold) + [0.0])
+        ax.set_ylim(0.0, top * 1.08 if top > 0 else 1.0)
+        ax.set_ylabel(plain(unit_label))
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.2, columnspacing=0.8,
+                  borderaxespad=0.1, borderpad=0.1)
+        fig.tight_layout(pad=0.3)
+    first = f"first harvest in year {hy[0]:.0f}, {len(hy)} harvests" if hy else "no harvest within the stand life"
+    alt = (f"Dry matter grown per year and sold in harvest years [{unit_label}]: {first}, "
+           f"at most {_tick(max(hs or [0.0]))} sold in one year.")
+    return _finish(fig, name, "Yield by stand age", alt)
+
+
+def soil_carbon(
+    years: Sequence[float],
+    soc: Sequence[float],
+    soc_current_use: Sequence[float],
+    unit_label: str,
+    *,
+    name: str = "soc",
+    height_in: float = HEIGHT_IN,
+    width_in: float = WIDTH_IN,
+) -> Chart:
+    """Soil organic carbon stock under the crop against the current land use.
+
+    Parameters
+    ----------
+    years : sequence of float
+        Year after planting [yr].
+    soc : sequence of float
+        SOC stock under the crop at the end of each year [t C per area unit].
+    soc_current_use : sequence of float
+        SOC stock had the current use continued [t C per area unit].
+    unit_label : str
+        Axis unit, e.g. ``"t C per ha"``.
+    """
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height_in)
+        ax = fig.add_subplot()
+        s, c = list(soc), list(soc_current_use)
+        ax.fill_between(years, s, c, where=[a >= b for a, b in zip(s, c)], interpolate=True,
+                        color=GAIN, alpha=0.16, linewidth=0)
+        ax.fill_between(years, s, c, where=[a < b for a, b in zip(s, c)], interpolate=True,
+                        color=LOSS, alpha=0.16, linewidth=0)
+        ax.plot(years, s, color=GAIN, linewidth=1.4, label="under the crop")
+        ax.plot(years, c, color=MUTED, linewidth=1.1, linestyle=(0, (4, 2)), label="current use")
+        _style_axes(ax, years)
+        lo, hi = min(s + c), max(s + c)
+        pad = max(0.12 * (hi - lo), 0.05 * max(abs(hi), 1.0))
+        ax.set_ylim(max(0.0, lo - pad), hi + pad)
+        ax.set_ylabel(plain(unit_label))
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.6, columnspacing=0.8,
+                  borderaxespad=0.1, borderpad=0.1)
+        fig.tight_layout(pad=0.3)
+    alt = (f"Soil organic carbon [{unit_label}]: {_tick(s[0])} at planting, {_tick(s[-1])} at the end "
+           f"under the crop, {_tick(c[-1])} had the current use continued.")
+    return _finish(fig, name, "Soil carbon (0-30 cm)", alt)
+
+
+@dataclass(frozen=True)
+class Series:
+    """One case's line on the comparison chart."""
+
+    label: str
+    years: Sequence[float]
+    values: Sequence[float]
+    payback_year: float | None
+
+
+def compare_cumulative(
+    panels: Sequence[tuple[str, Sequence[Series]]],
+    *,
+    name: str = "compare",
+    width_in: float = 7.0,
+    height_in: float = 2.5,
+) -> Chart:
+    """Running total of cash for several cases, one panel per currency and unit.
+
+    Cases in different currencies or area units are never drawn on one axis:
+    no exchange rate or conversion is implied. Each line is marked with its
+    payback year.
+
+    Parameters
+    ----------
+    panels : sequence of (unit label, series)
+        One panel per unit, e.g. ``("EUR per ha", [Series(...), ...])``.
+    """
+    n = max(1, len(panels))
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height_in)
+        axes = fig.subplots(1, n, squeeze=False)[0]
+        k = 0
+        for ax, (unit_label, series) in zip(axes, panels):
+            ax.axhline(0.0, color="#666666", linewidth=0.6)
+            all_years: list[float] = []
+            for s in series:
+                colour, marker = SERIES[k % len(SERIES)], MARKERS[k % len(MARKERS)]
+                ax.plot(s.years, s.values, color=colour, marker=marker, markersize=2.4, linewidth=1.2,
+                        label=plain(s.label))
+                if s.payback_year is not None:
+                    i = list(s.years).index(s.payback_year) if s.payback_year in list(s.years) else None
+                    if i is not None:
+                        ax.plot([s.payback_year], [s.values[i]], marker=marker, markersize=6, markerfacecolor="white",
+                                markeredgecolor=colour, markeredgewidth=1.2, linestyle="none")
+                all_years.extend(s.years)
+                k += 1
+            _style_axes(ax, all_years)
+            ax.set_ylabel(plain(unit_label))
+            ax.legend(loc="upper left", fontsize=5.8, handlelength=1.8, borderaxespad=0.2)
+        fig.tight_layout(pad=0.4, w_pad=1.2)
+    names = "; ".join(f"{unit}: " + ", ".join(s.label for s in series) for unit, series in panels)
+    alt = f"Running total of cash by year for each case, large open markers at the payback year ({names})."
+    return _finish(fig, name, "Running total of cash, all cases", alt)
+
+
+def finite(values: Sequence[float]) -> list[float]:
+    """Values with NaN and infinities replaced by 0 (blank ledger cells such as DSCR)."""
+    return [float(v) if math.isfinite(float(v)) else 0.0 for v in values]
