@@ -31,18 +31,24 @@ in the flows (zeros ignored) or less than that by an even number. Hence:
 * an even number of sign changes (for instance a final-year removal cost
   that turns the last net flow negative): zero or at least two roots, never
   exactly one, so the IRR is undefined;
-* an odd number of three or more: one or at least three roots; the roots are
-  counted from the companion-matrix eigenvalues and the IRR is reported only
-  when exactly one lies in (-1, inf).
+* an odd number of three or more: one or at least three roots. They are
+  counted by Descartes' rule on intervals of (-1, inf), mapped onto
+  (0, inf) (the Vincent-Collins-Akritas test [3]_): first r > 0 and r < 0,
+  then 15 narrower intervals for rows not decided, and from companion-matrix
+  eigenvalues [4]_ for the rare rows still undecided. The IRR is reported only
+  when exactly one root lies in (-1, inf).
 
 Where the IRR is undefined, ``irr`` returns NaN and ``irr_explained`` says why;
 ``mirr`` is defined for any flows with both signs. Roots are counted with
 multiplicity, so a rate at which NPV only touches zero without changing sign
-(a double root) is never reported as a unique IRR. An eigenvalue whose
-imaginary part is below 1e-7 of its modulus counts as real: in double
-precision such a pair cannot be told apart from a double root. The count is
-reliable while the flows of a row span less than about ten orders of
-magnitude; beyond that, companion-matrix eigenvalues lose the small roots.
+(a double root) is never reported as a unique IRR. The interval test is exact
+except where a transformed coefficient is too close to zero for its sign to be
+sure, and then defers to the eigenvalues. There, an eigenvalue whose imaginary
+part is below 1e-7 of its modulus counts as real (in double precision such a
+pair cannot be told from a double root), and rows whose nonzero flows span
+more than ten orders of magnitude are reported as undefined: the eigenvalues
+are accurate relative to the largest coefficient and cannot resolve the roots
+that much smaller ones decide.
 
 These are planning estimates, not financial, tax or investment advice.
 
@@ -52,9 +58,9 @@ References
    Addison-Wesley, 2003, pp. 346-348 (NPV and IRR).
 .. [2] D. R. Curtiss, "Recent extensions of Descartes' rule of signs",
    *Annals of Mathematics* 19(4), 251-278, 1918. doi:10.2307/1967494
-.. [3] C. J. Norstrøm, "A sufficient condition for a unique nonnegative
-   internal rate of return", *Journal of Financial and Quantitative Analysis*
-   7(3), 1835-1839, 1972. doi:10.2307/2329806
+.. [3] G. E. Collins and A. G. Akritas, "Polynomial real root isolation using
+   Descartes' rule of signs", *Proc. 1976 ACM Symposium on Symbolic and
+   Algebraic Computation*, 272-275, 1976. doi:10.1145/800205.806346
 .. [4] A. Edelman and H. Murakami, "Polynomial roots from companion matrix
    eigenvalues", *Mathematics of Computation* 64(210), 763-776, 1995.
    doi:10.1090/S0025-5718-1995-1262279-2
@@ -72,6 +78,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 
@@ -102,9 +109,9 @@ __all__ = [
 # the rate is then accurate to about 1e-13 * (1 + r).
 _STEP_RTOL = 1e-13
 # Newton steps taken by every row before the convergence mask is looked at.
-_NEWTON_STEPS = 6
-# Further safeguarded Newton steps for the rows not yet converged.
-_EXTRA_NEWTON_STEPS = 12
+_NEWTON_STEPS = 4
+# Further safeguarded Newton steps, at most, for the rows not yet converged.
+_EXTRA_NEWTON_STEPS = 16
 # Geometric bisection steps for the (rare) rows still not converged: enough to
 # narrow any bracket within the float range to the float resolution.
 _BISECTION_STEPS = 64
@@ -116,6 +123,27 @@ _TRANSPOSE_ROWS = 512
 # taken as real: in double precision such a pair cannot be told apart from a
 # repeated real root.
 _REAL_ROOT_RTOL = 1e-7
+# Rows left to the eigenvalue count are counted only if their nonzero flows
+# span less than this ratio: the eigenvalues of the companion matrix are
+# accurate relative to the largest coefficient, so much smaller ones cannot be
+# resolved. (irr_explained lists roots under the same rule.)
+_COUNT_RANGE = 1e10
+# Rows whose first nonzero coefficient (in the orientation solved) is below
+# this fraction of the largest have roots outside double precision.
+_TINY_LEAD = 1e-300
+
+# Breakpoints x = 1/(1+r) of the partitions of (0, inf) on which roots are
+# counted by Descartes' rule: first split at r = 0 only, then, for rows left
+# undecided, finer (exact binary fractions; r from +300 % to -94 %).
+_COUNT_BREAKS_COARSE = (1.0,)
+_COUNT_BREAKS = (0.25, 0.5, 0.625, 0.75, 0.8125, 0.875, 0.9375, 1.0, 1.125, 1.25, 1.5, 2.0, 4.0, 16.0)
+# A transformed coefficient within this many units of rounding (n eps times
+# the sum of the magnitudes of its terms) of zero has an uncertain sign.
+_SIGN_GUARD = 64.0
+# Multiply-adds per matrix product of the root-count transform, and rows
+# handled at a time.
+_COUNT_BLOCK = 200_000
+_COUNT_ROWS = 128
 
 _WHEN = {"end": 0, "begin": 1, 0: 0, 1: 1}
 
@@ -147,13 +175,6 @@ def _rates(rate, cases: int | None, name: str = "rate") -> np.ndarray:
             f"{name} must be a scalar or shaped (cases,) = ({cases},), got shape {arr.shape}"
         )
     return arr
-
-
-def _per_case(values: np.ndarray, one: bool):
-    """Python float for a single case, else the (cases,) array."""
-    if one:
-        return float(values.reshape(-1)[0])
-    return values
 
 
 def _ufunc_like(result: np.ndarray, *args):
@@ -278,9 +299,11 @@ def _transpose(f: np.ndarray) -> np.ndarray:
 def _sign_structure(t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Per column of t (years, cases): sign changes (zeros ignored), first nonzero < 0."""
     neg = t < 0
-    if t.all():  # no zeros
-        return np.count_nonzero(neg[1:] != neg[:-1], axis=0), neg[0].copy()
     years, m = t.shape
+    if t.all():  # no zeros
+        flips = (neg[1:] != neg[:-1]).view(np.uint8)
+        counter = np.uint8 if years <= 256 else np.int64
+        return flips.sum(axis=0, dtype=counter).astype(np.int64), neg[0].copy()
     changes = np.zeros(m, dtype=np.int64)
     last = np.zeros(m)  # sign of the last nonzero flow so far; 0 before the first
     first = np.zeros(m)
@@ -380,14 +403,48 @@ def _geometric_bisection(g, lo, hi, steps):
     """Bisect on log z between lo > 0 (c < 0) and hi (c > 0); return the root."""
     p = np.empty_like(lo)
     for _ in range(steps):
-        mid = np.sqrt(lo * hi)
+        mid = np.sqrt(lo) * np.sqrt(hi)  # no underflow of lo * hi
         _horner(g, mid, p, None)
         below = p < 0
         np.copyto(lo, mid, where=below)
         np.copyto(hi, mid, where=~below)
         hi[p == 0] = mid[p == 0]
         lo[p == 0] = mid[p == 0]
-    return np.sqrt(lo * hi)
+    return np.sqrt(lo) * np.sqrt(hi)
+
+
+def _wide_matmul(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """``a @ b`` for a small ``a`` and a wide ``b``, in column blocks of ``b``.
+
+    Each block stays below the size at which BLAS libraries start threads,
+    which on a busy machine can stall for milliseconds.
+    """
+    out = np.empty((a.shape[0], b.shape[1]))
+    step = max(1, _COUNT_BLOCK // max(1, a.shape[0] * a.shape[1]))
+    for j in range(0, b.shape[1], step):
+        out[:, j : j + step] = a @ b[:, j : j + step]
+    return out
+
+
+def _start(receipts, receipt_time, receipt_time2, costs, cost_time, cost_time2, lib):
+    """Starting z from the moments of the receipts and costs among the coefficients.
+
+    With u = ln z, the present value of a group of coefficients with sum S,
+    mean time m and variance of time s2 is S z^m exp(s2 u^2 / 2) to second
+    order (its cumulant expansion). Equating receipts and costs gives
+    u = (ln(-C/R) + u^2 (s2_C - s2_R) / 2) / (m_R - m_C), solved from the
+    two-flow value u0 = ln(-C/R) / (m_R - m_C) by two fixed-point steps.
+    ``lib`` is numpy or math; the arguments may share any common factor.
+    """
+    mean_r = receipt_time / receipts
+    mean_c = cost_time / costs
+    spread = 0.5 * ((cost_time2 / costs - mean_c * mean_c) - (receipt_time2 / receipts - mean_r * mean_r))
+    span = mean_r - mean_c
+    a = lib.log(-costs / receipts)
+    u = a / span
+    u = (a + spread * u * u) / span
+    u = (a + spread * u * u) / span
+    return lib.exp(u)
 
 
 def _solve_unit(g: np.ndarray) -> np.ndarray:
@@ -402,36 +459,43 @@ def _solve_unit(g: np.ndarray) -> np.ndarray:
     # coefficient is g_j is at least |g_j| / (|g_j| + max|g_k|) (Cauchy's
     # bound on the reversed polynomial), with max|g_k| = 1 after scaling;
     # half of it is below the root, where c < 0.
-    lead = np.abs(g[0])
+    lead = g[0].copy()
     none = np.flatnonzero(lead == 0)
     if none.size:
         gz = g[:, none]
-        lead[none] = np.abs(gz[np.argmax(gz != 0, axis=0), np.arange(none.size)])
+        lead[none] = gz[np.argmax(gz != 0, axis=0), np.arange(none.size)]
+    # A first coefficient > 0 (the negative lowest-order ones underflowed in
+    # the scaling) or below _TINY_LEAD: outside double precision.
+    outside = (lead > 0) | (np.abs(lead) < _TINY_LEAD)
+    lead = np.abs(lead)
     lo = 0.5 * lead / (lead + 1.0)
     hi = np.ones(m)
-    # Start: lump the costs and the receipts into one flow each, at their
-    # undiscounted mean times; that two-flow equation has a closed-form root.
-    weights = np.vstack([np.ones(years), np.arange(years, dtype=float)])
-    positive = weights @ np.maximum(g, 0.0)
-    total = weights @ g
-    receipts, receipt_time = positive[0], positive[1]
-    costs, cost_time = total[0] - receipts, total[1] - receipt_time
+    # Start: the moments (sum, mean time, variance of time) of the receipts
+    # and of the costs among the coefficients, from sums of g and |g|.
+    t = np.arange(years, dtype=float)
+    weights = np.vstack([np.ones(years), t, t * t])
+    plain = _wide_matmul(weights, g)
+    size = _wide_matmul(weights, np.abs(g))
     with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
-        span = receipt_time / receipts - cost_time / costs
-        z = np.exp(np.log(-costs / receipts) / span)
+        receipts = 0.5 * (size + plain)
+        costs = 0.5 * (plain - size)
+        z = _start(receipts[0], receipts[1], receipts[2], costs[0], costs[1], costs[2], np)
     np.copyto(z, 0.5, where=~((z > lo) & (z < 1.0)))
 
     z, dz = _newton(g, z, lo, hi, _NEWTON_STEPS)
+    # Convergence mask: the rows not converged take further steps, one at a
+    # time, as a shrinking subset; any still left are bisected.
     todo = np.flatnonzero(~(dz <= _STEP_RTOL * z))
-    if todo.size:
-        gs = np.ascontiguousarray(g[:, todo])
+    for _ in range(_EXTRA_NEWTON_STEPS):
+        if todo.size == 0:
+            break
         los, his = lo[todo], hi[todo]
-        zs, dzs = _newton(gs, z[todo], los, his, _EXTRA_NEWTON_STEPS)
-        z[todo] = zs
-        left = np.flatnonzero(~(dzs <= _STEP_RTOL * zs))
-        if left.size:
-            gl = np.ascontiguousarray(gs[:, left])
-            z[todo[left]] = _geometric_bisection(gl, los[left], his[left], _BISECTION_STEPS)
+        zs, dzs = _newton(g[:, todo], z[todo], los, his, 1)
+        z[todo], lo[todo], hi[todo] = zs, los, his
+        todo = todo[~(dzs <= _STEP_RTOL * zs)]
+    if todo.size:
+        z[todo] = _geometric_bisection(g[:, todo], lo[todo], hi[todo], _BISECTION_STEPS)
+    z[outside] = np.nan
     return z
 
 
@@ -440,6 +504,9 @@ def _positive_roots(row: np.ndarray) -> np.ndarray | None:
     nz = np.flatnonzero(row)
     if nz.size < 2:
         return np.empty(0)
+    size = np.abs(row[nz])
+    if size.min() * _COUNT_RANGE < size.max():
+        return None
     coef = row[nz[0] : nz[-1] + 1]
     counts, roots = _count_positive_roots(coef[np.newaxis, :], keep=True)
     if counts[0] < 0:
@@ -504,6 +571,93 @@ def _count_positive_roots(coef: np.ndarray, keep: bool = False):
     return counts, kept
 
 
+@functools.lru_cache(maxsize=128)
+def _interval_maps(n: int, breaks: tuple[float, ...]) -> np.ndarray:
+    """Matrix (n, intervals * n) of the Möbius maps of a root-count partition.
+
+    The intervals of x run from 0 to inf, cut at ``breaks``. For an interval
+    (a, b), column block i holds the coefficients in u
+    of :math:`(a + b u)^t (1 + u)^{n-1-t}`, so that the row of flows times the
+    block gives :math:`q(u) = (1+u)^{n-1} p((a + b u)/(1 + u))`, whose roots
+    u > 0 are the roots of p in (a, b); for (a, inf) it is
+    :math:`q(u) = p(a + u)`. All entries are >= 0.
+    """
+    poly = np.polynomial.polynomial
+    edges = (0.0,) + breaks + (math.inf,)
+    blocks = []
+    for a, b in zip(edges[:-1], edges[1:]):
+        block = np.zeros((n, n))
+        for t in range(n):
+            if math.isinf(b):
+                coef = poly.polypow([a, 1.0], t)
+            else:
+                coef = poly.polymul(poly.polypow([a, b], t), poly.polypow([1.0, 1.0], n - 1 - t))
+            block[t, : len(coef)] = coef
+        blocks.append(block)
+    return np.concatenate(blocks, axis=1)
+
+
+def _count_by_intervals(f: np.ndarray, breaks: tuple[float, ...]) -> np.ndarray:
+    """Number of roots x > 0 of each row polynomial, or -1 where undecided.
+
+    The positive axis is cut into intervals at ``breaks``; on each,
+    the sign changes V of the Möbius-transformed coefficients bound the number
+    of roots, with the same parity (Descartes' rule of signs, as used in the
+    Vincent-Collins-Akritas method [2]_). Where every interval has V <= 1 the
+    count is exact: the sum of the V. A row is undecided where some interval
+    has V >= 2 or a transformed coefficient is too close to zero, given its
+    rounding error, for its sign to be sure.
+    """
+    rows, n = f.shape
+    maps = _interval_maps(n, breaks)
+    cols = maps.shape[1]
+    intervals = cols // n
+    guard = _SIGN_GUARD * n * np.finfo(float).eps
+    # Each matrix product is kept below the size at which BLAS libraries
+    # start threads (which stall on a busy machine).
+    sub = max(1, _COUNT_BLOCK // (n * cols))
+    count = np.empty(rows, dtype=np.int64)
+    for start in range(0, rows, _COUNT_ROWS):
+        part = f[start : start + _COUNT_ROWS]
+        part = part / np.abs(part).max(axis=1, keepdims=True)
+        size = np.abs(part)
+        m = part.shape[0]
+        coef = np.empty((m, cols))
+        bound = np.empty((m, cols))
+        for i in range(0, m, sub):
+            np.matmul(part[i : i + sub], maps, out=coef[i : i + sub])
+            np.matmul(size[i : i + sub], maps, out=bound[i : i + sub])
+        undecided = ((np.abs(coef) <= guard * bound) & (bound > 0)).any(axis=1)
+        # Exact zeros (bound 0) arise only at the ends of a coefficient row,
+        # from leading or trailing zero flows, so adjacent signs suffice.
+        sign = np.sign(coef).reshape(m * intervals, n)
+        flips = (sign[:, 1:] * sign[:, :-1]) < 0
+        changes = np.count_nonzero(flips, axis=1).reshape(m, intervals)
+        undecided |= (changes >= 2).any(axis=1)
+        got = changes.sum(axis=1)
+        got[undecided] = -1
+        count[start : start + m] = got
+    return count
+
+
+def _unique_root(f: np.ndarray) -> np.ndarray:
+    """True for rows (finite, some nonzero) with exactly one root in x > 0.
+
+    Decided on intervals by Descartes' rule, first split at r = 0, then on
+    finer intervals; rows left undecided are counted from companion-matrix
+    eigenvalues.
+    """
+    count = _count_by_intervals(f, _COUNT_BREAKS_COARSE)
+    undecided = np.flatnonzero(count < 0)
+    if undecided.size:
+        count[undecided] = _count_by_intervals(f[undecided], _COUNT_BREAKS)
+    unique = count == 1
+    undecided = np.flatnonzero(count < 0)
+    if undecided.size:
+        unique[undecided] = _unique_by_eigenvalues(f[undecided])
+    return unique
+
+
 def _unique_by_eigenvalues(f: np.ndarray) -> np.ndarray:
     """True for rows (finite, some nonzero) with exactly one root in x > 0."""
     rows, years = f.shape
@@ -511,7 +665,11 @@ def _unique_by_eigenvalues(f: np.ndarray) -> np.ndarray:
     first = np.argmax(nonzero, axis=1)
     last = years - 1 - np.argmax(nonzero[:, ::-1], axis=1)
     degree = last - first
+    size = np.abs(f)
+    smallest = np.where(nonzero, size, np.inf).min(axis=1)
+    countable = smallest * _COUNT_RANGE >= size.max(axis=1)
     unique = np.zeros(rows, dtype=bool)
+    degree = np.where(countable, degree, 0)
     for deg in np.unique(degree):
         if deg < 1:
             continue
@@ -545,7 +703,7 @@ def _irr_block(f: np.ndarray) -> np.ndarray:
     odd = finite & (changes >= 3) & (changes % 2 == 1)
     if odd.any():
         idx = np.flatnonzero(odd)
-        solve[idx[_unique_by_eigenvalues(f[idx])]] = True
+        solve[idx[_unique_root(f[idx])]] = True
     sign = np.where(first_negative, 1.0, -1.0)
     # Signed so that the costs come first: NPV(0) > 0 means r > 0.
     at_zero = total * sign
@@ -553,18 +711,17 @@ def _irr_block(f: np.ndarray) -> np.ndarray:
     # For r < 0 the root is solved in y = 1 + r in (0, 1): coefficients reversed.
     backward = np.flatnonzero(solve & (at_zero < 0))
     out[solve & (at_zero == 0)] = 0.0
-    nf = forward.size
-    if nf + backward.size == 0:
-        return out
-    g = np.empty((years, nf + backward.size))
-    g[:, :nf] = t[:, forward]
-    g[:, nf:] = t[::-1, backward]
-    signs = np.concatenate([sign[forward], -sign[backward]])
-    g *= signs / np.maximum(g.max(axis=0), -g.min(axis=0))
-    z = _solve_unit(g)
-    with np.errstate(divide="ignore", over="ignore"):
-        out[forward] = (1.0 - z[:nf]) / z[:nf]
-    out[backward] = z[nf:] - 1.0
+    for idx, reverse in ((forward, False), (backward, True)):
+        if idx.size == 0:
+            continue
+        g = np.take(t, idx, axis=1, mode="clip")
+        signs = sign[idx]
+        if reverse:
+            g = g[::-1]
+            signs = -signs
+        g *= signs / np.maximum(g.max(axis=0), -g.min(axis=0))
+        z = _solve_unit(g)
+        out[idx] = z - 1.0 if reverse else (1.0 - z) / z
     return out
 
 
@@ -587,23 +744,28 @@ def irr(flows):
     -----
     With :math:`x = 1/(1+r)` the NPV is :math:`\\sum_t v_t x^t`. Rows with one
     sign change (zeros ignored) have exactly one root (Descartes' rule of
-    signs [2]_ [3]_). Rows with an even number are undefined (zero or at least
-    two roots); rows with an odd number of three or more are kept when the
-    companion-matrix eigenvalues [4]_ show exactly one root in x > 0.
+    signs [2]_). Rows with an even number are undefined (zero or at least two
+    roots). Rows with an odd number of three or more are kept when exactly one
+    root lies in x > 0, counted by Descartes' rule on intervals [3]_ (split at
+    r = 0, then finer where undecided) or, for rows still undecided, from the
+    companion-matrix eigenvalues [4]_; see the module notes.
 
     Each kept row is scaled to a largest flow of 1 and solved on the unit
     interval, in x when the undiscounted sum of the flows says r > 0 and in
     y = 1 + r otherwise, so that the polynomial is evaluated (by Horner's
     rule, one whole column of cases at a time) only at arguments in (0, 1].
     The start is the root of a two-flow approximation (all costs at their mean
-    time, all receipts at theirs); then a fixed number of Newton steps with a
-    bisection safeguard on the sign bracket [5]_, further steps for the rows
-    not yet converged, and a geometric bisection for any row left. The rate
-    is accurate to about 1e-13 * (1 + r).
+    time, all receipts at theirs), corrected for the spread of each around
+    its mean time (second-order cumulant expansion of the present values);
+    then a fixed number of Newton steps with a bisection safeguard on the
+    sign bracket [5]_, further steps for the rows not yet converged, and a
+    geometric bisection for any row left. The rate is accurate to about
+    1e-13 * (1 + r). One case (1-D input) goes to
+    :func:`irr_scalar`, the same method in plain Python floats.
 
-    Rates closer to -100 % than the float resolution round to -1.0; rates
-    beyond the float range (flows spanning more than about 300 orders of
-    magnitude) overflow to inf.
+    Rates closer to -100 % than the float resolution round to -1.0. A row
+    whose first nonzero flow (last, when r < 0) is below 1e-300 of its largest
+    has a root outside double precision and gives NaN.
 
     References
     ----------
@@ -611,9 +773,9 @@ def irr(flows):
        Addison-Wesley, 2003, p. 348.
     .. [2] D. R. Curtiss, "Recent extensions of Descartes' rule of signs",
        *Annals of Mathematics* 19(4), 251-278, 1918. doi:10.2307/1967494
-    .. [3] C. J. Norstrøm, "A sufficient condition for a unique nonnegative
-       internal rate of return", *J. Financial and Quantitative Analysis*
-       7(3), 1835-1839, 1972. doi:10.2307/2329806
+    .. [3] G. E. Collins and A. G. Akritas, "Polynomial real root isolation
+       using Descartes' rule of signs", *Proc. 1976 ACM Symposium on Symbolic
+       and Algebraic Computation*, 272-275, 1976. doi:10.1145/800205.806346
     .. [4] A. Edelman and H. Murakami, "Polynomial roots from companion matrix
        eigenvalues", *Mathematics of Computation* 64(210), 763-776, 1995.
        doi:10.1090/S0025-5718-1995-1262279-2
@@ -634,46 +796,37 @@ def irr(flows):
     [-0.0955, nan]
     """
     f, one = _flows_2d(flows)
+    if one:
+        return irr_scalar(f[0])
     out = np.empty(f.shape[0])
     with np.errstate(all="ignore"):
         for start in range(0, f.shape[0], _CHUNK_ROWS):
             stop = min(start + _CHUNK_ROWS, f.shape[0])
             out[start:stop] = _irr_block(f[start:stop])
-    return _per_case(out, one)
+    return out
 
 
 # ---------------------------------------------------------------------------
 # IRR: one case, pure Python
 # ---------------------------------------------------------------------------
-def _solve_unit_scalar(c: list[float]) -> float:
-    """Pure-Python twin of ``_solve_unit`` for one coefficient list."""
-    top = len(c) - 1
-    lead = 0.0
-    receipts = receipt_time = costs = cost_time = 0.0
-    for k, v in enumerate(c):
-        if v > 0.0:
-            receipts += v
-            receipt_time += k * v
-        else:
-            costs += v
-            cost_time += k * v
-        if lead == 0.0 and v != 0.0:
-            lead = -v if v < 0.0 else v
-    lo, hi = 0.5 * lead / (lead + 1.0), 1.0
-    z = 0.5
-    try:
-        guess = math.exp(math.log(-costs / receipts) / (receipt_time / receipts - cost_time / costs))
-        if lo < guess < 1.0:
-            z = guess
-    except (ZeroDivisionError, ValueError, OverflowError):
-        pass
-    last = c[top]
+def _solve_unit_scalar(seq, lo, z):
+    """Pure-Python twin of ``_solve_unit`` for one case.
+
+    ``seq`` lists the coefficients of c(z), signed and scaled as in
+    ``_solve_unit``, from the highest power down (so Horner's rule runs
+    straight along it); ``lo`` is the lower end of the bracket and ``z`` the
+    start.
+    """
+    hi = 1.0
+    head, rest = seq[0], seq[1:]
     for _ in range(_NEWTON_STEPS + _EXTRA_NEWTON_STEPS):
-        p = last
+        p = head
         d = 0.0
-        for k in range(top - 1, -1, -1):
+        for c in rest:
             d = d * z + p
-            p = p * z + c[k]
+            p = p * z + c
+        if p == 0.0:
+            return z
         if p < 0.0:
             lo = z
         else:
@@ -688,17 +841,17 @@ def _solve_unit_scalar(c: list[float]) -> float:
             return new
         z = new
     for _ in range(_BISECTION_STEPS):
-        mid = math.sqrt(lo * hi)
-        p = last
-        for k in range(top - 1, -1, -1):
-            p = p * mid + c[k]
+        mid = math.sqrt(lo) * math.sqrt(hi)
+        p = head
+        for c in rest:
+            p = p * mid + c
         if p == 0.0:
             return mid
         if p < 0.0:
             lo = mid
         else:
             hi = mid
-    return math.sqrt(lo * hi)
+    return math.sqrt(lo) * math.sqrt(hi)
 
 
 def irr_scalar(flows: Sequence[float] | np.ndarray) -> float:
@@ -746,44 +899,77 @@ def irr_scalar(flows: Sequence[float] | np.ndarray) -> float:
     n = len(v)
     if n < 2:
         return math.nan
-    biggest = 0.0
-    total = 0.0
+    # One pass: sign changes (zeros ignored), largest magnitude, first and
+    # last nonzero flows, and the sums and year-weighted sums of each sign.
+    biggest = receipts = receipt_time = receipt_time2 = costs = cost_time = cost_time2 = 0.0
     changes = 0
-    previous = 0.0
-    first_negative = False
-    for x in v:
-        if x != x or x in (math.inf, -math.inf):
-            return math.nan
-        if x != 0.0:
-            if previous == 0.0:
-                first_negative = x < 0.0
-            elif (x < 0.0) != (previous < 0.0):
+    first = last = 0.0
+    for t, x in enumerate(v):
+        if x > 0.0:
+            receipts += x
+            receipt_time += t * x
+            receipt_time2 += t * t * x
+            if last < 0.0:
                 changes += 1
-            previous = x
-            a = -x if x < 0.0 else x
-            if a > biggest:
-                biggest = a
-        total += x
-    if changes == 0 or changes % 2 == 0:
-        return math.nan
-    if changes >= 3:
-        arr = np.asarray(v)
-        if not _unique_by_eigenvalues(arr[np.newaxis, :])[0]:
+            if x > biggest:
+                biggest = x
+        elif x < 0.0:
+            costs += x
+            cost_time += t * x
+            cost_time2 += t * t * x
+            if last > 0.0:
+                changes += 1
+            if -x > biggest:
+                biggest = -x
+        elif x != 0.0:  # NaN
             return math.nan
-    sign = 1.0 if first_negative else -1.0
-    at_zero = total * sign
+        else:
+            continue
+        if first == 0.0:
+            first = x
+        last = x
+    if biggest == math.inf or changes == 0 or changes % 2 == 0:
+        return math.nan
+    if changes >= 3 and not _unique_root(np.asarray(v)[np.newaxis, :])[0]:
+        return math.nan
+    sign = 1.0 if first < 0.0 else -1.0  # makes the first nonzero flow a cost
+    total = receipts + costs
+    if not math.isfinite(total):  # finite flows whose sum overflowed
+        total = math.fsum(x / biggest for x in v)
+    at_zero = sign * total  # NPV at r = 0, costs first
     if at_zero == 0.0:
         return 0.0
-    if at_zero > 0.0:
-        s = sign / biggest
-        z = _solve_unit_scalar([x * s for x in v])
-        try:
-            return (1.0 - z) / z
-        except ZeroDivisionError:
-            return math.inf
-    s = -sign / biggest
-    y = _solve_unit_scalar([x * s for x in reversed(v)])
-    return y - 1.0
+    forward = at_zero > 0.0  # r > 0: solve in x = 1/(1+r), else in y = 1 + r
+    # Coefficients signed and scaled exactly as irr does, highest power first:
+    # x^t has sign * v_t; y^k has -sign * v_(n-1-k).
+    factor = (sign if forward else -sign) / biggest
+    seq = [x * factor for x in (reversed(v) if forward else v)]
+    lead = 0.0
+    for c in reversed(seq):
+        if c != 0.0:
+            lead = c
+            break
+    if not (lead < 0.0 and -lead >= _TINY_LEAD):  # outside double precision
+        return math.nan
+    lo = 0.5 * -lead / (1.0 - lead)  # see _solve_unit
+    # Moments of the receipts and costs among the oriented coefficients (up to
+    # a common factor): the power of y is k = n - 1 - t.
+    if not forward:
+        top = n - 1
+        receipt_time2 = top * top * receipts - 2 * top * receipt_time + receipt_time2
+        cost_time2 = top * top * costs - 2 * top * cost_time + cost_time2
+        receipt_time, cost_time = top * receipts - receipt_time, top * costs - cost_time
+    if factor < 0.0:
+        receipts, receipt_time, receipt_time2, costs, cost_time, cost_time2 = (
+            costs, cost_time, cost_time2, receipts, receipt_time, receipt_time2)
+    try:
+        z = _start(receipts, receipt_time, receipt_time2, costs, cost_time, cost_time2, math)
+    except (ZeroDivisionError, ValueError, OverflowError):
+        z = 0.5
+    if not lo < z < 1.0:
+        z = 0.5
+    z = _solve_unit_scalar(seq, lo, z)
+    return (1.0 - z) / z if forward else z - 1.0
 
 
 def _pct(rate: float) -> str:
@@ -807,11 +993,19 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
         None when the rate is unique; otherwise a short sentence for the
         reader, naming the rates that make NPV zero when there are several.
 
+    Notes
+    -----
+    The rates listed for flows with several roots are the companion-matrix
+    eigenvalues [2]_ x > 0, as r = 1/x - 1, rounded to 0.1 %; rates that agree
+    to 1e-6 are one repeated root.
+
     References
     ----------
-    .. [1] C. J. Norstrøm, "A sufficient condition for a unique nonnegative
-       internal rate of return", *J. Financial and Quantitative Analysis*
-       7(3), 1835-1839, 1972. doi:10.2307/2329806
+    .. [1] D. R. Curtiss, "Recent extensions of Descartes' rule of signs",
+       *Annals of Mathematics* 19(4), 251-278, 1918. doi:10.2307/1967494
+    .. [2] A. Edelman and H. Murakami, "Polynomial roots from companion matrix
+       eigenvalues", *Mathematics of Computation* 64(210), 763-776, 1995.
+       doi:10.1090/S0025-5718-1995-1262279-2
 
     Examples
     --------
@@ -837,7 +1031,10 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
     with np.errstate(all="ignore"):
         roots = _positive_roots(v)
         if roots is None:
-            return math.nan, "the rates that make NPV zero cannot be found in floating point"
+            return math.nan, (
+                "the flows span more than ten orders of magnitude, too many to "
+                "count the rates that make NPV zero"
+            )
         rates = sorted(float(r) for r in 1.0 / roots - 1.0)
     if not rates:
         return math.nan, "no rate in (-100 %, inf) makes NPV zero"
@@ -1115,7 +1312,9 @@ def annuity_factor(rate, n):
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         zero = r == 0
         safe = np.where(zero, 1.0, r)
-        factor = np.where(zero, k, (1.0 - (1.0 + r) ** -k) / safe)
+        # 1 - (1+r)^-k as -expm1(-k log1p(r)) where r > -1: exact for rates too small for 1 + r to tell from 1
+        head = np.where(r > -1.0, -np.expm1(-k * np.log1p(np.where(r > -1.0, r, 0.0))), 1.0 - (1.0 + r) ** -k)
+        factor = np.where(zero, k, head / safe)
     return _ufunc_like(factor, rate, n)
 
 
