@@ -1,0 +1,184 @@
+"""Command-line front ends of sensitivity, risk and screening: parse, call the library, print.
+
+``tea sensitivity CASE``, ``tea risk CASE --draws N --seed S`` and
+``tea screen FIELDS.csv --case BASE.toml``. Bad input raises
+:class:`~tea.errors.CaseError` (exit status 2, one line per problem); an
+output that cannot be written raises :class:`~tea.errors.OutputError` (exit 2),
+checked before any work is done. Progress bars go to stderr, never into JSON
+on stdout.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from .errors import CaseError, Problem
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a whole number >= 1, got {value}")
+    return value
+
+
+def _seed(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"expected a whole number >= 0, got {value}")
+    return value
+
+
+def _progress(args: argparse.Namespace) -> bool | None:
+    return False if args.no_progress else None
+
+
+def _warn(case) -> None:
+    for w in case.warnings:
+        print(f"warning: {w}", file=sys.stderr)
+
+
+def _save_figure(fig, path: str, force: bool) -> None:
+    from .files import atomic_write
+
+    suffix = Path(path).suffix.lower().lstrip(".") or "png"
+    atomic_write(path, lambda tmp: fig.savefig(tmp, format=suffix), force=force)
+    print(f"wrote {path}", file=sys.stderr)
+
+
+def _check_figure_paths(paths, force: bool) -> None:
+    from .cli import _check_outputs
+    from .errors import OutputError
+
+    given = [p for p in paths if p]
+    for p in given:
+        if Path(p).suffix.lower() not in (".png", ".svg", ".pdf"):
+            raise OutputError(f"{p}: unknown chart type; expected .png, .svg or .pdf")
+    _check_outputs(given, force)
+
+
+# ----------------------------------------------------------------------------- sensitivity
+def _cmd_sensitivity(args: argparse.Namespace) -> int:
+    from . import sensitivity
+    from .case import load_case
+
+    case = load_case(args.case)
+    _check_figure_paths([args.plot, args.surface_plot], args.force)
+    _warn(case)
+    res = sensitivity.run(case, with_surface=not args.no_surface)
+    if args.json:
+        print(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
+    else:
+        print(sensitivity.summary_text(res, figure=args.figure))
+    if args.plot:
+        _save_figure(sensitivity.tornado_chart(res, figure=args.figure), args.plot, args.force)
+    if args.surface_plot:
+        _save_figure(sensitivity.surface_chart(res), args.surface_plot, args.force)
+    return 0
+
+
+# ----------------------------------------------------------------------------- risk
+def _cmd_risk(args: argparse.Namespace) -> int:
+    from . import risk
+    from .case import load_case
+
+    case = load_case(args.case)
+    _check_figure_paths([args.plot], args.force)
+    _warn(case)
+    res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
+    if args.json:
+        print(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
+    else:
+        print(risk.summary_text(res))
+    if args.plot:
+        _save_figure(risk.histogram_chart(res), args.plot, args.force)
+    return 0
+
+
+# ----------------------------------------------------------------------------- screen
+def _cmd_screen(args: argparse.Namespace) -> int:
+    from . import screen
+    from .case import load_case
+
+    case = load_case(args.case)
+    out = args.out or f"{Path(args.fields).stem}.screened.csv"
+    errors = args.errors or str(Path(out).with_name(Path(out).stem + ".errors.csv"))
+    screen.check_output(out, args.force)
+    if Path(errors).resolve() == Path(out).resolve():
+        raise CaseError([Problem("command line", "--errors", "must differ from --out")])
+    from .files import check_target
+
+    check_target(errors, args.force)
+    if not Path(args.fields).exists():
+        raise CaseError([Problem(args.fields, "", "file not found")])
+    _warn(case)
+    result = screen.screen(args.fields, case, rank_by=args.rank_by, ascending=args.ascending,
+                           chunk_rows=args.chunk_rows, progress=_progress(args))
+    for w in result.warnings:
+        print(f"warning: {w}", file=sys.stderr)
+    screen.write_table(result, out, force=args.force)
+    print(screen.summary_text(result, top=args.top))
+    print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
+    if result.bad:
+        screen.write_errors(result, errors, force=args.force)
+        print(f"skipped {result.rows_skipped} of {result.rows_read} rows; "
+              f"{len(result.bad)} problems listed in {errors}", file=sys.stderr)
+        for b in result.bad[:5]:
+            print(f"  {args.fields}: {b}", file=sys.stderr)
+        if len(result.bad) > 5:
+            print(f"  ... and {len(result.bad) - 5} more in {errors}", file=sys.stderr)
+    else:
+        print("no rows skipped", file=sys.stderr)
+    return 0
+
+
+def add_commands(sub) -> None:
+    """Add ``sensitivity``, ``risk`` and ``screen`` to the ``tea`` command's subparsers."""
+    from . import screen
+
+    s = sub.add_parser("sensitivity", help="what moves the answer: each key input low and high, ranked; "
+                       "break-even surface")
+    s.add_argument("case", metavar="CASE", help="case file (.toml); ranges from its [sensitivity] section")
+    s.add_argument("--json", action="store_true", help="print machine-readable JSON")
+    s.add_argument("--figure", default="npv", choices=("npv", "eav", "npv_vs_current_use", "eav_vs_current_use"),
+                   help="figure to rank by and chart (default npv)")
+    s.add_argument("--no-surface", action="store_true", help="leave out the break-even surface")
+    s.add_argument("--plot", metavar="OUT.png", help="write the tornado chart (.png, .svg or .pdf)")
+    s.add_argument("--surface-plot", metavar="OUT.png", help="write the break-even surface chart")
+    s.add_argument("--force", action="store_true", help="overwrite existing output files")
+    s.set_defaults(func=_cmd_sensitivity)
+
+    r = sub.add_parser("risk", help="Monte Carlo: percentiles of NPV, IRR and EAV, P(NPV < 0), DSCR, cash band")
+    r.add_argument("case", metavar="CASE", help="case file (.toml); distributions from its [risk] section")
+    r.add_argument("--draws", type=_positive_int, help="number of draws (default: the case's, else 10,000)")
+    r.add_argument("--seed", type=_seed, help="random seed (default: the case's, else 12345)")
+    r.add_argument("--json", action="store_true", help="print machine-readable JSON")
+    r.add_argument("--plot", metavar="OUT.png", help="write the NPV histogram and cash-flow band (.png, .svg, .pdf)")
+    r.add_argument("--no-progress", action="store_true", help="no progress bar")
+    r.add_argument("--force", action="store_true", help="overwrite existing output files")
+    r.set_defaults(func=_cmd_risk)
+
+    c = sub.add_parser("screen", help="rank many fields: one row per field, columns overriding the base case")
+    c.add_argument("fields", metavar="FIELDS.csv", help="field table (CSV; '#' lines are comments)")
+    c.add_argument("--case", required=True, metavar="BASE.toml", help="base case the fields vary")
+    c.add_argument("--out", metavar="OUT", help="ranked table: .csv (default FIELDS.screened.csv), .xlsx or .parquet")
+    c.add_argument("--errors", metavar="ERR.csv", help="where skipped rows are listed (default OUT.errors.csv)")
+    c.add_argument("--rank-by", default="eav_vs_current_use", metavar="FIGURE",
+                   help="figure to rank by (default eav_vs_current_use; add _field for whole-field figures: "
+                        + ", ".join(screen.FIELD_FIGURES) + ")")
+    c.add_argument("--ascending", action="store_true", help="rank the smallest first")
+    c.add_argument("--top", type=_positive_int, default=10, help="fields shown in the terminal (default 10)")
+    c.add_argument("--chunk-rows", type=_positive_int, default=screen.TABLE_CHUNK_ROWS,
+                   help=f"rows evaluated together (default {screen.TABLE_CHUNK_ROWS:,}); bounds memory")
+    c.add_argument("--no-progress", action="store_true", help="no progress bar")
+    c.add_argument("--force", action="store_true", help="overwrite existing output files")
+    c.set_defaults(func=_cmd_screen)

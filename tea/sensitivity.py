@@ -1,0 +1,603 @@
+"""What moves the answer: one-at-a-time sensitivity and the break-even surface.
+
+:func:`run` moves each key input of a case to a low and a high value (declared
+in the case's ``[sensitivity]`` section, or the base value -/+ a default
+share), recomputes NPV and the equivalent annual value (EAV) for every
+variant in one vectorised evaluation of the full ledger, and ranks the inputs
+by the swing of NPV. :func:`surface` computes NPV over a grid of two inputs
+(by default biomass price x mature yield) and the NPV = 0 contour.
+
+Method: one-factor-at-a-time ranges shown as a tornado diagram
+(A. C. Eschenbach, "Spiderplots versus tornado diagrams for sensitivity
+analysis", *Interfaces* 22(6), 40-46, 1992, doi:10.1287/inte.22.6.40).
+Figures are per hectare, in the case's currency.
+
+Other views call :func:`sensitivity_table` (a pandas DataFrame, one row per
+input) and :func:`tornado_chart` (a matplotlib figure).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any, Mapping, Sequence
+
+import numpy as np
+
+from . import __version__, riskspec, screen, units
+from .case import Case
+from .errors import CaseError, Problem
+from .texts import CAUTIONS
+
+#: the figures recomputed for each variant
+FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use")
+
+
+# ----------------------------------------------------------------------------- inputs of a case
+@dataclass
+class Moved:
+    """One input of a sensitivity run, with its base, low and high values (canonical units)."""
+
+    path: str
+    label: str
+    base: float
+    low: float
+    high: float
+    declared: bool
+    note: str = ""
+
+    def unit_text(self, case: Case) -> str:
+        inp, _ = riskspec.resolve(self.path)
+        return inp.unit_text(case.unit_system, case.currency) if inp else ""
+
+    def range_text(self, case: Case) -> str:
+        """``low / high unit`` as shown to people (whole years, percentages for rates)."""
+        from . import display
+
+        f = self.display_factor(case)
+        unit = self.unit_text(case)
+        inp, _ = riskspec.resolve(self.path)
+        if inp is not None and inp.integer:
+            return f"{self.low * f:.0f} / {self.high * f:.0f} {unit}".strip()
+        if unit.startswith("fraction"):
+            digits = 2 if max(abs(self.low), abs(self.high)) < 0.1 else 1
+            return f"{display.percent(self.low, digits)} / {display.percent(self.high, digits)}"
+        return f"{display.number(self.low * f)} / {display.number(self.high * f)} {unit}".strip()
+
+    def display_factor(self, case: Case) -> float:
+        inp, _ = riskspec.resolve(self.path)
+        if inp is None or inp.key is None:
+            return 1.0
+        return units.display_factor(inp.key.template, case.unit_system)
+
+
+def price_key(case: Case) -> str:
+    """The price key the case gives: per t DM or per GJ."""
+    return "revenue.price_per_gj" if case.price_basis == "gj" else "revenue.price_per_t_dm"
+
+
+def base_value(case: Case, path: str) -> float | None:
+    """The case's value of an input (canonical units); None where the case does not use the key."""
+    if path == riskspec.COST_MULTIPLIER:
+        return 1.0
+    if path == riskspec.SUCCESS:
+        return 1.0 - float(case["establishment.failure_probability"])
+    v = case.values.get(path)
+    return None if v is None else float(v)
+
+
+def apply(values: dict[str, Any], path: str, column: np.ndarray) -> None:
+    """Set an input in a values mapping to a per-row column (pseudo-inputs set their keys).
+
+    Apply the establishment cost multiplier after any direct change of the
+    costs it scales.
+    """
+    if path == riskspec.COST_MULTIPLIER:
+        for key in riskspec.ESTABLISHMENT_COST_KEYS:
+            values[key] = np.asarray(values[key], dtype=float) * column
+    elif path == riskspec.SUCCESS:
+        values["establishment.failure_probability"] = 1.0 - column
+    else:
+        values[path] = column
+
+
+def real_changes(case: Case, path: str, value: float) -> dict[str, Any]:
+    """The case keys a single input value sets, for validation with ``Case.replace``."""
+    if path == riskspec.COST_MULTIPLIER:
+        return {key: case[key] * value for key in riskspec.ESTABLISHMENT_COST_KEYS}
+    if path == riskspec.SUCCESS:
+        return {"establishment.failure_probability": 1.0 - value}
+    inp, _ = riskspec.resolve(path)
+    if inp is not None and inp.integer:
+        return {path: int(round(value))}
+    return {path: value}
+
+
+def check_value(case: Case, path: str, value: float, where: str) -> list[Problem]:
+    """Problems a case would have with one input set to ``value`` (the loader's own rules)."""
+    try:
+        case.replace(**real_changes(case, path, value))
+    except CaseError as exc:
+        return [Problem(case.source, where, f"{_shown(case, path, value)}: {p.key}: {p.message}") for p in exc.problems]
+    return []
+
+
+def _shown(case: Case, path: str, value: float) -> str:
+    inp, _ = riskspec.resolve(path)
+    if inp is None or inp.key is None:
+        return f"{value:g}"
+    f = units.display_factor(inp.key.template, case.unit_system)
+    return f"{value * f:g} {inp.unit_text(case.unit_system, case.currency)}".strip()
+
+
+def _feasible_life(case: Case) -> int:
+    """Shortest stand life the case's harvest and loan terms allow."""
+    low = max(2, int(case["harvest.first_year"]))
+    if case["loan.share_of_establishment"] > 0:
+        low = max(low, int(case["loan.grace_years"]) + int(case["loan.term_years"]))
+    return low
+
+
+def moved_inputs(case: Case) -> list[Moved]:
+    """The inputs a sensitivity run moves, with their ranges; raises CaseError on a bad range."""
+    spec = case.values.get("sensitivity", {}) or {}
+    share = spec.get("default_share", riskspec.DEFAULT_SHARE)
+    declared = spec.get("ranges", {})
+    listed = spec.get("inputs")
+    names = list(listed) if listed is not None else [price_key(case) if p == riskspec.PRICE else p
+                                                     for p in riskspec.KEY_INPUTS]
+    if listed is None:
+        names += [p for p in declared if p not in names]
+    out: list[Moved] = []
+    problems: list[Problem] = []
+    for path in names:
+        base = base_value(case, path)
+        label = riskspec.label(path)
+        if base is None:
+            if path in declared or listed is not None:
+                problems.append(Problem(case.source, f"sensitivity.inputs.{path}", "the case does not use this key "
+                                        "(it has no value), so it cannot be moved"))
+            continue
+        inp, _ = riskspec.resolve(path)
+        if path in declared:
+            low, high = declared[path]["low"], declared[path]["high"]
+            for side, v in (("low", low), ("high", high)):
+                problems.extend(check_value(case, path, v, f"sensitivity.ranges.{path}.{side}"))
+            out.append(Moved(path, label, base, low, high, True))
+            continue
+        step = share * abs(base)
+        low, high = base - step, base + step
+        lo, hi, lo_open, _ = inp.bounds
+        note = f"base -/+ {share:.0%}"
+        if lo is not None and low < lo:
+            low = lo
+            note += f", low clipped to {lo:g}"
+        if hi is not None and high > hi:
+            high = hi
+            note += f", high clipped to {hi:g}"
+        if inp.integer:
+            low, high = float(round(low)), float(round(high))
+        if path == "finance.stand_life_years" and low < _feasible_life(case):
+            low = float(_feasible_life(case))
+            note += ", low raised to the shortest life the harvest and loan terms allow"
+        if base == 0:
+            note = "base is 0, so a share of it does not move it; declare a range in [sensitivity.ranges]"
+        for side, v in (("low", low), ("high", high)):
+            found = check_value(case, path, v, f"sensitivity.inputs.{path}")
+            if found:
+                problems.extend(Problem(p.source, p.key, f"the default {side} value {p.message}; declare a range "
+                                        "in [sensitivity.ranges]") for p in found)
+        out.append(Moved(path, label, base, low, high, False, note))
+    if problems:
+        raise CaseError(problems)
+    return out
+
+
+def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names: Sequence[str] = FIGURES
+                      ) -> dict[str, np.ndarray]:
+    """Figures for variants of a case, each a mapping input path -> value, in one evaluation.
+
+    Uses the full ledger (:func:`tea.ledger.compute`), the reference.
+    """
+    n = len(variants)
+    values: dict[str, Any] = dict(case.values)
+    paths = list(dict.fromkeys(p for v in variants for p in v))
+    direct = [p for p in paths if p != riskspec.COST_MULTIPLIER]
+    if riskspec.COST_MULTIPLIER in paths:
+        direct.append(riskspec.COST_MULTIPLIER)
+    for path in direct:
+        col = np.array([v.get(path, base_value(case, path)) for v in variants], dtype=float)
+        inp, _ = riskspec.resolve(path)
+        if inp is not None and inp.integer:
+            col = np.round(col).astype(np.int64)
+        apply(values, path, col)
+    p = screen.model_inputs(values, case)
+    return screen.evaluate(p, names=names, lean=False, chunk_rows=max(n, 1))
+
+
+# ----------------------------------------------------------------------------- the run
+@dataclass
+class Sensitivity:
+    """A sensitivity run: the base figures and, per input, the figures at its low and high values."""
+
+    case: Case
+    base: dict[str, float]
+    moved: list[Moved]
+    low: dict[str, np.ndarray]
+    high: dict[str, np.ndarray]
+    surface: "Surface | None" = None
+
+    def swing(self, figure: str = "npv") -> np.ndarray:
+        return np.abs(self.high[figure] - self.low[figure])
+
+    def order(self, figure: str = "npv") -> np.ndarray:
+        """Inputs ranked by swing, largest first (ties keep the listed order)."""
+        return np.argsort(-self.swing(figure), kind="stable")
+
+
+def run(case: Case, with_surface: bool = True) -> Sensitivity:
+    """Move each input low and high; recompute NPV and EAV (per ha) in one vectorised pass."""
+    moved = moved_inputs(case)
+    variants: list[dict[str, float]] = [{}]
+    for m in moved:
+        variants.append({m.path: m.low})
+        variants.append({m.path: m.high})
+    figs = evaluate_variants(case, variants)
+    base = {k: float(v[0]) for k, v in figs.items()}
+    low = {k: v[1::2].copy() for k, v in figs.items()}
+    high = {k: v[2::2].copy() for k, v in figs.items()}
+    result = Sensitivity(case, base, moved, low, high)
+    if with_surface:
+        result.surface = surface(case)
+    return result
+
+
+def sensitivity_table(case: Case | Sensitivity):
+    """One row per input, ranked by NPV swing (largest first).
+
+    Parameters
+    ----------
+    case : Case or Sensitivity
+        A case (run here) or a finished run.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns: ``rank``, ``input`` (key path), ``label``, ``unit`` (canonical,
+        metric), ``base``, ``low``, ``high`` (canonical units), ``range``
+        (``declared`` or how the default was set), then for each of ``npv``,
+        ``eav``, ``npv_vs_current_use``, ``eav_vs_current_use``: ``<fig>_low``,
+        ``<fig>_high``, ``<fig>_swing`` [currency ha⁻¹, or currency ha⁻¹ yr⁻¹
+        for EAV]. ``attrs`` holds ``base_npv``, ``base_eav``, ``currency``,
+        ``case``, ``case_hash`` and ``tool_version``.
+    """
+    import pandas as pd
+
+    res = case if isinstance(case, Sensitivity) else run(case, with_surface=False)
+    c = res.case
+    rows = []
+    for rank, i in enumerate(res.order("npv"), start=1):
+        m = res.moved[i]
+        inp, _ = riskspec.resolve(m.path)
+        row = {
+            "rank": rank, "input": m.path, "label": m.label,
+            "unit": inp.unit_text("metric", c.currency) if inp else "",
+            "base": m.base, "low": m.low, "high": m.high,
+            "range": "declared" if m.declared else m.note,
+        }
+        for fig in FIGURES:
+            row[f"{fig}_low"] = float(res.low[fig][i])
+            row[f"{fig}_high"] = float(res.high[fig][i])
+            row[f"{fig}_swing"] = float(abs(res.high[fig][i] - res.low[fig][i]))
+        rows.append(row)
+    frame = pd.DataFrame(rows)
+    frame.attrs.update(base_npv=res.base["npv"], base_eav=res.base["eav"], currency=c.currency, case=c.name,
+                       case_hash=c.hash, tool_version=__version__)
+    return frame
+
+
+def tornado_chart(case: Case | Sensitivity, path=None, figure: str = "npv", ax=None):
+    """A tornado chart of the sensitivity of NPV (or ``figure``) to each input.
+
+    Parameters
+    ----------
+    case : Case or Sensitivity
+        A case (run here) or a finished run.
+    path : str or Path, optional
+        Also save the chart there (the format follows the suffix: .png, .svg, .pdf).
+    figure : str
+        ``"npv"``, ``"eav"``, ``"npv_vs_current_use"`` or ``"eav_vs_current_use"``.
+    ax : matplotlib Axes, optional
+        Draw into these axes instead of a new figure.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    if ax is None:
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=(7.5, 5.7))
+        ax = fig.add_subplot(1, 1, 1)
+    else:
+        fig = ax.figure
+    res = case if isinstance(case, Sensitivity) else run(case, with_surface=False)
+    c = res.case
+    order = res.order(figure)[::-1]
+    base = res.base[figure]
+    per = "acre" if c.unit_system == "us_customary" else "ha"
+    scale = units.HA_PER_ACRE if per == "acre" else 1.0
+    labels = []
+    for pos, i in enumerate(order):
+        m = res.moved[i]
+        lo, hi = res.low[figure][i] * scale, res.high[figure][i] * scale
+        ax.barh(pos, lo - base * scale, left=base * scale, color="#b2182b", height=0.6)
+        ax.barh(pos, hi - base * scale, left=base * scale, color="#2166ac", height=0.6)
+        f = m.display_factor(c)
+        unit = m.unit_text(c)
+        labels.append(f"{m.label}\n{m.low * f:g} / {m.high * f:g} {unit}".strip())
+    ax.set_yticks(range(len(order)))
+    ax.set_yticklabels(labels, fontsize=7)
+    ax.axvline(base * scale, color="black", linewidth=0.8)
+    name = {"npv": "NPV", "eav": "Equivalent annual value", "npv_vs_current_use": "NPV vs current use",
+            "eav_vs_current_use": "EAV vs current use"}[figure]
+    unit = f"{c.currency}/{per}" + ("/yr" if figure.startswith("eav") else "")
+    ax.set_xlabel(f"{name} [{unit}]  (red: input at its low value, blue: at its high value)", fontsize=8)
+    ax.set_title(f"{c.name}: what moves {name}", fontsize=9)
+    ax.tick_params(axis="x", labelsize=7)
+    fig.tight_layout()
+    if path is not None:
+        fig.savefig(path, metadata={"Date": None} if str(path).endswith((".svg", ".pdf")) else None)
+    return fig
+
+
+# ----------------------------------------------------------------------------- break-even surface
+@dataclass
+class Surface:
+    """NPV over a grid of two inputs, and where it crosses zero."""
+
+    x: str
+    y: str
+    x_values: np.ndarray
+    y_values: np.ndarray
+    npv: np.ndarray  # (len(y_values), len(x_values)) [currency ha⁻¹]
+    contour: list[tuple[float, float]] = field(default_factory=list)
+
+
+def _axis(case: Case, path: str, spec: Mapping[str, Any], axis: str, points: int) -> np.ndarray:
+    base = base_value(case, path)
+    if base is None:
+        raise CaseError([Problem(case.source, f"sensitivity.surface.{axis}", f"the case does not use {path}")])
+    inp, _ = riskspec.resolve(path)
+    lo = spec.get(f"{axis}_low", base * (1.0 - riskspec.SURFACE_SHARE) if base >= 0 else base * (1.0 + riskspec.SURFACE_SHARE))
+    hi = spec.get(f"{axis}_high", base * (1.0 + riskspec.SURFACE_SHARE) if base >= 0 else base * (1.0 - riskspec.SURFACE_SHARE))
+    blo, bhi, lo_open, hi_open = inp.bounds
+    if blo is not None:
+        lo = max(lo, blo)
+        if lo_open and lo == blo:
+            lo = blo + 1e-9 * max(1.0, abs(hi - blo))
+    if bhi is not None:
+        hi = min(hi, bhi)
+    if not hi > lo:
+        raise CaseError([Problem(case.source, f"sensitivity.surface.{axis}", f"{path}: the grid has no width "
+                                 f"(from {lo:g} to {hi:g}); give {axis}_low and {axis}_high")])
+    grid = np.linspace(lo, hi, points)
+    if inp.integer:
+        grid = np.unique(np.round(grid))
+    problems = check_value(case, path, float(grid[0]), f"sensitivity.surface.{axis}_low")
+    problems += check_value(case, path, float(grid[-1]), f"sensitivity.surface.{axis}_high")
+    if problems:
+        raise CaseError(problems)
+    return grid
+
+
+def surface(case: Case) -> Surface:
+    """NPV (per ha) over a grid of two inputs, with the NPV = 0 contour.
+
+    The inputs and their bounds come from ``[sensitivity.surface]``; by
+    default biomass price x mature yield, each from base -50 % to +50 %,
+    11 points. NPV is linear in the price and, for a positive yield, in the
+    mature yield, so linear interpolation between grid points places the
+    contour exactly along each axis.
+    """
+    spec = (case.values.get("sensitivity", {}) or {}).get("surface", {})
+    x = spec.get("x", price_key(case))
+    y = spec.get("y", "yield.mature_t_dm_per_ha")
+    points = spec.get("points", riskspec.SURFACE_POINTS)
+    xs = _axis(case, x, spec, "x", points)
+    ys = _axis(case, y, spec, "y", points)
+    variants = [{x: float(a), y: float(b)} for b in ys for a in xs]
+    npv = evaluate_variants(case, variants, names=("npv",))["npv"].reshape(len(ys), len(xs))
+    contour: list[tuple[float, float]] = []
+    for j, a in enumerate(xs):
+        col = npv[:, j]
+        for i in range(len(ys) - 1):
+            n0, n1 = col[i], col[i + 1]
+            if n0 == 0:
+                contour.append((float(a), float(ys[i])))
+            elif n0 * n1 < 0:
+                contour.append((float(a), float(ys[i] + (0.0 - n0) * (ys[i + 1] - ys[i]) / (n1 - n0))))
+        if col[-1] == 0:
+            contour.append((float(a), float(ys[-1])))
+    return Surface(x, y, xs, ys, npv, contour)
+
+
+def surface_chart(case: Case | Sensitivity | Surface, path=None, ax=None, case_for_labels: Case | None = None):
+    """A filled contour chart of NPV over the surface grid, with the NPV = 0 line."""
+    from matplotlib.figure import Figure
+
+    if isinstance(case, Sensitivity):
+        c, surf = case.case, case.surface or surface(case.case)
+    elif isinstance(case, Surface):
+        c, surf = case_for_labels, case
+    else:
+        c, surf = case, surface(case)
+    if ax is None:
+        fig = Figure(figsize=(6.5, 4.8))
+        ax = fig.add_subplot(1, 1, 1)
+    else:
+        fig = ax.figure
+    fx = _display_factor(c, surf.x)
+    fy = _display_factor(c, surf.y)
+    X, Y = np.meshgrid(surf.x_values * fx, surf.y_values * fy)
+    filled = ax.contourf(X, Y, surf.npv, levels=12, cmap="RdBu")
+    fig.colorbar(filled, ax=ax, label=f"NPV [{c.currency if c else ''}/ha]")
+    if surf.npv.min() < 0 < surf.npv.max():
+        ax.contour(X, Y, surf.npv, levels=[0.0], colors="black", linewidths=1.2)
+    ax.set_xlabel(f"{riskspec.label(surf.x)} [{_unit(c, surf.x)}]")
+    ax.set_ylabel(f"{riskspec.label(surf.y)} [{_unit(c, surf.y)}]")
+    ax.set_title("Break-even surface: NPV = 0 on the black line", fontsize=9)
+    fig.tight_layout()
+    if path is not None:
+        fig.savefig(path)
+    return fig
+
+
+def _display_factor(case: Case | None, path: str) -> float:
+    inp, _ = riskspec.resolve(path)
+    if case is None or inp is None or inp.key is None:
+        return 1.0
+    return units.display_factor(inp.key.template, case.unit_system)
+
+
+def _unit(case: Case | None, path: str) -> str:
+    inp, _ = riskspec.resolve(path)
+    if inp is None:
+        return ""
+    return inp.unit_text(case.unit_system if case else "metric", case.currency if case else "")
+
+
+# ----------------------------------------------------------------------------- views
+def to_dict(res: Sensitivity) -> dict[str, Any]:
+    """JSON-able result (canonical metric units, per ha)."""
+    c = res.case
+    table = sensitivity_table(res)
+    out: dict[str, Any] = {
+        "case": c.name,
+        "case_hash": c.hash,
+        "tool_version": __version__,
+        "currency": c.currency,
+        "per": "ha",
+        "demo_data": bool(c["case.demo"]),
+        "method": "one input at a time moved to its low and high value; full ledger recomputed",
+        "base": {k: _num(v) for k, v in res.base.items()},
+        "inputs": [{k: (_num(v) if isinstance(v, float) else v) for k, v in row.items()}
+                   for row in table.to_dict(orient="records")],
+    }
+    if res.surface is not None:
+        s = res.surface
+        out["surface"] = {
+            "x": s.x, "y": s.y, "x_values": s.x_values.tolist(), "y_values": s.y_values.tolist(),
+            "npv_per_ha": [[_num(v) for v in row] for row in s.npv.tolist()],
+            "npv_zero_contour": [{"x": a, "y": b} for a, b in s.contour],
+        }
+    out["cautions"] = list(CAUTIONS)
+    return out
+
+
+def _num(v: float) -> float | None:
+    v = float(v)
+    return v if math.isfinite(v) else None
+
+
+def summary_text(res: Sensitivity, figure: str = "npv") -> str:
+    """Terminal view: the ranked table, a text tornado and the break-even surface."""
+    from . import display
+
+    c = res.case
+    per = "acre" if c.unit_system == "us_customary" else "ha"
+    scale = units.HA_PER_ACRE if per == "acre" else 1.0
+    money = lambda v: display.money(v * scale, digits=0)  # noqa: E731
+    head = f"Sensitivity of {c.name}" + ("   [DEMO DATA]" if c["case.demo"] else "")
+    out = [head, "=" * len(head)]
+    out.append(f"Base NPV {display.money(res.base['npv'] * scale, c.currency)}/{per}; "
+               f"EAV {display.money(res.base['eav'] * scale, c.currency)}/{per}/yr; NPV vs current use "
+               f"{display.money(res.base['npv_vs_current_use'] * scale, c.currency)}/{per}.")
+    out.append(f"Each input moved alone, the others at their base values; ranked by the swing of "
+               f"{'NPV vs current use' if figure.endswith('vs_current_use') else 'NPV'} ({c.currency}/{per}).")
+    out.append("")
+    rows = []
+    for rank, i in enumerate(res.order(figure), start=1):
+        m = res.moved[i]
+        eav = "eav_vs_current_use" if figure.endswith("vs_current_use") else "eav"
+        rows.append([str(rank), m.label, m.range_text(c),
+                     money(res.low[figure][i]), money(res.high[figure][i]), money(abs(res.high[figure][i] - res.low[figure][i])),
+                     money(res.low[eav][i]), money(res.high[eav][i]), "declared" if m.declared else m.note])
+    name = "NPV vs now" if figure.endswith("vs_current_use") else "NPV"
+    heads = ["#", "input", "low / high", f"{name} low", f"{name} high", "swing", "EAV low", "EAV high", "range"]
+    widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(heads)] if rows else [len(h) for h in heads]
+    align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 8) else s.rjust(widths[j])  # noqa: E731
+    out.append("  ".join(align(j, h) for j, h in enumerate(heads)))
+    out.extend("  ".join(align(j, s) for j, s in enumerate(r)) for r in rows)
+    only_vs = [res.moved[i].label for i in range(len(res.moved))
+               if res.low["npv"][i] == res.high["npv"][i] and res.low["npv_vs_current_use"][i] != res.high["npv_vs_current_use"][i]]
+    if only_vs and figure == "npv":
+        out.append(f"{', '.join(only_vs)}: changes only the comparison with today's use "
+                   "(NPV vs current use), not the stand's own NPV; see --figure npv_vs_current_use.")
+    out.append("")
+    out.append(f"Tornado ({figure.upper() if figure == 'npv' else figure}, {c.currency}/{per}; '<' input low, '>' input high, "
+               "| base):")
+    out.extend(_text_tornado(res, figure, scale))
+    if res.surface is not None:
+        out.append("")
+        out.extend(_surface_text(res.surface, c))
+    out.append("")
+    out.append("Cautions:")
+    out.extend(f"  - {x}" for x in CAUTIONS)
+    return "\n".join(out)
+
+
+def _text_tornado(res: Sensitivity, figure: str, scale: float, width: int = 48) -> list[str]:
+    base = res.base[figure] * scale
+    order = res.order(figure)
+    lo = res.low[figure] * scale
+    hi = res.high[figure] * scale
+    extent = max(np.max(np.abs(lo - base)), np.max(np.abs(hi - base)), 1e-12)
+    half = width // 2
+    label_w = max(len(m.label) for m in res.moved)
+    lines = []
+    for i in order:
+        cells = [" "] * width
+        for value, mark in ((lo[i], "<"), (hi[i], ">")):
+            k = int(round((value - base) / extent * half))
+            if k < 0:
+                for j in range(half + k, half):
+                    cells[j] = mark
+            elif k > 0:
+                for j in range(half, half + k):
+                    cells[j] = mark
+        cells.insert(half, "|")
+        lines.append(f"  {res.moved[i].label.ljust(label_w)} {''.join(cells)}")
+    return lines
+
+
+def _surface_text(s: Surface, c: Case) -> list[str]:
+    from . import display
+
+    per = "acre" if c.unit_system == "us_customary" else "ha"
+    scale = units.HA_PER_ACRE if per == "acre" else 1.0
+    fx, fy = _display_factor(c, s.x), _display_factor(c, s.y)
+    out = [f"Break-even surface: NPV ({c.currency}/{per}) by {riskspec.label(s.x)} [{_unit(c, s.x)}] (columns) "
+           f"and {riskspec.label(s.y)} [{_unit(c, s.y)}] (rows); '*' marks a cell next to NPV = 0"]
+    xs = [display.number(v * fx) for v in s.x_values]
+    cells = [[display.money(v * scale, digits=0) for v in row] for row in s.npv]
+    sign = np.sign(s.npv)
+    marked = np.zeros_like(s.npv, dtype=bool)
+    marked[:-1] |= sign[:-1] != sign[1:]
+    marked[1:] |= sign[:-1] != sign[1:]
+    marked[:, :-1] |= sign[:, :-1] != sign[:, 1:]
+    marked[:, 1:] |= sign[:, :-1] != sign[:, 1:]
+    cells = [[v + ("*" if marked[i, j] else " ") for j, v in enumerate(row)] for i, row in enumerate(cells)]
+    ys = [display.number(v * fy) for v in s.y_values]
+    w = max(len(v) for row in cells for v in row)
+    w = max(w, *(len(v) + 1 for v in xs))
+    yw = max(len(v) for v in ys)
+    out.append(" " * (yw + 2) + "".join(v.rjust(w) + " " for v in xs))
+    for i in range(len(ys) - 1, -1, -1):
+        out.append(ys[i].rjust(yw) + "  " + "".join(v.rjust(w + 1) for v in cells[i]))
+    if s.contour:
+        pts = "; ".join(f"{display.number(a * fx)} -> {display.number(b * fy)}" for a, b in s.contour)
+        out.append(f"NPV = 0 ({riskspec.label(s.x)} -> {riskspec.label(s.y)}): {pts}")
+    else:
+        out.append("NPV does not cross zero on this grid.")
+    return out

@@ -1,0 +1,361 @@
+"""Tests of `tea.screen`: the lean evaluator against the full ledger, and field-table screening.
+
+The full ledger (`tea.ledger.compute` with `tea.results.figures`) is the
+reference the lean path must equal to 1e-9; per-field screening results are
+checked against the case loader itself (`Case.replace` of each row, then
+`tea.results.summarise`), so a field screened in bulk gives what the same
+field gives as its own case. External checks: numpy-financial (npv, irr) and
+the exact unit definitions of NIST Handbook 44 (acre, short ton).
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from pathlib import Path
+
+import numpy as np
+import numpy_financial as npf
+import pandas as pd
+import pytest
+
+from tea import finance, ledger, load_case, results, screen
+from tea.cli import main
+from tea.errors import CaseError, OutputError
+
+ROOT = Path(__file__).resolve().parents[1]
+CASES = ROOT / "cases"
+DEMO_CASES = ("clay_corner_miscanthus", "sandy_slope_switchgrass", "flood_meadow_willow")
+FIELDS = CASES / "fields_demo.csv"
+# NIST Handbook 44 (2024), Appendix C: 1 acre = 0.40468564224 ha (exact)
+HA_PER_ACRE = 0.40468564224
+
+
+@pytest.fixture(scope="module")
+def cases():
+    return {name: load_case(CASES / f"{name}.toml") for name in DEMO_CASES}
+
+
+#: figures naming the year of a minimum: two years can tie to the last bit
+TIED_YEARS = ("min_dscr_year", "peak_funding_year")
+
+
+def _close(lean, full, what: str) -> None:
+    """Equal to 1e-9 relative (1e-9 absolute for values below 1), NaN where the reference is NaN."""
+    lean, full = np.asarray(lean, dtype=float), np.asarray(full, dtype=float)
+    assert np.array_equal(np.isnan(lean), np.isnan(full)), what
+    ok = ~np.isnan(full)
+    err = np.abs(lean[ok] - full[ok]) / np.maximum(1.0, np.abs(full[ok]))
+    assert err.size == 0 or err.max() <= 1e-9, f"{what}: largest relative difference {err.max():.3g}"
+
+
+def _variants(case, n: int, seed: int, vary_structure: bool):
+    """Many variants of a case: continuous inputs always, stand life and discount rate if asked."""
+    rng = np.random.default_rng(seed)
+    v = dict(case.values)
+    price = "revenue.price_per_gj" if case.price_basis == "gj" else "revenue.price_per_t_dm"
+    v[price] = case[price] * rng.uniform(0.4, 1.6, n)
+    v["yield.mature_t_dm_per_ha"] = case["yield.mature_t_dm_per_ha"] * rng.uniform(0.5, 1.5, n)
+    v["yield.site_factor"] = rng.uniform(0.5, 1.2, n)
+    v["costs.haul_distance_km"] = rng.uniform(0.0, 90.0, n)
+    v["costs.rent_per_ha"] = rng.uniform(0.0, 250.0, n)
+    v["field.current_margin_per_ha"] = rng.uniform(-100.0, 400.0, n)
+    v["carbon.soc_ref_t_c_per_ha"] = rng.uniform(30.0, 130.0, n)
+    v["carbon.credit_price_per_t_co2e"] = rng.uniform(0.0, 60.0, n)
+    v["establishment.failure_probability"] = rng.uniform(0.0, 0.4, n)
+    v["loan.share_of_establishment"] = np.where(rng.random(n) < 0.3, 0.0, rng.uniform(0.1, 0.9, n))
+    if case["loan.rate"] is None:
+        v["loan.rate"] = 0.05
+    if vary_structure:
+        low = max(case["loan.grace_years"] + case["loan.term_years"], case["harvest.first_year"], 2)
+        v["finance.stand_life_years"] = rng.integers(low, case.stand_life + 5, n)
+        v["finance.discount_rate"] = rng.uniform(0.0, 0.12, n)
+    return screen.model_inputs(v, case)
+
+
+class TestLeanEqualsLedger:
+    """The lean screening path equals the full ledger (the reference) to 1e-9."""
+
+    @pytest.mark.parametrize("name", DEMO_CASES)
+    def test_demo_case_itself(self, cases, name):
+        case = cases[name]
+        p = screen.model_inputs(case.values, case)
+        lean = screen.evaluate(p, lean=True)
+        full = results.figures(p, ledger.compute(p))
+        for fig in screen.LEAN_FIGURES:
+            _close(lean[fig], full[fig], f"{name}: {fig}")
+
+    @pytest.mark.parametrize("name", DEMO_CASES)
+    @pytest.mark.parametrize("vary_structure", [False, True])
+    def test_many_variants(self, cases, name, vary_structure):
+        case = cases[name]
+        p = _variants(case, 400, seed=7, vary_structure=vary_structure)
+        lean = screen.evaluate(p, lean=True, lines=screen.LEAN_LINES, chunk_rows=128)
+        full = screen.evaluate(p, lean=False, names=screen.LEAN_FIGURES, lines=screen.LEAN_LINES)
+        for fig in (*screen.LEAN_FIGURES, *screen.LEAN_LINES):
+            if fig in TIED_YEARS:
+                continue
+            _close(lean[fig], full[fig], f"{name}: {fig}")
+        # the year of a minimum may differ only where two years tie to rounding: the reference's
+        # own line must reach the minimum in the year the lean path names
+        L = ledger.compute(screen._broadcast(p, 400))
+        for fig, line, value in (("min_dscr_year", "dscr", "min_dscr"),
+                                 ("peak_funding_year", "cumulative_cash_flow", None)):
+            year = lean[fig]
+            ok = ~np.isnan(year)
+            _close(np.isnan(year), np.isnan(full[fig]), f"{name}: {fig} defined")
+            rows = np.flatnonzero(ok)
+            at = L[line][rows, year[rows].astype(int)]
+            target = full[value][rows] if value else L[line][rows].min(axis=1)
+            _close(at, target, f"{name}: {line} in the {fig}")
+
+    def test_npv_and_irr_against_numpy_financial(self, cases):
+        # numpy-financial 1.0 npv/irr on each row's own years 0..life
+        case = cases["clay_corner_miscanthus"]
+        p = _variants(case, 40, seed=3, vary_structure=True)
+        got = screen.evaluate(p, names=("npv", "irr"), lines=("net_cash_flow",))
+        life = p["life"][:, 0]
+        rate = p["rate"][:, 0]
+        for i in range(40):
+            flows = got["net_cash_flow"][i, : life[i] + 1]
+            assert got["npv"][i] == pytest.approx(npf.npv(rate[i], flows), rel=1e-11, abs=1e-8)
+            if not math.isnan(got["irr"][i]):
+                assert got["irr"][i] == pytest.approx(npf.irr(flows), abs=1e-9)
+
+    def test_payback_rule_equals_finance_payback(self):
+        rng = np.random.default_rng(11)
+        flows = rng.normal(0.0, 100.0, (500, 12))
+        flows[:100, 0] = np.abs(flows[:100, 0])  # some rows start positive: the general search
+        flows[100:300, 0] = -1000.0  # some never recover
+        year, years = screen._payback_from(flows.T, np.cumsum(flows, axis=1).T)
+        ref_year, ref_years = finance.payback(flows)
+        np.testing.assert_array_equal(year, ref_year)
+        np.testing.assert_allclose(years, ref_years, rtol=1e-12)
+
+    def test_running_total_is_cumsum(self):
+        x = np.random.default_rng(1).normal(size=(9, 33))
+        np.testing.assert_allclose(screen._running_total(x), np.cumsum(x, axis=0), rtol=1e-14)
+
+    def test_lean_refuses_a_figure_it_does_not_compute(self, cases):
+        case = cases["clay_corner_miscanthus"]
+        p = screen.model_inputs(case.values, case)
+        with pytest.raises(ValueError, match="lean path computes"):
+            screen.evaluate(p, names=("mirr",), lean=True)
+        # lean=None falls back to the full ledger for it
+        got = screen.evaluate(p, names=("mirr",))
+        assert got["mirr"][0] == pytest.approx(results.summarise(case)["mirr"], rel=1e-12)
+
+
+# ----------------------------------------------------------------------------- field tables
+def _read_demo_rows():
+    with FIELDS.open(newline="") as f:
+        lines = [line for line in f if not line.startswith("#")]
+    return list(csv.DictReader(lines))
+
+
+COLUMN_KEYS = {
+    "area_ha": "field.area_ha", "site_factor": "yield.site_factor", "haul_distance_km": "costs.haul_distance_km",
+    "climate": "field.climate", "soil": "field.soil", "current_use": "field.current_use",
+    "current_margin_per_ha": "field.current_margin_per_ha", "rent_per_ha": "costs.rent_per_ha",
+    "soc_ref_t_c_per_ha": "carbon.soc_ref_t_c_per_ha", "field.name": "field.name",
+}
+
+
+@pytest.fixture(scope="module")
+def demo_screen(cases):
+    return screen.screen(FIELDS, cases["clay_corner_miscanthus"], progress=False)
+
+
+class TestDemoFieldTable:
+    def test_every_demo_row_is_evaluated(self, demo_screen):
+        rows = _read_demo_rows()
+        assert 200 <= len(rows) <= 1000  # "a few hundred" fields
+        assert demo_screen.rows_read == len(rows)
+        assert demo_screen.rows_skipped == 0 and not demo_screen.bad
+        assert len(demo_screen.table) == len(rows)
+
+    def test_demo_table_is_labelled_demo_data(self):
+        assert FIELDS.read_text().startswith("# DEMO DATA")
+
+    def test_ranked_by_eav_vs_current_use(self, demo_screen):
+        col = demo_screen.table["eav_vs_current_use_per_ha"].to_numpy()
+        assert np.all(np.diff(col) <= 0)
+        assert demo_screen.table["rank"].tolist() == list(range(1, len(col) + 1))
+
+    def test_fields_equal_their_own_case(self, cases, demo_screen):
+        """Rows screened in bulk equal each field loaded as its own case (Case.replace + summarise)."""
+        base = cases["clay_corner_miscanthus"]
+        table = demo_screen.table.set_index("field_id")
+        rows = _read_demo_rows()
+        # every row whose climate, soil or use differs from the base, plus rows giving their own SOC stock
+        picked = [r for r in rows if r["soil"] != base["field.soil"] or r["soc_ref_t_c_per_ha"]][:12]
+        picked += [r for r in rows if r["current_use"] != base["field.current_use"]][:8] + rows[:5]
+        assert {r["climate"] for r in picked} > {base["field.climate"]}
+        for r in picked:
+            changes = {}
+            for col, path in COLUMN_KEYS.items():
+                if r[col] == "":
+                    continue
+                changes[path] = r[col] if path.startswith(("field.climate", "field.soil", "field.current_use",
+                                                           "field.name")) else float(r[col])
+            own = results.summarise(base.replace(**changes))
+            got = table.loc[r["field_id"]]
+            for fig in ("npv", "npv_vs_current_use", "eav_vs_current_use", "irr", "soc_gain_t_c", "ghg_net_t_co2e",
+                        "discounted_payback_year", "breakeven_price", "min_dscr"):
+                col = {"breakeven_price": "breakeven_price_per_t_dm"}.get(fig, fig)
+                col = col if col in table.columns else f"{fig}_per_ha"
+                ref = own[fig]
+                if ref is None:
+                    assert math.isnan(got[col]), (r["field_id"], fig)
+                else:
+                    assert got[col] == pytest.approx(ref, rel=1e-9, abs=1e-9), (r["field_id"], fig)
+            assert got["npv_field"] == pytest.approx(own.whole_field["npv"], rel=1e-9)
+
+    def test_chunks_do_not_change_results(self, cases, demo_screen):
+        small = screen.screen(FIELDS, cases["clay_corner_miscanthus"], chunk_rows=7, progress=False)
+        pd.testing.assert_frame_equal(small.table, demo_screen.table)
+
+    def test_us_customary_base_case_reports_per_acre(self, cases, tmp_path):
+        base = cases["sandy_slope_switchgrass"]
+        path = tmp_path / "f.csv"
+        path.write_text("field_id,area_acre,haul_distance_mile\nA,10,5\nB,20,30\n")
+        res = screen.screen(path, base, progress=False)
+        row = res.table.set_index("field_id").loc["A"]
+        own = results.summarise(base.replace(**{"field.area_ha": 10 * HA_PER_ACRE,
+                                                "costs.haul_distance_km": 5 * 1.609344}))
+        # per-acre money = per-ha money x ha per acre (NIST HB44 exact definition)
+        assert row["npv_per_acre"] == pytest.approx(own["npv"] * HA_PER_ACRE, rel=1e-9)
+        assert row["npv_field"] == pytest.approx(own.whole_field["npv"], rel=1e-9)
+
+
+BAD_TABLE = """\
+# comment lines and blank lines are skipped
+
+field_id,area_ha,costs.haul_distance_km,site_factor,climate,haul_km,finance.stand_life_years,soil
+ok1,3,20,0.9,cool_temperate_moist,,,
+bad_number,x,20,0.9,cool_temperate_moist,,,
+bad_range,3,-5,0.9,cool_temperate_moist,,,
+bad_enum,3,20,0.9,cool_temperate_mist,,,
+bad_column,3,20,0.9,cool_temperate_moist,12,,
+bad_life,3,20,0.9,cool_temperate_moist,,5,
+bad_site,3,20,0.9,warm_temperate_dry,,,spodic
+bad_extra,3,20,0.9,,,,,extra
+bad_nan,3,20,nan,,,,
+bad_whole,3,20,0.9,,,12.5,
+ok2,1e1,,,,,,
+"""
+
+
+class TestBadRows:
+    @pytest.fixture(scope="class")
+    def result(self, tmp_path_factory):
+        path = tmp_path_factory.mktemp("bad") / "fields.csv"
+        path.write_text(BAD_TABLE)
+        return screen.screen(path, load_case(CASES / "clay_corner_miscanthus.toml"), progress=False)
+
+    def test_good_rows_evaluated_bad_rows_skipped(self, result):
+        assert result.rows_read == 11
+        assert result.rows_skipped == 9
+        assert sorted(result.table["field_id"]) == ["ok1", "ok2"]
+
+    @pytest.mark.parametrize("line, column, reason", [
+        (5, "area_ha", "expected a number, got 'x'"),
+        (6, "costs.haul_distance_km", "must be >= 0, got -5"),
+        (7, "climate", "did you mean 'cool_temperate_moist'"),
+        (8, "haul_km", "unknown column"),
+        (9, "loan.term_years", "run past the stand life (5 years)"),
+        (10, "carbon.soc_ref_t_c_per_ha", "no reference SOC stock for warm_temperate_dry on spodic"),
+        (11, "", "in no known column"),
+        (12, "site_factor", "expected a finite number"),
+        (13, "finance.stand_life_years", "expected a whole number"),
+    ])
+    def test_each_bad_row_has_its_line_and_reason(self, result, line, column, reason):
+        hits = [b for b in result.bad if b.line == line]
+        assert hits, f"line {line} not reported"
+        assert any(b.column == column and reason in b.reason for b in hits), hits
+        assert all(b.row == line - 3 for b in hits)  # header on line 3, first data row on line 4
+
+    def test_unknown_column_is_warned(self, result):
+        assert any("haul_km" in w for w in result.warnings)
+
+    def test_error_file(self, result, tmp_path):
+        out = screen.write_errors(result, tmp_path / "err.csv")
+        rows = list(csv.DictReader(out.open()))
+        assert {int(r["line"]) for r in rows} == {5, 6, 7, 8, 9, 10, 11, 12, 13}
+        assert set(rows[0]) == {"line", "row", "column", "value", "reason"}
+
+    def test_duplicate_key_columns_are_a_file_error(self, tmp_path):
+        path = tmp_path / "dup.csv"
+        path.write_text("area_ha,field.area_acre\n1,2\n")
+        with pytest.raises(CaseError, match="same key"):
+            screen.screen(path, load_case(CASES / "clay_corner_miscanthus.toml"), progress=False)
+
+
+class TestOutputs:
+    def test_csv_carries_cautions_and_reads_back(self, demo_screen, tmp_path):
+        out = screen.write_table(demo_screen, tmp_path / "ranked.csv")
+        text = out.read_text()
+        assert "# Planning estimates only" in text and "hash" in text.splitlines()[0]
+        back = pd.read_csv(out, comment="#")
+        assert len(back) == len(demo_screen.table)
+        np.testing.assert_allclose(back["npv_per_ha"], demo_screen.table["npv_per_ha"], rtol=1e-9)
+
+    def test_xlsx_has_a_notes_sheet(self, demo_screen, tmp_path):
+        import openpyxl
+
+        out = screen.write_table(demo_screen, tmp_path / "ranked.xlsx")
+        wb = openpyxl.load_workbook(out, read_only=True)
+        assert wb.sheetnames == ["ranked fields", "notes"]
+
+    def test_parquet_needs_pyarrow(self, demo_screen, tmp_path):
+        if screen.parquet_available():
+            out = screen.write_table(demo_screen, tmp_path / "ranked.parquet")
+            assert len(pd.read_parquet(out)) == len(demo_screen.table)
+        else:
+            with pytest.raises(OutputError, match="pyarrow"):
+                screen.write_table(demo_screen, tmp_path / "ranked.parquet")
+
+    def test_refuses_to_overwrite(self, demo_screen, tmp_path):
+        out = screen.write_table(demo_screen, tmp_path / "ranked.csv")
+        with pytest.raises(OutputError, match="exists"):
+            screen.write_table(demo_screen, out)
+
+
+class TestCommand:
+    def test_screen_demo_table(self, tmp_path, capsys):
+        out = tmp_path / "ranked.csv"
+        code = main(["screen", str(FIELDS), "--case", str(CASES / "clay_corner_miscanthus.toml"), "--out", str(out),
+                     "--no-progress"])
+        captured = capsys.readouterr()
+        assert code == 0
+        assert "300 fields evaluated; 0 rows skipped" in captured.out
+        assert out.exists() and not (tmp_path / "ranked.errors.csv").exists()
+
+    def test_bad_rows_go_to_the_error_file(self, tmp_path, capsys):
+        fields = tmp_path / "f.csv"
+        fields.write_text(BAD_TABLE)
+        code = main(["screen", str(fields), "--case", str(CASES / "clay_corner_miscanthus.toml"),
+                     "--out", str(tmp_path / "r.csv"), "--no-progress"])
+        err = capsys.readouterr().err
+        assert code == 0
+        assert "skipped 9 of 11 rows" in err
+        assert (tmp_path / "r.errors.csv").exists()
+
+    @pytest.mark.parametrize("extra, message", [
+        (["--rank-by", "npvv"], "unknown figure 'npvv'"),
+        (["--out", "x.txt"], "unknown output type"),
+    ])
+    def test_bad_options_exit_2(self, tmp_path, capsys, extra, message):
+        code = main(["screen", str(FIELDS), "--case", str(CASES / "clay_corner_miscanthus.toml"),
+                     "--out", str(tmp_path / "r.csv"), *extra])
+        err = capsys.readouterr().err
+        assert code == 2
+        assert message in err and "Traceback" not in err
+
+    def test_missing_files_exit_2(self, tmp_path, capsys):
+        code = main(["screen", str(tmp_path / "none.csv"), "--case", str(CASES / "clay_corner_miscanthus.toml"),
+                     "--out", str(tmp_path / "r.csv")])
+        assert code == 2
+        assert "none.csv: file not found" in capsys.readouterr().err
+        code = main(["screen", str(FIELDS), "--case", str(tmp_path / "none.toml"), "--out", str(tmp_path / "r.csv")])
+        assert code == 2
