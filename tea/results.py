@@ -113,9 +113,10 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     breakevens : bool
         Compute the break-even yields (one more evaluation of the ledger).
     """
+    net, inc = L["net_cash_flow"], L["incremental_cash_flow"]
+    p = _broadcast_columns(p, net.shape[0])
     life = p["life"][:, 0]
     rate = p["rate"][:, 0]
-    net, inc = L["net_cash_flow"], L["incremental_cash_flow"]
     df = L["discount_factor"]
     out: dict[str, np.ndarray] = {}
     out["npv"] = np.sum(net * df, axis=1)
@@ -194,6 +195,15 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     out["dscr_covenant"] = covenant
     out["years_below_covenant"] = np.sum(np.nan_to_num(L["dscr"], nan=np.inf) < covenant[:, None], axis=1).astype(float)
     out["equity_peak_funding_need"] = np.atleast_1d(finance.peak_funding(L["equity_cash_flow"])[0])
+    return out
+
+
+def _broadcast_columns(p: Mapping[str, Any], rows: int) -> dict[str, Any]:
+    """Every (1, 1) input column repeated to (rows, 1), so shared inputs index like per-case ones."""
+    out = dict(p)
+    for key, value in p.items():
+        if isinstance(value, np.ndarray) and value.ndim == 2 and value.shape == (1, 1) and rows > 1:
+            out[key] = np.broadcast_to(value, (rows, 1))
     return out
 
 
