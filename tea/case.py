@@ -81,6 +81,18 @@ def load_preset(name: str) -> Preset:
     return Preset(name, head["title"], head["kind"], bool(head.get("non_native_warning")), values, sources)
 
 
+#: crop names an advisor may type for a preset -> the preset that models that kind of crop
+PRESET_HINTS = {
+    "miscanthus": "rhizome_grass",
+    "elephant grass": "rhizome_grass",
+    "switchgrass": "seeded_grass",
+    "reed canary grass": "seeded_grass",
+    "willow": "coppice",
+    "poplar": "coppice",
+    "src": "coppice",
+}
+
+
 # ----------------------------------------------------------------------------- the case
 @dataclass(frozen=True)
 class Case:
@@ -202,8 +214,21 @@ def load_text(text: str, source: str = "<case>") -> Case:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise CaseError([Problem(source, "", f"malformed TOML: {exc}")]) from None
+        raise CaseError([Problem(source, "", f"malformed TOML: {exc}{_quote_line(text, str(exc))}")]) from None
     return load_mapping(data, source=source)
+
+
+def _quote_line(text: str, message: str) -> str:
+    """The offending line of a TOML error, quoted on the same output line."""
+    m = re.search(r"at line (\d+)", message)
+    if not m:
+        return ""
+    lines = text.splitlines()
+    n = int(m.group(1))
+    if not 1 <= n <= len(lines):
+        return ""
+    line = lines[n - 1].strip()
+    return f": {json.dumps(line[:80])}" if line else ""
 
 
 @lru_cache(maxsize=None)
@@ -324,7 +349,7 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str |
             return f"must be {sign} {shown(k.lo):g}, got {shown(v):g}"
         if k.hi is not None and (v > k.hi or (k.hi_open and v == k.hi)):
             sign = "<" if k.hi_open else "<="
-            unit = " (as a fraction: 0.2 means 20 %)" if k.unit == "fraction" and k.hi == 1.0 else ""
+            unit = " (as a fraction: 0.2 means 20 %)" if k.unit.startswith("fraction") and k.hi == 1.0 else ""
             return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
     return None
 
@@ -365,6 +390,9 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             continue
         if section not in index:
             bad(_key_text(section), "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
+            close = difflib.get_close_matches(section, schema.SECTIONS, n=1, cutoff=0.5)
+            if close and isinstance(table, Mapping):  # its keys were meant for [close]: not reported again as missing
+                misplaced.update(k.path for k in schema.keys_in(close[0]))
             continue
         if not isinstance(table, Mapping):
             bad(section, f"expected a [{section}] table of keys, got {table!r}")
@@ -409,8 +437,9 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         try:
             preset = load_preset(preset_name)
         except KeyError:
+            hint = PRESET_HINTS.get(preset_name.strip().lower())
             bad("crop.preset", f"unknown crop preset {preset_name!r}; expected one of {', '.join(preset_names())}"
-                + _suggest(preset_name, preset_names()))
+                + (f"; for {preset_name} use {hint!r}" if hint else _suggest(preset_name, preset_names())))
     if preset is not None:
         for path, value in preset.values.items():
             if path not in values:
@@ -446,7 +475,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             origin[k.path] = "default"
             notes[k.path] = k.source or "default"
             if k.path == "field.current_margin_per_ha":
-                warnings.append(f"{source}: field.current_margin_per_ha: not given; the current use is taken to earn 0 a year")
+                warnings.append(f"{source}: field.{units.spell(k.template, system)}: not given; "
+                                "the current use is taken to earn 0 a year")
     _derive(values, origin, notes, problems, source)
 
     # 5. physical ranges

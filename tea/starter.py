@@ -35,6 +35,15 @@ EXAMPLES: dict[str, Any] = {
     "revenue.price_per_t_dm": 95.0,
     "finance.discount_rate": 0.06,
 }
+#: example values shown (commented out) for optional keys that have no default
+OPTIONAL_EXAMPLES: dict[str, Any] = {
+    "yield.fresh_moisture": 0.5,
+    "revenue.price_per_gj": 6.5,
+    "revenue.price_path": [1.0, 1.0, 0.95],
+    "finance.mirr_finance_rate": 0.06,
+    "finance.mirr_reinvest_rate": 0.06,
+    "loan.rate": 0.055,
+}
 UNIT_PRICE_EXAMPLE = {"rhizome_grass": 0.11, "seeded_grass": 20.0, "coppice": 0.085}
 COPPICE_EXAMPLES = {"costs.harvest_per_ha": 420.0, "costs.removal_per_ha": 800.0}
 
@@ -99,15 +108,17 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 value, active = preset.values[k.path], False
                 doc += f" Preset: {preset.sources[k.path]}."
             elif k.default in (schema.DERIVED, schema.PRESET) or k.default is None:
-                value, active = None, False
+                value, active = OPTIONAL_EXAMPLES.get(k.path), False
                 if k.default is schema.DERIVED:
                     doc += f" Looked up if left out ({k.source})."
+                elif value is not None:
+                    doc += " Not used unless given; the value shown is an example."
             else:
                 value, active = k.default, False
             spelling, shown = _shown(k, value, system)
             lines.append(f"# {doc}")
             if value is None:
-                lines.append(f"# {spelling} = ")
+                lines.append(f"# {spelling} = ...")
             else:
                 lines.append(("" if active else "# ") + f"{spelling} = {_toml(shown)}")
         lines.append("")

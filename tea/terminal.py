@@ -26,11 +26,14 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
     elif name.startswith("breakeven_price"):
         unit = "money/t DM"
     value, unit = display.convert(value, unit, case.unit_system)
+    if name.startswith("breakeven_mature") and value is not None:
+        return f"{value:,.2f} {unit}"
     if value is None:
         note = res.notes.get(name, "undefined")
         return f"– ({note})"
     if unit.startswith("money"):
-        return display.money(value, display.unit_text(unit, case.currency, price_unit))
+        digits = 2 if name.startswith("breakeven") else None  # a break-even is compared with a price: keep the cents
+        return display.money(value, display.unit_text(unit, case.currency, price_unit), digits)
     if unit == "fraction":
         return display.percent(value)
     if unit == "ratio":
@@ -38,13 +41,16 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
     if name == "years_below_covenant":
         return f"{value:.0f}"
     if unit == "yr":
+        if name in ("payback_year", "discounted_payback_year"):
+            years = (res.whole_field if whole else res.per_ha)[name.removesuffix("_year") + "_years"]
+            return f"year {value:.0f}" + (f" (after {years:.2f} years, interpolated)" if years is not None else "")
         return f"year {value:.0f}" if name.endswith("_year") else f"{value:.1f} years"
     return f"{display.number(value)} {unit}"
 
 
 SUMMARY_ROWS = (
     ("Cash", ("npv", "npv_vs_current_use", "irr", "irr_vs_current_use", "mirr", "eav", "current_margin",
-              "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year",
+              "eav_vs_current_use", "payback_year", "discounted_payback_year",
               "peak_funding_need", "peak_funding_year", "establishment_cost")),
     ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_mature_yield_t_dm_per_ha",
                     "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
