@@ -121,6 +121,35 @@ def fresh_tonnes(dry_t, moisture):
     return dry_t / (1.0 - moisture)
 
 
+#: energy to evaporate water at 25 °C [GJ t⁻¹ of water]: the term the net
+#: calorific value as received loses per tonne of moisture (ISO 18125:2017,
+#: q_net,ar = q_net,d (1 - M) - 2.443 M [MJ/kg]; from memory)
+WATER_VAPORISATION_GJ_PER_T = 2.443
+
+
+def delivered_heating_value(heating_value_dry, moisture):
+    """Net heating value of fuel delivered moist, per tonne of its dry matter.
+
+    A tonne of dry matter delivered at wet-basis moisture M carries M / (1 - M)
+    tonnes of water, whose evaporation the net value loses:
+
+    q = q_dry - 2.443 M / (1 - M)   [GJ (t DM)⁻¹]
+
+    equivalent to ISO 18125's q_net,ar = q_net,d (1 - M) - 2.443 M per fresh tonne.
+
+    Parameters
+    ----------
+    heating_value_dry : float or ndarray
+        Net heating value of the dry matter [GJ (t DM)⁻¹].
+    moisture : float or ndarray
+        Wet-basis moisture at delivery [-].
+
+    >>> round(delivered_heating_value(18.5, 0.5), 3)
+    16.057
+    """
+    return heating_value_dry - WATER_VAPORISATION_GJ_PER_T * moisture / (1.0 - moisture)
+
+
 def price_index(years, change_per_year=0.0, path=None):
     """Real price multiplier by year: (1 + g)^(t - 1) from year 1, or a given path.
 
@@ -134,7 +163,8 @@ def price_index(years, change_per_year=0.0, path=None):
 
     Returns
     -------
-    ndarray (cases, years); year 0 is 0 (nothing is sold at planting).
+    ndarray (cases, years); year 0 is 0 (nothing is sold at planting); year 1 is 1
+    with a change per year, or the path's first multiplier.
 
     Examples
     --------

@@ -22,7 +22,7 @@ from importlib import resources
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
-from . import carbon, schema, units
+from . import carbon, finance, schema, units
 from .errors import CaseError, Problem
 
 #: physical ceiling on a harvested yield [t DM ha⁻¹ yr⁻¹]: from memory, the
@@ -146,7 +146,7 @@ class Case:
         """The real rate the ledger is discounted at (Fisher equation for a nominal rate)."""
         r = self.values["finance.discount_rate"]
         if self.values["finance.rate_basis"] == "nominal":
-            return (1.0 + r) / (1.0 + self.values["finance.inflation"]) - 1.0
+            return float(finance.fisher_real_rate(r, self.values["finance.inflation"]))
         return r
 
     @property
@@ -619,3 +619,21 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
         warn("yield.decline_start_year", f"year {start} is not before the last year ({life}); no decline is modelled")
     if values.get("finance.rate_basis") == "real" and values.get("finance.inflation", 0.0) not in (0, 0.0):
         warn("finance.inflation", "is ignored with rate_basis = real (cash flows are in today's money)")
+    # values that would be silently ignored, and growth never harvested
+    given = set(spelled)
+    n = values.get("harvest.interval_years")
+    if isinstance(life, int) and isinstance(first, int) and isinstance(n, int) and first <= life:
+        left = (life - first) % n
+        if left:
+            warn("harvest.interval_years", f"the last {left} year(s) of growth before removal in year {life} are "
+                 f"never harvested (harvests in year {first} and every {n} years)")
+    if "yield.decline_per_year" in given and not values.get("yield.decline_start_year"):
+        warn("yield.decline_per_year", "is ignored without yield.decline_start_year")
+    if "revenue.price_path" in given and "revenue.price_change_per_year" in given:
+        warn("revenue.price_change_per_year", "is ignored: revenue.price_path replaces it")
+    if "yield.fresh_moisture" in given and "yield.mature_t_dm_per_ha" in given and \
+            not spelled["yield.mature_t_dm_per_ha"].startswith("mature_fresh"):
+        warn("yield.fresh_moisture", "is ignored: the mature yield is given as dry matter")
+    cfy = values.get("carbon.credit_first_year")
+    if isinstance(cfy, int) and isinstance(life, int) and cfy > life and values.get("carbon.credit_price_per_t_co2e"):
+        warn("carbon.credit_first_year", f"year {cfy} is after the stand life ({life} years); no credits are paid")

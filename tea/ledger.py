@@ -59,7 +59,8 @@ LINES: tuple[Line, ...] = (
     Line("growth_fraction", "fraction", "yield", "Growth as a share of the mature yield (ramp-up, plateau, decline)."),
     Line("growth_t_dm", "t DM/ha", "yield", "Dry matter grown this year at the autumn peak, with the site factor."),
     Line("harvest", "flag", "yield", "1 in a harvest year."),
-    Line("standing_t_dm", "t DM/ha", "yield", "Standing dry matter cut: the growth since the previous harvest."),
+    Line("standing_t_dm", "t DM/ha", "yield",
+         "Standing dry matter cut: the growth of the harvest interval's years ending this year."),
     Line("overwinter_loss_t_dm", "t DM/ha", "yield", "Dry matter lost between the autumn peak and a late-winter harvest."),
     Line("field_loss_t_dm", "t DM/ha", "yield", "Dry matter lost in cutting, baling or chipping."),
     Line("harvested_t_dm", "t DM/ha", "yield", "Dry matter taken off the field (the nutrient offtake basis)."),
@@ -68,7 +69,8 @@ LINES: tuple[Line, ...] = (
     Line("moisture", "fraction", "yield", "Moisture content at harvest, wet basis."),
     Line("harvested_fresh_t", "t/ha", "yield", "Fresh tonnes harvested, at harvest moisture."),
     Line("sold_fresh_t", "t/ha", "yield", "Fresh tonnes delivered (haulage basis)."),
-    Line("sold_gj", "GJ/ha", "yield", "Energy delivered: dry matter sold x heating value."),
+    Line("sold_gj", "GJ/ha", "yield",
+         "Energy delivered: dry matter sold x net heating value at the delivered moisture (ISO 18125 relation)."),
     # nutrients
     Line("n_offtake_kg", "kg/ha", "nutrients", "N removed with the harvest."),
     Line("p2o5_offtake_kg", "kg/ha", "nutrients", "P2O5 removed with the harvest."),
@@ -89,7 +91,7 @@ LINES: tuple[Line, ...] = (
     Line("removal_cost", "money/ha", "costs", "Taking the stand out (last year)."),
     Line("total_cost", "money/ha", "costs", "All costs of the year, establishment included."),
     # revenue
-    Line("price_index", "fraction", "revenue", "Real price multiplier (1 in year 1)."),
+    Line("price_index", "fraction", "revenue", "Real price multiplier: (1 + change)^(t - 1), or the case's price path."),
     Line("price_per_t_dm", "money/t DM", "revenue", "Price received per t DM (per-GJ prices through the heating value)."),
     Line("biomass_revenue", "money/ha", "revenue", "Dry matter sold x price."),
     Line("grant", "money/ha", "revenue", "Establishment grant (year 0)."),
@@ -99,7 +101,9 @@ LINES: tuple[Line, ...] = (
     # cash
     Line("net_cash_flow", "money/ha", "cash", "Total revenue - total cost."),
     Line("current_margin", "money/ha", "cash", "Gross margin the current use would have earned (forgone), years 1..L."),
-    Line("incremental_cash_flow", "money/ha", "cash", "Net cash flow - current margin: the change from today's use."),
+    Line("current_use_cash_flow", "money/ha", "cash",
+         "What the field would net under its current use: current margin - rent - overheads (paid under either use)."),
+    Line("incremental_cash_flow", "money/ha", "cash", "Net cash flow - current use cash flow: the change from today's use."),
     Line("discount_factor", "fraction", "cash", "(1 + r)^-t at the real discount rate."),
     Line("discounted_cash_flow", "money/ha", "cash", "Net cash flow x discount factor."),
     Line("cumulative_cash_flow", "money/ha", "cash", "Running total of the net cash flow."),
@@ -122,12 +126,15 @@ LINES: tuple[Line, ...] = (
     Line("credited_t_co2e", "t CO2e/ha", "carbon", "SOC gain credited: gain x 44/12 x (1 - buffer), from the first credited year."),
     # establishment loan
     Line("loan_drawdown", "money/ha", "loan", "Loan drawn at planting: share x year-0 establishment cost."),
-    Line("loan_interest", "money/ha", "loan", "Interest due on the opening balance (capitalised in grace years if so chosen)."),
-    Line("loan_principal", "money/ha", "loan", "Principal repaid (level payment - interest)."),
-    Line("debt_service", "money/ha", "loan", "Interest paid + principal repaid."),
-    Line("loan_balance", "money/ha", "loan", "Balance owed at the end of the year."),
-    Line("dscr", "ratio", "loan", "Net cash flow / debt service, in years with debt service (blank otherwise)."),
-    Line("equity_cash_flow", "money/ha", "loan", "Net cash flow + drawdown - debt service: the grower's own cash."),
+    Line("loan_interest", "money/ha", "loan",
+         "Interest due on the opening balance (capitalised in grace years if so chosen); money of the year (nominal)."),
+    Line("loan_principal", "money/ha", "loan", "Principal repaid (level payment - interest); money of the year."),
+    Line("debt_service", "money/ha", "loan", "Interest paid + principal repaid; money of the year."),
+    Line("loan_balance", "money/ha", "loan", "Balance owed at the end of the year; money of the year."),
+    Line("dscr", "ratio", "loan",
+         "Net cash flow in money of the year (x (1 + inflation)^t in a nominal case) / debt service; blank without debt service."),
+    Line("equity_cash_flow", "money/ha", "loan",
+         "Net cash flow + drawdown - debt service in today's money (/ (1 + inflation)^t): the grower's own cash."),
 )
 LINE_NAMES = tuple(line.name for line in LINES)
 BY_NAME = {line.name: line for line in LINES}
@@ -160,8 +167,8 @@ def _labels(*parts: Any) -> np.ndarray:
 
 
 def _is_wet(climate: str) -> bool:
-    """IPCC moisture regime of a climate zone: moist and wet zones are 'wet' for N2O leaching."""
-    return climate.endswith("moist") or climate.endswith("wet")
+    """IPCC moisture regime of a climate zone for the N2O factors: the same regime as the SOC factors."""
+    return carbon.climate_regimes(climate)[1] == "moist_wet"
 
 
 def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
@@ -182,16 +189,21 @@ def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
         return _lookup(site, factor)
 
     gwp_n2o = _lookup(c["carbon.gwp"], lambda s: carbon.gwp("N2O", s))
+    pick = lambda autumn, winter: np.where(late > 0, _col(c[winter]), _col(c[autumn]))  # noqa: E731
+    moisture = pick("harvest.moisture_autumn", "harvest.moisture_late_winter")
     hv = _col(c["revenue.heating_value_gj_per_t_dm"])
+    hv_delivered = agronomy.delivered_heating_value(hv, moisture)  # a per-GJ price pays for this
     if c.get("revenue.price_per_gj") is not None:
-        price = _col(c["revenue.price_per_gj"]) * hv
+        price = _col(c["revenue.price_per_gj"]) * hv_delivered
     else:
         price = _col(c["revenue.price_per_t_dm"])
-    pick = lambda autumn, winter: np.where(late > 0, _col(c[winter]), _col(c[autumn]))  # noqa: E731
+    nominal = _lookup(c["finance.rate_basis"], lambda s: float(s == "nominal"))
 
     p: dict[str, Any] = {
         "life": _col(c["finance.stand_life_years"], int),
         "rate": _col(_real_rate(c)),
+        # inflation that turns the loan's nominal payments into the ledger's real money (0 for a real case)
+        "loan_inflation": nominal * _col(c["finance.inflation"]),
         # establishment
         "site_prep": _col(c["establishment.site_preparation_per_ha"]),
         "weed": _col(c["establishment.weed_control_per_ha"]),
@@ -214,8 +226,9 @@ def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
         "retention": np.where(late > 0, 1.0 - _col(c["harvest.overwinter_dm_loss"]), 1.0),
         "field_loss": _col(c["harvest.field_loss"]),
         "storage_loss": _col(c["harvest.storage_loss"]),
-        "moisture": pick("harvest.moisture_autumn", "harvest.moisture_late_winter"),
+        "moisture": moisture,
         "hv": hv,
+        "hv_delivered": hv_delivered,
         # nutrients
         "n_per_t": pick("nutrients.n_autumn_kg_per_t_dm", "nutrients.n_late_winter_kg_per_t_dm"),
         "p_per_t": pick("nutrients.p2o5_autumn_kg_per_t_dm", "nutrients.p2o5_late_winter_kg_per_t_dm"),
@@ -281,8 +294,9 @@ def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
     return p
 
 
-def _real_rate(c: Mapping[str, Any]) -> Any:
-    r = np.asarray(c["finance.discount_rate"], dtype=float)
+def _real_rate(c: Mapping[str, Any], key: str = "finance.discount_rate") -> Any:
+    """A rate of the case as a real rate: nominal ones through the Fisher equation."""
+    r = np.asarray(c[key], dtype=float)
     basis = np.asarray(c["finance.rate_basis"])
     nominal = finance.fisher_real_rate(r, np.asarray(c["finance.inflation"], dtype=float))
     return np.where(basis == "nominal", nominal, r)
@@ -339,7 +353,7 @@ def compute(p: Mapping[str, Any], n_years: int | None = None) -> dict[str, np.nd
     L["moisture"] = L["harvest"] * p["moisture"]
     L["harvested_fresh_t"] = agronomy.fresh_tonnes(L["harvested_t_dm"], p["moisture"])
     L["sold_fresh_t"] = agronomy.fresh_tonnes(L["sold_t_dm"], p["moisture"])
-    L["sold_gj"] = L["sold_t_dm"] * p["hv"]
+    L["sold_gj"] = L["sold_t_dm"] * p["hv_delivered"]
 
     # nutrients
     L["n_offtake_kg"] = L["harvested_t_dm"] * p["n_per_t"]
@@ -406,7 +420,8 @@ def compute(p: Mapping[str, Any], n_years: int | None = None) -> dict[str, np.nd
     # cash
     L["net_cash_flow"] = L["total_revenue"] - L["total_cost"]
     L["current_margin"] = active * p["margin"]
-    L["incremental_cash_flow"] = L["net_cash_flow"] - L["current_margin"]
+    L["current_use_cash_flow"] = L["current_margin"] - L["rent"] - L["overheads"]
+    L["incremental_cash_flow"] = L["net_cash_flow"] - L["current_use_cash_flow"]
     L["discount_factor"] = (1.0 + p["rate"]) ** -T
     L["discounted_cash_flow"] = L["net_cash_flow"] * L["discount_factor"]
     L["cumulative_cash_flow"] = np.cumsum(L["net_cash_flow"], axis=1)
@@ -418,9 +433,12 @@ def compute(p: Mapping[str, Any], n_years: int | None = None) -> dict[str, np.nd
     year0_cost = L["establishment_cost"][:, :1]
     L.update(loan.schedule(p["loan_share"] * year0_cost, p["loan_rate"], p["loan_term"], p["loan_grace"],
                            p["loan_capitalised"] > 0, n_years))
-    L["dscr"] = loan.dscr(L["net_cash_flow"], L["debt_service"])
-    L["equity_cash_flow"] = L["net_cash_flow"] + L["loan_drawdown"] - L["debt_service"]
-    assert set(L) == set(LINE_NAMES), set(LINE_NAMES) ^ set(L)
+    # the loan is contracted in money of the year; the ledger is in today's money (real)
+    to_nominal = (1.0 + p["loan_inflation"]) ** T
+    L["dscr"] = loan.dscr(L["net_cash_flow"] * to_nominal, L["debt_service"])
+    L["equity_cash_flow"] = L["net_cash_flow"] + (L["loan_drawdown"] - L["debt_service"]) / to_nominal
+    if set(L) != set(LINE_NAMES):
+        raise RuntimeError(f"ledger lines computed and declared differ: {sorted(set(LINE_NAMES) ^ set(L))}")
     return L
 
 

@@ -10,8 +10,10 @@ every ledger flow after year 0 does.
 
 DSCR (debt service cover ratio) = cash flow available for debt service / debt
 service, for years with debt service; the cash flow available is the stand's
-net cash flow before financing (7 CFR § 1744.21 defines the ratio the same way
-for farm lending: cash available over principal and interest).
+net cash flow before financing (the usual definition: cash available over
+principal and interest; 7 CFR § 1744.21, a US federal loan rule, defines it so).
+In a nominal case the loan is contracted in money of the year while the
+ledger is in today's money: the ledger converts with (1 + inflation)^t.
 """
 
 from __future__ import annotations

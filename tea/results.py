@@ -46,13 +46,17 @@ class Figure:
 
 FIGURES: tuple[Figure, ...] = (
     Figure("npv", "money/ha", True, "Net present value of the stand's own cash flows."),
-    Figure("npv_vs_current_use", "money/ha", True, "NPV of the change from today's use (stand minus current margin)."),
-    Figure("pv_current_use", "money/ha", True, "Present value of the current use's margin over the stand life."),
+    Figure("npv_vs_current_use", "money/ha", True,
+           "NPV of the change from today's use: stand cash flow minus the current use's (margin - rent - overheads)."),
+    Figure("pv_current_use", "money/ha", True,
+           "Present value of what the field nets under its current use (margin - rent - overheads) over the stand life."),
     Figure("irr", "fraction", False, "Internal rate of return of the stand's cash flows (real)."),
     Figure("irr_vs_current_use", "fraction", False, "IRR of the incremental cash flows."),
     Figure("mirr", "fraction", False, "Modified IRR (finance and reinvestment rates as the case says)."),
     Figure("eav", "money/ha/yr", True, "Equivalent annual value of the stand: NPV / annuity factor."),
     Figure("current_margin", "money/ha/yr", True, "The current use's yearly gross margin."),
+    Figure("current_use_net", "money/ha/yr", True,
+           "What the field nets a year under its current use: margin - rent - overheads."),
     Figure("eav_vs_current_use", "money/ha/yr", True, "How much more (or less) a year the stand earns than today's use."),
     Figure("payback_year", "yr", False, "First year the cumulative cash flow is back to zero."),
     Figure("payback_years", "yr", False, "Simple payback, interpolated within the year."),
@@ -121,7 +125,7 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     out: dict[str, np.ndarray] = {}
     out["npv"] = np.sum(net * df, axis=1)
     out["npv_vs_current_use"] = np.sum(inc * df, axis=1)
-    out["pv_current_use"] = np.sum(L["current_margin"] * df, axis=1)
+    out["pv_current_use"] = np.sum(L["current_use_cash_flow"] * df, axis=1)
     out["irr"] = np.atleast_1d(finance.irr(net))
     out["irr_vs_current_use"] = np.atleast_1d(finance.irr(inc))
     fin = p.get("mirr_finance_rate", p["rate"])[:, 0]
@@ -130,6 +134,7 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     af = finance.annuity_factor(rate, life)
     out["eav"] = out["npv"] / af
     out["current_margin"] = p["margin"][:, 0] * np.ones_like(rate)
+    out["current_use_net"] = (p["margin"] - p["rent"] - p["overheads"])[:, 0] * np.ones_like(rate)
     out["eav_vs_current_use"] = out["npv_vs_current_use"] / af
     y, yy = finance.payback(net)
     out["payback_year"], out["payback_years"] = np.atleast_1d(y), np.atleast_1d(yy)
@@ -140,7 +145,7 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     unit_pv = np.sum(L["sold_t_dm"] * L["price_index"] * df, axis=1)  # per unit of price per t DM
     price0 = p["price"][:, 0]
     per_gj = p.get("price_basis_gj", np.zeros_like(p["price"]))[:, 0] > 0
-    hv = p["hv"][:, 0]
+    hv = p["hv_delivered"][:, 0]
     with np.errstate(divide="ignore", invalid="ignore"):
         be = np.where(unit_pv > 0, price0 - out["npv"] / unit_pv, np.nan)
         be_inc = np.where(unit_pv > 0, price0 - out["npv_vs_current_use"] / unit_pv, np.nan)
@@ -324,7 +329,6 @@ def with_case_options(case_or_values: Case | Mapping[str, Any], p: dict[str, Any
     p["price_basis_gj"] = ledger._col(np.asarray(v.get("revenue.price_per_gj") is not None, dtype=float))
     p["dscr_covenant"] = ledger._col(v["loan.dscr_covenant"])
     for key in ("mirr_finance_rate", "mirr_reinvest_rate"):
-        given = v.get(f"finance.{key}")
-        if given is not None:
-            p[key] = ledger._col(given)
+        if v.get(f"finance.{key}") is not None:  # in the case's rate basis, like the discount rate
+            p[key] = ledger._col(ledger._real_rate(v, f"finance.{key}"))
     return p

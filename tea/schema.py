@@ -38,28 +38,8 @@ PRESET = _Marker("PRESET")
 REQUIRED = _Marker("REQUIRED")
 DERIVED = _Marker("DERIVED")
 
-CLIMATES = (
-    "boreal",
-    "cool_temperate_dry",
-    "cool_temperate_moist",
-    "warm_temperate_dry",
-    "warm_temperate_moist",
-    "tropical_dry",
-    "tropical_moist",
-    "tropical_wet",
-)
-SOILS = ("high_activity_clay", "low_activity_clay", "sandy", "spodic", "volcanic")
-LAND_USES = (
-    "cropland_full_till",
-    "cropland_reduced_till",
-    "cropland_no_till",
-    "cropland_low_input",
-    "set_aside",
-    "grassland",
-    "grassland_degraded",
-    "grassland_improved",
-    "perennial_crop",
-)
+# the IPCC climate zones, soil classes and land uses the carbon tables cover
+from .carbon import CLIMATES, LAND_USES, SOILS  # noqa: E402
 
 
 @dataclass(frozen=True)
@@ -102,8 +82,8 @@ class Key:
         num, den = [], []
         if self.money:
             num.append(currency or "currency")
-        for name, exponent in units.slots_of(self.template):
-            word = units.SYSTEMS[system][name].replace("_", " ")
+        for name, exponent, what in units.slots_with_substance(self.template):
+            word = units.SYSTEMS[system][name].replace("_", " ") + (f" {what}" if what else "")
             (num if exponent > 0 else den).append(word)
         if self.unit.startswith("/"):
             den.append(self.unit[1:])
@@ -259,11 +239,11 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "diesel_{l}_per_{t}_dm", "float", PRESET, "Diesel burnt baling or chipping, per t DM harvested.", lo=0.0),
     _k("carbon", "diesel_removal_{l}_per_{ha}", "float", PRESET, "Diesel burnt removing the stand.", lo=0.0),
     *(
-        _k("carbon", f"{nut}_manufacture_{{kg}}_co2e_per_{{kg}}", "float", DERIVED, f"Emissions from making one unit of {label}.", unit="CO2e",
+        _k("carbon", f"{nut}_manufacture_{{kg}}_co2e_per_{{kg}}", "float", DERIVED, f"Emissions from making one unit of {label}.",
            lo=0.0, warn_hi=15.0, source="tea/data/ipcc.toml (from memory)")
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
-    _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.", unit="CO2e",
+    _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
        lo=0.0, warn_hi=1.0, source="tea/data/ipcc.toml (from memory)"),
     _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
     _k("carbon", "credit_first_year", "int", 1, "First year credits are paid.", lo=0),

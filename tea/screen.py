@@ -60,7 +60,7 @@ MAX_GROUP_SHARE = 1.0 / 256.0
 
 #: the figures the lean path computes (names as in :data:`tea.results.FIGURE_NAMES`)
 LEAN_FIGURES = (
-    "npv", "npv_vs_current_use", "pv_current_use", "irr", "irr_vs_current_use", "eav", "current_margin",
+    "npv", "npv_vs_current_use", "pv_current_use", "irr", "irr_vs_current_use", "eav", "current_margin", "current_use_net",
     "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year", "discounted_payback_years",
     "breakeven_price", "breakeven_price_vs_current_use", "peak_funding_need", "peak_funding_year",
     "establishment_cost", "sold_t_dm", "sold_gj", "mean_sold_t_dm_per_year", "soc_start_t_c_per_ha",
@@ -410,11 +410,15 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
     for i, k in enumerate(terms):
         C[i] = c[k]
     margin = g("margin")
+    # the current use nets its margin less the rent and overheads it pays too (tea.ledger: current_use_cash_flow)
+    current_net = margin - g("rent") - g("overheads")
     active_i = pat.index["active"]
     C_inc = C.copy()
-    C_inc[active_i] -= margin
+    C_inc[active_i] -= current_net
     rate = g("rate")
     life = pat.life
+    # the loan is in money of the year; the ledger in today's money (tea.ledger: to_nominal)
+    to_nominal = (1.0 + g("loan_inflation")[None, :]) ** pat.T[:, None]  # (years, rows)
     out: dict[str, np.ndarray] = {}
 
     def need(*keys: str) -> bool:
@@ -439,16 +443,17 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
         pv_terms = None
         pv_active = pat.active @ df
         npv = np.einsum("tm,tm->m", net, df) if net is not None else np.einsum("kt,tm,km->m", pat.P, df, C)
-        npv_inc = npv - margin * pv_active
+        npv_inc = npv - current_net * pv_active
         af = finance.annuity_factor(rate, life)
         rev_pv = pat.P[pat.index["revenue"]] @ df
         credit_pv = pat.P[pat.index["credit"]] @ df
 
     out["npv"] = npv
     out["npv_vs_current_use"] = npv_inc
-    out["pv_current_use"] = margin * pv_active
+    out["pv_current_use"] = current_net * pv_active
     out["eav"] = npv / af
     out["current_margin"] = margin.copy()
+    out["current_use_net"] = current_net
     out["eav_vs_current_use"] = npv_inc / af
     if need("irr"):
         out["irr"] = np.atleast_1d(finance.irr(net.T))
@@ -472,7 +477,8 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
             rows = np.flatnonzero(principal > 0)
             low = cum.min(axis=0)
             if rows.size:
-                eq = cum[:, rows] + pat.cum_draw_less_service[:, None] * principal[None, rows]
+                eq = cum[:, rows] + _running_total(
+                pat.draw_less_service[:, None] * principal[None, rows] / to_nominal[:, rows])
                 low[rows] = eq.min(axis=0)
             out["equity_peak_funding_need"] = np.maximum(0.0, -low)
         if "cumulative_cash_flow" in lines:
@@ -491,7 +497,7 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
         out["net_cash_flow"] = net
     if "equity_cash_flow" in lines:
         principal = g("loan_share") * x["est0"]
-        out["equity_cash_flow"] = net + pat.draw_less_service[:, None] * principal[None, :]
+        out["equity_cash_flow"] = net + pat.draw_less_service[:, None] * principal[None, :] / to_nominal
 
     # break-even price: NPV is linear in the price; unit_pv is the PV of the revenue per unit price
     unit_pv = x["sold"] * rev_pv
@@ -500,7 +506,7 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
         be = np.where(unit_pv > 0, price0 - npv / unit_pv, np.nan)
         be_inc = np.where(unit_pv > 0, price0 - npv_inc / unit_pv, np.nan)
     per_gj = g("price_basis_gj") > 0
-    hv = g("hv")
+    hv = g("hv_delivered")  # a per-GJ price pays for the heating value at the delivered moisture
     out["breakeven_price"] = np.where(per_gj, be / hv, be)
     out["breakeven_price_vs_current_use"] = np.where(per_gj, be_inc / hv, be_inc)
 
@@ -559,7 +565,7 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
         has = np.flatnonzero(principal > 0)
         if cols.size and has.size:
             service = pat.debt_service[cols][:, None] * principal[None, has]  # (service years, rows)
-            ratio = net[np.ix_(cols, has)] / service
+            ratio = net[np.ix_(cols, has)] * to_nominal[np.ix_(cols, has)] / service
             pick = np.argmin(ratio, axis=0)
             low[has] = ratio[pick, np.arange(has.size)]
             low_year[has] = cols[pick]

@@ -27,7 +27,8 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
         unit = "money/t DM"
     value, unit = display.convert(value, unit, case.unit_system)
     if name.startswith("breakeven_mature") and value is not None:
-        return f"{value:,.2f} {unit}"
+        given, _ = display.convert(case["yield.mature_t_dm_per_ha"], fig.unit, case.unit_system)
+        return f"{value:,.2f} {unit} (case: {given:,.2f})"
     if value is None:
         note = res.notes.get(name, "undefined")
         return f"– ({note})"
@@ -50,7 +51,7 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
 
 SUMMARY_ROWS = (
     ("Cash", ("npv", "npv_vs_current_use", "irr", "irr_vs_current_use", "mirr", "eav", "current_margin",
-              "eav_vs_current_use", "payback_year", "discounted_payback_year",
+              "current_use_net", "eav_vs_current_use", "payback_year", "discounted_payback_year",
               "peak_funding_need", "peak_funding_year", "establishment_cost")),
     ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_mature_yield_t_dm_per_ha",
                     "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
@@ -70,6 +71,7 @@ LABELS = {
     "mirr": "MIRR",
     "eav": "Equivalent annual value",
     "current_margin": "Current use margin",
+    "current_use_net": "Current use, after rent+overheads",
     "eav_vs_current_use": "EAV vs current use",
     "payback_year": "Payback",
     "payback_years": "Payback (interpolated)",
@@ -145,6 +147,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             continue
         out.append(f"{title} (per {per} | whole field)")
         for name in names:
+            if name in ("credited_t_co2e", "carbon_credit_pv") and not case["carbon.credit_price_per_t_co2e"]:
+                continue
             per_ha = _fig(res, case, name)
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
@@ -155,6 +159,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         out.append("")
     for w in case.warnings:
         out.append(f"warning: {w}")
+    if case.preset.non_native_warning:
+        out.append("note: this crop is non-native in many regions: the planting-rules caution below applies.")
     out.append("Cautions:")
     out.extend(f"  - {c}" for c in CAUTIONS)
     return "\n".join(out)
@@ -201,6 +207,7 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
     payload["tool_version"] = __version__
     payload["demo_data"] = bool(case["case.demo"])
     payload["unit_system"] = case.unit_system
+    payload["non_native_crop"] = bool(case.preset.non_native_warning)
     payload["ledger"] = {
         "per": "ha",
         "years": [int(y) for y in frame["year"]],

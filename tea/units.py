@@ -63,6 +63,23 @@ def slots_of(template: str) -> list[tuple[str, int]]:
     return out
 
 
+#: what a mass slot weighs, from the word after it in a key: ``{t}_dm`` is t of dry matter
+_SUBSTANCES = {"dm": "DM", "c": "C", "co2e": "CO2e"}
+
+
+def slots_with_substance(template: str) -> list[tuple[str, int, str]]:
+    """The slots of a template with their exponent and what they measure (``DM``, ``C``, ``CO2e`` or "").
+
+    >>> slots_with_substance("n_autumn_{kg}_per_{t}_dm")
+    [('kg', 1, ''), ('t', -1, 'DM')]
+    """
+    out = []
+    for (name, exponent), m in zip(slots_of(template), _SLOT_RE.finditer(template)):
+        after = template[m.end():].lstrip("_").split("_", 1)[0]
+        out.append((name, exponent, _SUBSTANCES.get(after, "")))
+    return out
+
+
 def spell(template: str, system: str | dict[str, str] = "metric") -> str:
     """A key template spelled in one unit system.
 

@@ -190,7 +190,11 @@ class TestCashIdentities:
     def test_net_is_revenue_minus_cost(self, stem, demo):
         _, f, _ = demo[stem]
         assert_allclose(f["net_cash_flow"], f["total_revenue"] - f["total_cost"], rtol=1e-13, atol=0)
-        assert_allclose(f["incremental_cash_flow"], f["net_cash_flow"] - f["current_margin"], rtol=1e-13, atol=0)
+        # rent and overheads are paid under either use, so the current use nets margin - rent - overheads
+        # (common practice: a partial budget counts only what changes)
+        current_use = f["current_margin"] - f["rent"] - f["overheads"]
+        assert_allclose(f["current_use_cash_flow"], current_use, rtol=1e-13, atol=0)
+        assert_allclose(f["incremental_cash_flow"], f["net_cash_flow"] - current_use, rtol=1e-13, atol=1e-12)
 
     @pytest.mark.parametrize("stem", DEMO_IDS)
     def test_totals_are_sums_of_their_lines(self, stem, demo):
