@@ -392,6 +392,113 @@ def compare_cumulative(
     return _finish(fig, name, "Running total of cash, all cases", alt)
 
 
+#: bar colours of the tornado: the input at its low value, at its high value (not good/bad: that is the sign)
+TORNADO_LOW, TORNADO_HIGH = "#c0762a", ACCENT
+#: height of one input's row of the tornado [in], and the room for the axis, legend and margins [in]
+TORNADO_ROW_IN, TORNADO_FRAME_IN = 0.145, 0.44
+#: extra room left of the input labels [in]
+TORNADO_LABEL_SLACK_IN = 0.12
+
+
+def tornado(
+    labels: Sequence[str],
+    low: Sequence[float],
+    high: Sequence[float],
+    base: float,
+    unit_label: str,
+    *,
+    figure: str = "NPV",
+    name: str = "tornado",
+    width_in: float = 7.2,
+    row_in: float = TORNADO_ROW_IN,
+    scale: float = 1.0,
+    title: str | None = None,
+) -> Chart:
+    """A tornado chart: a figure with each input at its low and its high value, one row per input.
+
+    One-factor-at-a-time ranges drawn as a tornado diagram (A. C. Eschenbach,
+    "Spiderplots versus tornado diagrams for sensitivity analysis",
+    *Interfaces* 22(6), 40-46, 1992, doi:10.1287/inte.22.6.40). Each bar runs
+    from the base value to the figure's value with the input moved; the rows
+    come in the order given (largest swing first, at the top).
+
+    Parameters
+    ----------
+    labels : sequence of str
+        One label per input, e.g. ``"Biomass price (75.0 / 115 EUR/t DM)"``; a
+        label may hold a line break.
+    low, high : sequence of float
+        The figure with the input at its low and at its high value [money per area unit].
+    base : float
+        The figure with every input at its base value [money per area unit].
+    unit_label : str
+        Axis unit, e.g. ``"EUR per ha"``.
+    figure : str
+        The figure's name on the axis, e.g. ``"NPV"``.
+    width_in : float
+        Width of the chart [in]; below 4 in, the axis text and the legend take two lines.
+    row_in : float
+        Height of one input's row [in] (about twice the default for two-line labels).
+    scale : float
+        Share of the normal height (denser pages draw shorter rows).
+    title : str, optional
+        Heading above the chart; default "What moves the <figure>".
+    """
+    n = len(labels)
+    if not (n == len(low) == len(high)) or n == 0:
+        raise ValueError("tornado: expected one low and one high value per label (at least one)")
+    narrow = width_in < 4.0
+    height = (row_in * n + TORNADO_FRAME_IN * (1.35 if narrow else 1.0)) * scale
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height)
+        ax = fig.add_subplot()
+        ax.set_facecolor("none")
+        lo_all, hi_all = min(list(low) + list(high) + [base]), max(list(low) + list(high) + [base])
+        span = (hi_all - lo_all) or max(abs(base), 1.0)
+        pad = 0.05 if narrow else 0.65 / width_in  # room for the value labels at the bar ends, a share of the span
+        for i, (lo, hi) in enumerate(zip(low, high)):
+            y = n - 1 - i
+            # the longer bar first, so that a shorter one on the same side stays visible on top of it
+            for value, colour in sorted(((lo, TORNADO_LOW), (hi, TORNADO_HIGH)), key=lambda vc: -abs(vc[0] - base)):
+                ax.barh(y, value - base, left=base, height=0.62, color=colour, linewidth=0)
+            if lo == hi == base:
+                ax.text(base + 0.01 * span, y, "no change", va="center", ha="left", fontsize=5.6, color=MUTED)
+                continue
+            if narrow:  # no room for value labels: the axis gives the scale
+                continue
+            left, right = min(lo, hi), max(lo, hi)
+            if left < base:
+                ax.text(left - 0.008 * span, y, _tick(left), va="center", ha="right", fontsize=5.6, color=INK)
+            if right > base:
+                ax.text(right + 0.008 * span, y, _tick(right), va="center", ha="left", fontsize=5.6, color=INK)
+        ax.axvline(base, color=INK, linewidth=0.8)
+        ax.set_yticks(range(n))
+        ax.set_yticklabels([plain(t) for t in reversed(labels)])
+        ax.tick_params(axis="y", length=0)
+        ax.set_ylim(-0.6, n - 0.4)
+        ax.set_xlim(lo_all - pad * span, hi_all + pad * span)
+        ax.xaxis.set_major_formatter(_Ticks())
+        ax.xaxis.set_major_locator(MaxNLocator(nbins=3 if narrow else 8))
+        ax.grid(axis="x", color="#dddddd", linewidth=0.4)
+        ax.set_axisbelow(True)
+        ax.spines["left"].set_visible(False)
+        ax.set_xlabel(plain(f"{figure} [{unit_label}]" + ("\n" if narrow else "; ") + f"the line is the base, {_tick(base)}"))
+        from matplotlib.patches import Patch
+
+        words = ("input low", "input high") if narrow else ("input at its low value", "input at its high value")
+        ax.legend(handles=[Patch(color=TORNADO_LOW, label=words[0]), Patch(color=TORNADO_HIGH, label=words[1])],
+                  loc="lower right", bbox_to_anchor=(1.0, 1.0), ncol=2, handlelength=1.2, columnspacing=1.0,
+                  borderaxespad=0.1, borderpad=0.1)
+        fig.tight_layout(pad=0.3)
+        # room to spare on the left: the page's text engine may set the labels a little wider than matplotlib
+        fig.subplots_adjust(left=fig.subplotpars.left + TORNADO_LABEL_SLACK_IN / width_in)
+    top = max(range(n), key=lambda i: abs(high[i] - low[i]))
+    alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
+           f"largest swing first; base {_tick(base)}; the largest swing, {' '.join(labels[top].split())}: "
+           f"from {_tick(low[top])} to {_tick(high[top])}.")
+    return _finish(fig, name, title or f"What moves the {figure}", alt)
+
+
 def finite(values: Sequence[float]) -> list[float]:
     """Values with NaN and infinities replaced by 0 (blank ledger cells such as DSCR)."""
     return [float(v) if math.isfinite(float(v)) else 0.0 for v in values]

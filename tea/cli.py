@@ -37,6 +37,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         raise CaseError(problems)
     outputs = [p for p in (args.xlsx, args.pdf, args.html) if p]
     _check_outputs(outputs, args.force)
+    sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
     for case in cases:
         for w in case.warnings:
             print(f"warning: {w}", file=sys.stderr)
@@ -53,18 +54,20 @@ def _cmd_run(args: argparse.Namespace) -> int:
         from .workbook import write_portfolio, write_workbook
 
         if len(cases) == 1:
-            write_workbook(cases[0], ledgers[0], results[0], args.xlsx, force=args.force)
+            write_workbook(cases[0], ledgers[0], results[0], args.xlsx, force=args.force, sensitivity=sensitivity)
         else:
-            write_portfolio(cases, ledgers, results, args.xlsx, force=args.force)
+            write_portfolio(cases, ledgers, results, args.xlsx, force=args.force, sensitivity=sensitivity)
         print(f"wrote {args.xlsx}", file=sys.stderr)
     for out, kind in ((args.pdf, "pdf"), (args.html, "html")):
         if out:
             from .report import render_comparison, render_summary
 
             if len(cases) == 1:
-                render_summary(cases[0], ledgers[0], results[0], out, force=args.force, page_size=args.page_size)
+                render_summary(cases[0], ledgers[0], results[0], out, force=args.force, page_size=args.page_size,
+                               sensitivity=sensitivity)
             else:
-                render_comparison(cases, ledgers, results, out, force=args.force, page_size=args.page_size)
+                render_comparison(cases, ledgers, results, out, force=args.force, page_size=args.page_size,
+                                  sensitivity=sensitivity)
             print(f"wrote {out}", file=sys.stderr)
     return 0
 
@@ -147,6 +150,9 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--pdf", metavar="OUT.pdf", help="write the printed summary as PDF")
     run.add_argument("--html", metavar="OUT.html", help="write the printed summary as HTML")
     run.add_argument("--page-size", choices=("A4", "Letter"), help="paper size (default: the case's)")
+    run.add_argument("--sensitivity", action="store_true",
+                     help="add what moves NPV (tornado chart, workbook sheet) to --pdf/--html/--xlsx even where "
+                     "a case has no [sensitivity] section")
     run.add_argument("--force", action="store_true", help="overwrite existing output files")
     run.set_defaults(func=_cmd_run)
 

@@ -25,7 +25,10 @@ One page
 A case's page must fit one sheet. The page is laid out at the densest setting
 needed: the layout is measured with the PDF engine at density 0 and, if it
 runs over, again one step denser (smaller type, shorter charts, a condensed
-yearly table), up to :data:`MAX_DENSITY`.
+yearly table), up to :data:`MAX_DENSITY`. A page with the tornado chart of
+NPV (see :func:`render_summary`) has one step more, :data:`BESIDE`: the
+densest type with the chart moved from below the other charts into the
+yearly-table block, beside the table.
 """
 
 from __future__ import annotations
@@ -65,6 +68,8 @@ TEMPLATES = _templates_folder()
 PAGE_SIZES = {"a4": "A4", "letter": "Letter"}
 #: densest layout tried before giving up on one page
 MAX_DENSITY = 4
+#: the last layout step of a page with a tornado chart: type of MAX_DENSITY, the chart beside the yearly table
+BESIDE = MAX_DENSITY + 1
 #: chart height per density step, as a share of the normal height
 _CHART_SCALE = (1.0, 0.92, 0.84, 0.76, 0.70)
 #: yearly rows shown in full before runs of identical years are condensed
@@ -85,7 +90,7 @@ def render_summary(
     *,
     force: bool = False,
     page_size: str | None = None,
-    sensitivity: charts.Chart | None = None,
+    sensitivity: charts.Chart | bool | None = None,
 ) -> Path:
     """Write one case's printed summary, one page, as PDF or HTML.
 
@@ -100,8 +105,11 @@ def render_summary(
         Replace an existing file.
     page_size : {"A4", "Letter"}, optional
         Paper size; default the case's ``case.page_size``.
-    sensitivity : tea.charts.Chart, optional
-        A sensitivity chart to show beside the other charts (left out when None).
+    sensitivity : bool or tea.charts.Chart, optional
+        What moves the NPV, below the other charts: by default (None) the
+        tornado chart of NPV when the case has a ``[sensitivity]`` section;
+        True always shows it, False never; a :class:`tea.charts.Chart` is
+        shown instead of it.
 
     Returns
     -------
@@ -110,10 +118,9 @@ def render_summary(
     """
     path, kind = _target(path, force)
     size = _page_size(page_size, case)
-    if sensitivity is not None and not isinstance(sensitivity, charts.Chart):
-        raise TypeError("sensitivity: expected a tea.charts.Chart")
-    key = ("summary", case.hash, case.source, size, sensitivity.svg if sensitivity else None)
-    page = lambda density: _case_page(case, ledger, results, "case-0", density, sensitivity)  # noqa: E731
+    tornado = _SensitivityViews(case, sensitivity, "case-0")
+    key = ("summary", case.hash, case.source, size, tornado.key)
+    page = lambda density: _case_page(case, ledger, results, "case-0", density, tornado)  # noqa: E731
 
     def html_at(density: int) -> str:
         return _render("summary.html.j2", page_size=size, page=page(density),
@@ -121,7 +128,7 @@ def render_summary(
 
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
         return atomic_write_text(path, html_at(_fit_cache[key]), force=True)
-    density, doc = _fit_one(html_at, _first_density(case, ledger))
+    density, doc = _fit_one(html_at, _first_density(case, ledger), tornado.last_density)
     _remember(key, density)
     if kind == "html":
         return atomic_write_text(path, html_at(density), force=True)
@@ -136,6 +143,7 @@ def render_comparison(
     *,
     force: bool = False,
     page_size: str | None = None,
+    sensitivity: bool | None = None,
 ) -> Path:
     """Write the advisor's comparison report: the cases side by side, then each case's page.
 
@@ -149,24 +157,32 @@ def render_comparison(
         Replace an existing file.
     page_size : {"A4", "Letter"}, optional
         Paper size; default the first case's ``case.page_size``.
+    sensitivity : bool, optional
+        The tornado chart of NPV on each case's page: by default (None) on
+        the pages of the cases that have a ``[sensitivity]`` section; True on
+        every case's page, False on none.
     """
     if not (len(cases) == len(ledgers) == len(results)) or not cases:
         raise ValueError("render_comparison: expected as many ledgers and results as cases (at least one)")
+    if sensitivity is not None and not isinstance(sensitivity, bool):
+        raise TypeError("sensitivity: expected True, False or None")
     path, kind = _target(path, force)
     size = _page_size(page_size, cases[0])
     overview = _overview(cases, ledgers, results, size)
     meta = _meta(cases, results)
+    tornadoes = [_SensitivityViews(c, sensitivity, f"case-{i}") for i, c in enumerate(cases)]
 
     def html_at(densities: Sequence[int]) -> str:
-        pages = [_case_page(c, f, r, f"case-{i}", d, None)
-                 for i, (c, f, r, d) in enumerate(zip(cases, ledgers, results, densities))]
+        pages = [_case_page(c, f, r, f"case-{i}", d, t)
+                 for i, (c, f, r, d, t) in enumerate(zip(cases, ledgers, results, densities, tornadoes))]
         return _render("compare.html.j2", page_size=size, overview=overview, pages=pages, meta=meta,
                        generator=f"tea {__version__}")
 
-    key = ("compare", tuple((c.hash, c.source) for c in cases), size)
+    key = ("compare", tuple((c.hash, c.source, t.key) for c, t in zip(cases, tornadoes)), size)
     if kind == "html" and key in _fit_cache:  # the fit of the same report, just measured
         return atomic_write_text(path, html_at(_fit_cache[key]), force=True)
-    densities, doc = _fit_each(html_at, [_first_density(c, f) for c, f in zip(cases, ledgers)])
+    densities, doc = _fit_each(html_at, [_first_density(c, f) for c, f in zip(cases, ledgers)],
+                               [t.last_density for t in tornadoes])
     _remember(key, tuple(densities))
     if kind == "html":
         return atomic_write_text(path, html_at(densities), force=True)
@@ -174,11 +190,15 @@ def render_comparison(
 
 
 def summary_html(case: Case, ledger: pd.DataFrame, results: Results, page_size: str | None = None,
-                 density: int = 0, sensitivity: charts.Chart | None = None) -> str:
-    """One case's page as an HTML string at a given density (no fitting, no file)."""
+                 density: int = 0, sensitivity: charts.Chart | bool | None = None) -> str:
+    """One case's page as an HTML string at a given density (no fitting, no file).
+
+    ``sensitivity`` as for :func:`render_summary`.
+    """
     size = _page_size(page_size, case)
+    tornado = _SensitivityViews(case, sensitivity, "case-0")
     return _render("summary.html.j2", page_size=size,
-                   page=_case_page(case, ledger, results, "case-0", density, sensitivity),
+                   page=_case_page(case, ledger, results, "case-0", density, tornado),
                    meta=_meta([case], [results]), generator=f"tea {__version__}")
 
 
@@ -278,27 +298,29 @@ def _first_density(case: Case, ledger: pd.DataFrame) -> int:
     return 0 if len(_chunks(_cash_rows(case, ledger)[0])) == 1 else 2
 
 
-def _fit_one(html_at, start: int = 0) -> tuple[int, Any]:
-    """The first density (from ``start``) at which the page fits one sheet, and its layout."""
+def _fit_one(html_at, start: int = 0, last: int = MAX_DENSITY) -> tuple[int, Any]:
+    """The first density (from ``start`` to ``last``) at which the page fits one sheet, and its layout."""
     doc = None
-    for density in range(start, MAX_DENSITY + 1):
+    for density in range(start, last + 1):
         doc = _layout(html_at(density))
         if len(doc.pages) == 1:
             return density, doc
     warnings.warn(f"the summary takes {len(doc.pages)} pages even at the densest layout", stacklevel=3)
-    return MAX_DENSITY, doc
+    return last, doc
 
 
-def _fit_each(html_at, densities: list[int]) -> tuple[list[int], Any]:
-    """Densities (from the ones given) at which each case page of a comparison fits one sheet, and the layout."""
+def _fit_each(html_at, densities: list[int], last: Sequence[int] | None = None) -> tuple[list[int], Any]:
+    """Densities (from the ones given, each up to its ``last``) at which each case page of a comparison fits
+    one sheet, and the layout."""
     n = len(densities)
+    last = list(last) if last is not None else [MAX_DENSITY] * n
     while True:
         doc = _layout(html_at(densities))
         starts = []
         for i in range(n):
             starts.append(next(k for k, page in enumerate(doc.pages) if f"case-{i}" in page.anchors))
         ends = starts[1:] + [len(doc.pages)]
-        over = [i for i in range(n) if ends[i] - starts[i] > 1 and densities[i] < MAX_DENSITY]
+        over = [i for i in range(n) if ends[i] - starts[i] > 1 and densities[i] < last[i]]
         if not over:
             if any(e - s > 1 for s, e in zip(starts, ends)):
                 warnings.warn("a case page takes more than one page even at the densest layout", stacklevel=3)
@@ -626,13 +648,107 @@ def _chart_view(chart: charts.Chart) -> dict[str, Any]:
     return {"title": chart.title, "alt": chart.alt, "svg": Markup(chart.svg)}
 
 
+# ----------------------------------------------------------------------------- what moves the NPV
+class _SensitivityViews:
+    """The sensitivity block of one case's page at each layout step (None: no block).
+
+    The sensitivity run (:func:`tea.sensitivity.run`, one vectorised
+    evaluation of the full ledger) is made once; the chart is drawn per
+    layout step, its rows as short as the other charts at that density, and
+    at :data:`BESIDE` narrow, with two-line labels, for its place beside the
+    yearly table.
+    """
+
+    def __init__(self, case: Case, given: charts.Chart | bool | None, anchor: str):
+        if given is not None and not isinstance(given, (bool, charts.Chart)):
+            raise TypeError("sensitivity: expected True, False, None or a tea.charts.Chart")
+        self.case, self.anchor = case, anchor
+        self.chart = given if isinstance(given, charts.Chart) else None
+        shown = given if isinstance(given, bool) else (given is not None or "sensitivity" in case.values)
+        self.run = None
+        if shown and self.chart is None:
+            from . import sensitivity as sens
+
+            self.run = sens.run(case, with_surface=False)
+        #: what the fit cache tells layouts apart by
+        self.key = self.chart.svg if self.chart is not None else ("tornado" if self.run is not None else None)
+        #: the last layout step worth trying: the tornado can move beside the yearly table
+        self.last_density = BESIDE if self.run is not None else MAX_DENSITY
+        self._views: dict[tuple[int, bool], dict[str, Any]] = {}
+
+    def view(self, density: int, split: bool) -> dict[str, Any] | None:
+        """The block at a layout step; ``split``: the yearly table runs in two blocks side by side."""
+        if self.chart is not None:
+            return dict(_chart_view(self.chart), note="", beside=False)
+        if self.run is None:
+            return None
+        key = (density, split and density >= BESIDE)
+        if key not in self._views:
+            self._views[key] = _tornado_view(self.case, self.run, self.anchor, density, split)
+        return self._views[key]
+
+
+#: width of the tornado chart [in]: below the other charts, beside a split yearly table, below a single one
+TORNADO_WIDTH_IN, TORNADO_SPLIT_WIDTH_IN, TORNADO_SIDE_WIDTH_IN = 7.2, 2.35, 3.5
+
+
+def _tornado_view(case: Case, run, anchor: str, density: int, split: bool) -> dict[str, Any]:
+    """The tornado chart of NPV, ranked by swing, per area unit of the case, and its caption."""
+    system, per = case.unit_system, _per(case)
+    beside = density >= BESIDE
+
+    def shown(value: float) -> float:
+        return display.convert(float(value), "money/ha", system)[0]
+
+    labels, low, high = [], [], []
+    for i in run.order("npv"):
+        m = run.moved[i]
+        gap = "\n" if beside else " ("
+        labels.append(print_minus(f"{m.label}{'*' if m.declared else ''}{gap}{m.range_text(case)}"
+                                  + ("" if beside else ")")))
+        low.append(shown(run.low["npv"][i]))
+        high.append(shown(run.high["npv"][i]))
+    width = (TORNADO_SPLIT_WIDTH_IN if split else TORNADO_SIDE_WIDTH_IN) if beside else TORNADO_WIDTH_IN
+    title = ("What moves the NPV: each input moved alone to its low and its high value, the others at base; "
+             "largest swing first")
+    chart = charts.tornado(labels, low, high, shown(run.base["npv"]), f"{case.currency} per {per}",
+                           name=f"{anchor}-tornado", width_in=width,
+                           row_in=charts.TORNADO_ROW_IN * (1.85 if beside else 1.0),
+                           scale=1.0 if beside else _CHART_SCALE[min(density, len(_CHART_SCALE) - 1)],
+                           title=title if not beside else "What moves the NPV")
+    note = _ranges_note(case, run)
+    if beside:
+        note = ("Each input moved alone to its low and its high value, the others at base; largest swing first. "
+                + note)
+    return dict(_chart_view(chart), note=note, beside=beside)
+
+
+def _ranges_note(case: Case, run) -> str:
+    """One line: where the low and high values come from (declared in the case, or a share of the base)."""
+    from . import riskspec
+
+    spec = case.values.get("sensitivity") or {}
+    share = spec.get("default_share", riskspec.DEFAULT_SHARE)
+    whose = "the case's default share" if "default_share" in spec else "tea's default share"
+    declared = sum(1 for m in run.moved if m.declared)
+    bounded = any(not m.declared and ("clipped" in m.note or "raised" in m.note) for m in run.moved)
+    shared = f"base \u2212/+ {display.percent(share, 0)} ({whose}" + (", within bounds)" if bounded else ")")
+    head = "Low / high values: "
+    if declared == len(run.moved):
+        return "Low / high values as declared in the case's [sensitivity] section."
+    if declared:
+        return head + f"* declared in the case's [sensitivity] section; the others {shared}."
+    return head + f"{shared}; a [sensitivity] section in the case can declare them."
+
+
 def _case_page(case: Case, frame: pd.DataFrame, res: Results, anchor: str, density: int,
-               sensitivity: charts.Chart | None) -> dict[str, Any]:
+               sensitivity: _SensitivityViews | None = None) -> dict[str, Any]:
     """Everything one case's page shows, as plain values for the template."""
     per = _per(case)
     area_v, area_u = display.area(case.area_ha, case.unit_system)
     diff = _value(res, "eav_vs_current_use") or 0.0
     rows, condensed = _cash_rows(case, frame)
+    chunks = _chunks(rows)
     dm_unit = display.convert(1.0, "t DM/ha", case.unit_system)[1]
     money_unit = f"{case.currency}/{per}"
     return {
@@ -651,11 +767,11 @@ def _case_page(case: Case, frame: pd.DataFrame, res: Results, anchor: str, densi
         "tiles": _tiles(case, res),
         "loan": _loan_line(case, res),
         "charts": [_chart_view(c) for c in _charts(case, frame, res, anchor, density)],
-        "sensitivity": _chart_view(sensitivity) if sensitivity is not None else None,
+        "sensitivity": sensitivity.view(density, len(chunks) > 1) if sensitivity is not None else None,
         "table": {
             "head": ("Year", "Sold", "Receipts", "Costs", "Net cash", "Running total"),
             "units": ("", dm_unit, money_unit, money_unit, money_unit, money_unit),
-            "chunks": _chunks(rows),
+            "chunks": chunks,
             "condensed": condensed,
         },
         "assumptions": _assumptions(case, res),

@@ -267,7 +267,8 @@ def test_html_is_well_formed_and_self_contained(demo):
     assert tags[0] == "html"
     for banned in ("script", "link", "iframe", "object", "embed", "img", "base", "frame"):
         assert banned not in tags, banned
-    assert tags.count("svg") == 3  # the three charts, inline
+    # the three charts, inline, and the tornado chart where the case has a [sensitivity] section
+    assert tags.count("svg") == 3 + ("sensitivity" in demo["case"].values)
     assert "style" in tags  # the stylesheet, inline
     for el in root.iter():
         for attr, value in el.attrib.items():
@@ -340,13 +341,16 @@ def test_comparison_pdf_is_overview_then_one_page_per_case(comparison):
         page = pages[carrying[0]]
         assert _squash(case.name) in page
         assert _squash(terminal._fig(res, case, "npv")) in page
+        # the tornado chart on the page of a case with a [sensitivity] section, and only there
+        assert (_squash(TORNADO_TITLE) in page) == ("sensitivity" in case.values)
 
 
 def test_comparison_html_is_well_formed_with_one_chart_for_all_cases(comparison):
     root = _parse_html(comparison["html"])
     n = len(comparison["cases"])
     svgs = [el for el in root.iter() if _local(el.tag) == "svg"]
-    assert len(svgs) == 1 + 3 * n
+    with_section = sum("sensitivity" in c.values for c in comparison["cases"])  # their pages show a tornado
+    assert len(svgs) == 1 + 3 * n + with_section
     ids = [el.get("id") for el in root.iter() if el.get("id")]
     assert len(ids) == len(set(ids))
     texts = _svg_texts(svgs[0])
@@ -415,6 +419,7 @@ def test_command_line_writes_both_formats_and_refuses_to_overwrite(tmp_path):
     assert res.code == 0, res.text
     assert _pdfinfo(pdf)["Pages"] == "1"
     _parse_html(html)
+    assert _squash(TORNADO_TITLE) not in _squash(_text(pdf))  # no [sensitivity] section and no --sensitivity
     before = pdf.read_bytes()
     res = run_cli(["run", path, "--brief", "--pdf", pdf])
     assert res.code == 2 and "exists" in res.err and "Traceback" not in res.text
@@ -463,7 +468,7 @@ def test_sensitivity_block_is_shown_only_when_given(tmp_path):
     ax.barh(["price", "yield"], [-400.0, 650.0])
     chart = charts.from_figure(fig, "case-0-tornado", "What moves the result", "Two bars, a test chart.")
     with_it = report.render_summary(case, frame, res, tmp_path / "with.html", sensitivity=chart)
-    without = report.render_summary(case, frame, res, tmp_path / "without.html")
+    without = report.render_summary(case, frame, res, tmp_path / "without.html", sensitivity=False)
     root_with, root_without = _parse_html(with_it), _parse_html(without)
     fig_classes = lambda root: [el.get("class") for el in root.iter() if _local(el.tag) == "figure"]  # noqa: E731
     assert "sensitivity" in fig_classes(root_with) and "sensitivity" not in fig_classes(root_without)
@@ -479,3 +484,121 @@ def test_print_minus_marks_only_negative_numbers():
     assert report.print_minus("-1,957 EUR/ha") == "\u22121,957 EUR/ha"
     assert report.print_minus("year-0 cost; 5-year loan") == "year-0 cost; 5-year loan"
     assert report.print_minus("(-0.36)") == "(\u22120.36)"
+
+
+# ----------------------------------------------------------------------------- what moves the NPV
+#: the heading of the tornado chart on the page
+TORNADO_TITLE = "What moves the NPV"
+
+
+def _npv_per_area(case, **changes) -> float:
+    """NPV of the case with some inputs changed, per area unit of the case, by numpy-financial.
+
+    numpy-financial's ``npv`` on the ledger's net cash flows (values[0] at t = 0,
+    undiscounted), at the real rate of the Fisher equation for a nominal rate;
+    per acre through NIST Handbook 44 Appendix C (1 acre = 0.40468564224 ha).
+    """
+    changed = case.replace(**changes) if changes else case
+    net = tea.build_ledger(changed)["net_cash_flow"].to_numpy()
+    rate = changed["finance.discount_rate"]
+    if changed["finance.rate_basis"] == "nominal":  # Fisher equation: (1 + i) = (1 + r)(1 + pi)
+        rate = (1 + rate) / (1 + changed["finance.inflation"]) - 1
+    return npf.npv(rate, net) * (HA_PER_ACRE if case.unit_system == "us_customary" else 1.0)
+
+
+def _shown(value: float) -> str:
+    """A chart's whole-number label: thousands separators (the page's minus sign is squashed to '-')."""
+    return f"{value:,.0f}"
+
+
+def _price_key(case) -> str:
+    return "revenue.price_per_gj" if case.values.get("revenue.price_per_gj") is not None else "revenue.price_per_t_dm"
+
+
+def test_the_page_of_a_case_with_a_sensitivity_section_shows_its_tornado(rendered):
+    d = rendered["clay_corner_miscanthus"]
+    case = d["case"]
+    ranges = case.values["sensitivity"]["ranges"]  # declared in the demo case file
+    assert _pdfinfo(d["pdf"])["Pages"] == "1"  # poppler pdfinfo: still one sheet
+    text = _squash(_text(d["pdf"]))
+    assert _squash(TORNADO_TITLE) in text
+    assert _squash("declared in the case's [sensitivity] section") in text  # where the low/high values come from
+    assert "EURperha" in text  # NPV in the case's currency, per hectare
+    # the bar ends: NPV with the price at its declared low and high value, by numpy-financial
+    for side in ("low", "high"):
+        assert _shown(_npv_per_area(case, **{"revenue.price_per_t_dm": ranges["revenue.price_per_t_dm"][side]})) \
+            in text, side
+    # ranked by swing: the declared inputs, top to bottom, in the order of their NPV swing by numpy-financial
+    root = _parse_html(d["html"])
+    svg = next(el for el in root.iter() if _local(el.tag) == "svg" and "tornado" in (el.get("aria-labelledby") or ""))
+    tops = {}
+    for el in svg.iter():
+        if _local(el.tag) == "text" and el.get("y") is not None:
+            tops.setdefault("".join(el.itertext()).split("*")[0].strip(), float(el.get("y")))
+    swing = {path: abs(_npv_per_area(case, **{path: r["high"]}) - _npv_per_area(case, **{path: r["low"]}))
+             for path, r in ranges.items()}
+    from tea import riskspec
+
+    by_position = sorted(ranges, key=lambda path: tops[riskspec.label(path)])
+    assert by_position == sorted(ranges, key=lambda path: -swing[path])
+
+
+@pytest.mark.parametrize("name", DEMO_IDS)
+def test_asking_for_the_tornado_shows_it_on_one_page(tmp_path, name):
+    case, frame, res = _load(CASES_DIR / f"{name}.toml")
+    pdf = report.render_summary(case, frame, res, tmp_path / "t.pdf", sensitivity=True)
+    assert _pdfinfo(pdf)["Pages"] == "1"
+    text = _squash(_text(pdf))
+    assert _squash(TORNADO_TITLE) in text
+    unit = f"{case.currency}per{'acre' if case.unit_system == 'us_customary' else 'ha'}"
+    assert unit in text
+    declared = (case.values.get("sensitivity") or {}).get("ranges", {})
+    key = _price_key(case)
+    if key in declared:
+        low, high = declared[key]["low"], declared[key]["high"]
+        assert _squash("declared in the case's [sensitivity] section") in text
+    else:  # the default range: the base value -/+ 20 % (the project's stated default share)
+        low, high = case[key] * 0.8, case[key] * 1.2
+        assert _squash("base \u2212/+ 20 %") in text
+    for value in (low, high):
+        assert _shown(_npv_per_area(case, **{key: value})) in text, value
+
+
+def test_the_tornado_can_be_left_out(tmp_path):
+    case, frame, res = _load(CASES_DIR / "clay_corner_miscanthus.toml")
+    out = report.render_summary(case, frame, res, tmp_path / "plain.html", sensitivity=False)
+    root = _parse_html(out)
+    assert [_local(el.tag) for el in root.iter()].count("svg") == 3
+    assert TORNADO_TITLE not in "".join(root.itertext())
+    with pytest.raises(TypeError):
+        report.render_comparison([case], [frame], [res], tmp_path / "c.html", sensitivity="yes")
+
+
+def test_a_sixty_year_stand_with_its_tornado_still_fits_one_page(tmp_path, demo_mappings):
+    """The longest stand life, long notes and the tornado: the chart moves beside the yearly table."""
+    data = {k: dict(v) if isinstance(v, dict) else v for k, v in demo_mappings["flood_meadow_willow"].items()}
+    data["finance"]["stand_life_years"] = 60
+    data["case"]["notes"] = "Prepared with the grower and the farm's advisor for the spring planning meeting. " * 4
+    case = tea.load_text(to_toml(data), source="long.toml")
+    frame = tea.build_ledger(case)
+    out = report.render_summary(case, frame, tea.summarise(case, frame), tmp_path / "long.pdf", sensitivity=True)
+    assert _pdfinfo(out)["Pages"] == "1"
+    text = _squash(_text(out))
+    assert _squash(TORNADO_TITLE) in text
+    assert _squash(display.money(float(frame["cumulative_cash_flow"].iloc[-1]), digits=0)) in text
+
+
+def test_command_line_sensitivity_flag(tmp_path):
+    pdf = tmp_path / "s.pdf"
+    res = run_cli(["run", CASES_DIR / "sandy_slope_switchgrass.toml", "--brief", "--pdf", pdf, "--sensitivity"])
+    assert res.code == 0, res.text
+    assert _pdfinfo(pdf)["Pages"] == "1"
+    assert _squash(TORNADO_TITLE) in _squash(_text(pdf))
+    # a comparison: the tornado on each case's page, each case page still one sheet
+    out = tmp_path / "compare.pdf"
+    two = [CASES_DIR / "flood_meadow_willow.toml", CASES_DIR / "sandy_slope_switchgrass.toml"]
+    res = run_cli(["run", *two, "--brief", "--pdf", out, "--sensitivity"])
+    assert res.code == 0, res.text
+    assert _pdfinfo(out)["Pages"] == str(1 + len(two))
+    for page in (2, 3):
+        assert _squash(TORNADO_TITLE) in _squash(_text(out, page=page))

@@ -7,6 +7,12 @@ absolute floor of 1e-9 near zero (LibreOffice returns 15 significant digits, so
 the tolerance leaves six orders of magnitude of room and still catches any
 formula that differs from the engine). No cell may hold an error value.
 
+Sensitivity sheet: its values are tea's (:func:`tea.sensitivity.sensitivity_table`),
+written when the file was; after the engine's recalculation every number of it
+(the values, the swings, the per-acre columns, the live base NPV) is compared with
+the table to the same tolerance, and the cell that says whether the table still
+matches the inputs must say so, and must say NO after an input was edited.
+
 Live-ness: inputs are changed inside a written file (the value cell of the
 inputs sheet), LibreOffice recalculates it, and every cell is compared with the
 engine run on the same change made to the case (``Case.replace``).
@@ -35,6 +41,9 @@ from tea.workbook import (LEDGER_KEY_ROW, LEDGER_TOP, N_ROWS, TABLE_KEY_ROW, TAB
                           portfolio_bytes, read_case_mapping, workbook_bytes)
 
 import spreadsheet_engine as engine
+from tea.sensitivity import FIGURES as SENS_FIGURES
+from tea.sensitivity import sensitivity_table
+from tea.workbook import SENS_KEY_ROW, SENS_TOP
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = {p.stem: p for p in sorted((ROOT / "cases").glob("*.toml"))}
@@ -327,6 +336,8 @@ def recalculated(tmp_path_factory):
     # no loan, no credits
     put("no_loan", clay.replace(**{"loan.share_of_establishment": 0.0, "carbon.credit_price_per_t_co2e": 0.0}))
     put("injection", clay.replace(**INJECTED))
+    # the sensitivity sheet of a US-customary case: inputs in its units, money per ha and per acre
+    put("us_sensitivity", us, workbook_bytes(us, tea.build_ledger(us), tea.summarise(us), sensitivity=True))
     put("portfolio", None, portfolio_bytes(list(cases.values()), [tea.build_ledger(c) for c in cases.values()],
                                            [tea.summarise(c) for c in cases.values()]))
     books["portfolio"] = (books["portfolio"][0], list(cases.values()))
@@ -455,3 +466,75 @@ def test_report_cells_compared(recalculated):
     print(f"\nworkbook recalculation: {STATS['files']} files, {STATS['cells']} cells compared with the engine; "
           f"largest relative difference {STATS['max_rel']:.3g} (cells above 1e-6); "
           f"largest absolute difference near zero {STATS['max_abs_near_zero']:.3g}")
+
+
+# ----------------------------------------------------------------------------- the sensitivity sheet
+HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 (2024), Appendix C, exact
+T_PER_SHORT_TON = 0.90718474  # NIST Handbook 44 (2024), Appendix C, exact
+KM_PER_MILE = 1.609344  # NIST Handbook 44 (2024), Appendix C, exact
+#: canonical (metric, per ha) -> US customary display factor of the inputs a US case's sheet shows in its units
+US_FACTORS = {
+    "yield.mature_t_dm_per_ha": HA_PER_ACRE / T_PER_SHORT_TON,  # t/ha -> short ton/acre
+    "revenue.price_per_t_dm": T_PER_SHORT_TON,  # money/t -> money/short ton
+    "costs.haul_distance_km": 1.0 / KM_PER_MILE,  # km -> mile
+    "field.current_margin_per_ha": HA_PER_ACRE,  # money/ha -> money/acre
+}
+
+
+def compare_sensitivity(wb, case, table, sheet: str = "Sensitivity", current: bool = True) -> int:
+    """Compare every number of a recalculated sensitivity sheet with the table; return the cells compared."""
+    before = STATS["cells"]
+    ws = wb[sheet]
+    cols = {c.value: c.column for c in ws[SENS_KEY_ROW] if isinstance(c.value, str)}
+    rows = [r for r in range(SENS_TOP, ws.max_row + 1) if isinstance(ws.cell(r, cols["rank"]).value, (int, float))]
+    assert len(rows) == len(table)
+    base = {ws.cell(r, 5).value: r for r in range(1, SENS_TOP) if isinstance(ws.cell(r, 5).value, str)}
+    written = table.attrs["base_npv"]
+    close(ws.cell(base["base_npv"], 3).value, written, f"{sheet}!base_npv")
+    close(ws.cell(base["base_eav"], 3).value, table.attrs["base_eav"], f"{sheet}!base_eav")
+    figs = tea.summarise(case).per_ha  # the live base: the results sheet of the case as it is now
+    close(ws.cell(base["npv_now"], 3).value, figs["npv"], f"{sheet}!npv_now")
+    close(ws.cell(base["eav_now"], 3).value, figs["eav"], f"{sheet}!eav_now")
+    status = ws.cell(base["current"], 3).value
+    assert status.startswith("yes" if current else "NO"), status
+    us = case.unit_system == "us_customary"
+    for r, want in zip(rows, table.to_dict(orient="records")):
+        where = f"{sheet}!{want['input']}"
+        close(ws.cell(r, cols["rank"]).value, want["rank"], where + " rank")
+        factor = US_FACTORS.get(want["input"], 1.0) if us else 1.0
+        for side in ("low", "high", "base"):
+            close(ws.cell(r, cols[f"{side}_case_units"]).value, want[side] * factor, f"{where} {side}")
+        for fig in SENS_FIGURES:
+            for side in ("low", "high", "swing"):
+                close(ws.cell(r, cols[f"{fig}_{side}"]).value, want[f"{fig}_{side}"], f"{where} {fig}_{side}")
+                if us and fig in ("npv", "eav"):
+                    close(ws.cell(r, cols[f"{fig}_{side}_per_acre"]).value, want[f"{fig}_{side}"] * HA_PER_ACRE,
+                          f"{where} {fig}_{side} per acre")
+        for side in ("low", "high"):
+            close(ws.cell(r, cols[f"chart_npv_change_{side}"]).value, want[f"npv_{side}"] - written,
+                  f"{where} chart {side}")
+    return STATS["cells"] - before
+
+
+@pytest.mark.parametrize("name", ["clay_corner_miscanthus", "us_sensitivity"])
+def test_sensitivity_sheet_recalculates_to_the_table(recalculated, name):
+    path, case = recalculated[name]
+    wb = engine.load_values(path)
+    assert engine.error_cells(wb) == []
+    assert compare_sensitivity(wb, case, sensitivity_table(case)) > 100
+
+
+def test_sensitivity_sheet_says_when_an_edit_leaves_it_behind(recalculated):
+    path, changed = recalculated["edit_price"]  # the price edited in the file after tea wrote the table
+    original = tea.load_case(DEMOS["clay_corner_miscanthus"])
+    wb = engine.load_values(path)
+    assert compare_sensitivity(wb, changed, sensitivity_table(original), current=False) > 100
+
+
+def test_portfolio_sensitivity_sheet_recalculates_to_the_table(recalculated):
+    path, cases = recalculated["portfolio"]
+    wb = engine.load_values(path)
+    sheets = [(j, t) for j, case in enumerate(cases) for t in [f"C{j + 1:02d} Sensitivity"] if t in wb.sheetnames]
+    assert [cases[j].name for j, _ in sheets] == [c.name for c in cases if "sensitivity" in c.values]
+    for j, sheet in sheets:
+        assert compare_sensitivity(wb, cases[j], sensitivity_table(cases[j]), sheet=sheet) > 100

@@ -217,7 +217,8 @@ def test_sheets_views_print_setup_and_properties(tmp_path, demo):
     case = demo["clay_corner_miscanthus"][0]
     path = _write(tmp_path, case)
     wb = load_workbook(path)
-    assert wb.sheetnames == ["Inputs", "Ledger", "Results", "Finance", "Carbon", "Notes"]
+    # the demo case has a [sensitivity] section: its workbook has the sensitivity sheet
+    assert wb.sheetnames == ["Inputs", "Ledger", "Results", "Finance", "Carbon", "Sensitivity", "Notes"]
     assert wb["Ledger"].freeze_panes == f"B{LEDGER_TOP}"
     for ws in wb.worksheets:
         assert ws.page_setup.orientation == "landscape"
@@ -236,7 +237,7 @@ def test_sheets_views_print_setup_and_properties(tmp_path, demo):
         assert caution in notes
     with zipfile.ZipFile(path) as zf:
         charts = [n for n in zf.namelist() if n.startswith("xl/charts/")]
-        assert len(charts) == 3
+        assert len(charts) == 4  # yield, payback, SOC and the tornado
         text = " ".join(zf.read(n).decode() for n in charts)
         for line in ("cumulative_discounted_cash_flow", "growth_t_dm", "soc_t_c"):
             col = wb["Ledger"].cell(1, 2 + LINE_NAMES.index(line) - 1).column_letter
@@ -256,7 +257,10 @@ def test_injected_text_is_written_as_text_cells(tmp_path, demo):
         assert cells, text
         assert all('t="inlineStr"' in attrs for ref, attrs, inner in _cells(xml)
                    if f">{text}<" in (inner or ""))
-    for i in range(1, 7):
+    with zipfile.ZipFile(path) as zf:
+        parts = len([n for n in zf.namelist() if re.fullmatch(r"xl/worksheets/sheet\d+\.xml", n)])
+    assert parts == 7  # the sensitivity sheet too: the demo case has a [sensitivity] section
+    for i in range(1, parts + 1):
         for ref, attrs, inner in _cells(_sheet_xml(path, i)):
             f = re.search(r"<f>(.*?)</f>", inner or "")
             assert not f or "=1+1" not in f.group(1) and "SUM(A1" not in f.group(1), ref
@@ -313,7 +317,9 @@ def test_cli_writes_a_portfolio(tmp_path, capsys):
     args = ["run", *map(str, DEMOS.values()), "--xlsx", str(out), "--brief"]
     assert cli.main(args) == 0
     wb = load_workbook(out, read_only=True)
-    assert wb.sheetnames[0] == "Comparison" and "C03 Notes" in wb.sheetnames and len(wb.sheetnames) == 19
+    # the comparison, six sheets per case, and the sensitivity sheet of the case with a [sensitivity] section
+    assert wb.sheetnames[0] == "Comparison" and "C03 Notes" in wb.sheetnames and len(wb.sheetnames) == 20
+    assert [t for t in wb.sheetnames if t.endswith("Sensitivity")] == ["C01 Sensitivity"]
     wb.close()
     assert cli.main(args) == 2  # exists: not overwritten without --force
     assert "exists" in capsys.readouterr().err
@@ -338,3 +344,137 @@ def test_a_missing_spreadsheet_engine_fails_in_ci_and_skips_loudly_elsewhere(mon
     monkeypatch.setenv("CI", "")
     with pytest.warns(UserWarning, match="LibreOffice"), pytest.raises(pytest.skip.Exception, match="LOUDLY"):
         engine.require_engine()
+
+
+# ----------------------------------------------------------------------------- the sensitivity sheet
+HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 (2024), Appendix C, exact
+
+
+def _sensitivity_rows(ws):
+    """The keyed columns of the sensitivity table and its rows: ({key: column}, [row numbers])."""
+    from tea.workbook import SENS_KEY_ROW, SENS_TOP
+
+    cols = {c.value: c.column for c in ws[SENS_KEY_ROW] if isinstance(c.value, str)}
+    rows = [r for r in range(SENS_TOP, ws.max_row + 1) if isinstance(ws.cell(r, cols["rank"]).value, int)]
+    return cols, rows
+
+
+def test_sensitivity_sheet_holds_the_sensitivity_table(tmp_path, demo):
+    import numpy_financial as npf
+
+    from tea.sensitivity import FIGURES as SENS_FIGURES
+    from tea.sensitivity import sensitivity_table
+
+    case = demo["clay_corner_miscanthus"][0]
+    path = _write(tmp_path, case)  # the case has a [sensitivity] section: the sheet is there by default
+    table = sensitivity_table(case)
+    wb = load_workbook(path)
+    ws = wb["Sensitivity"]
+    cols, rows = _sensitivity_rows(ws)
+    assert len(rows) == len(table)
+    for r, want in zip(rows, table.to_dict(orient="records")):
+        assert ws.cell(r, cols["rank"]).value == want["rank"]
+        for key in ("input", "label", "range"):
+            assert ws.cell(r, cols[key]).value == want[key], (r, key)
+        for side in ("low", "high", "base"):  # a metric case: its units are the table's
+            assert ws.cell(r, cols[f"{side}_case_units"]).value == want[side], (r, side)
+        for fig in SENS_FIGURES:
+            for side in ("low", "high"):  # written by their shortest repr: the same doubles
+                assert ws.cell(r, cols[f"{fig}_{side}"]).value == want[f"{fig}_{side}"], (r, fig, side)
+            hi, lo = (ws.cell(r, cols[f"{fig}_{s}"]).column_letter for s in ("high", "low"))
+            assert ws.cell(r, cols[f"{fig}_swing"]).value == f"=ABS({hi}{r}-{lo}{r})"
+    # the price row against numpy-financial: NPV of the ledger's net cash flows with the price at its low value
+    r = next(r for r in rows if ws.cell(r, cols["input"]).value == "revenue.price_per_t_dm")
+    assert case["finance.rate_basis"] == "real"
+    changed = case.replace(**{"revenue.price_per_t_dm": ws.cell(r, cols["low_case_units"]).value})
+    expected = npf.npv(changed["finance.discount_rate"], tea.build_ledger(changed)["net_cash_flow"].to_numpy())
+    assert ws.cell(r, cols["npv_low"]).value == pytest.approx(expected, rel=1e-9)
+    # the base: the value the table was computed at, and a live link to the results sheet's NPV cell
+    base = {ws.cell(r, 5).value: r for r in range(1, rows[0]) if isinstance(ws.cell(r, 5).value, str)}
+    assert ws.cell(base["base_npv"], 3).value == table.attrs["base_npv"]
+    assert ws.cell(base["base_eav"], 3).value == table.attrs["base_eav"]
+    res = wb["Results"]
+    npv_row = next(r for r in range(1, res.max_row + 1) if res.cell(r, 1).value == "npv")
+    assert ws.cell(base["npv_now"], 3).value == f"='Results'!$C${npv_row}"
+    assert "IF(ABS(" in ws.cell(base["current"], 3).value
+    # labelled as values computed by tea when the file was written
+    texts = " ".join(c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str))
+    assert "Values computed by tea" in texts and case.hash in texts and "not formulas" in texts
+    assert ws.cell(rows[0], cols["npv_low"]).style == "tea constant"
+    notes = " ".join(c.value for row in wb["Notes"].iter_rows() for c in row if isinstance(c.value, str))
+    assert "Sensitivity sheet holds values tea computed" in notes
+
+
+def test_sensitivity_sheet_constants_are_only_tea_values(tmp_path, demo):
+    """Every number that is not a formula is a value of the table (or the rank), styled as a constant."""
+    case = demo["clay_corner_miscanthus"][0]
+    path = _write(tmp_path, case)
+    wb = load_workbook(path)
+    index = wb.sheetnames.index("Sensitivity") + 1
+    ws = wb["Sensitivity"]
+    cols, rows = _sensitivity_rows(ws)
+    valued = {ws.cell(1, c).column_letter for k, c in cols.items()
+              if k == "rank" or k.endswith(("_case_units", "_low", "_high"))}
+    for ref, attrs, inner in _cells(_sheet_xml(path, index)):
+        if "<v>" in (inner or "") and "<f>" not in inner:
+            col = re.match(r"[A-Z]+", ref).group(0)
+            row = int(ref[len(col):])
+            assert (col in valued and row >= rows[0]) or (col == "C" and row < rows[0]), ref
+            assert ws[ref].style == "tea constant", ref
+    for key in ("chart_npv_change_low", "chart_npv_change_high"):
+        assert ws.cell(rows[0], cols[key]).value.startswith("=")
+
+
+def test_sensitivity_sheet_as_asked(tmp_path, demo):
+    willow = demo["flood_meadow_willow"][0]  # no [sensitivity] section
+    assert "Sensitivity" not in load_workbook(_write(tmp_path, willow, "w.xlsx"), read_only=True).sheetnames
+    path = tmp_path / "asked.xlsx"
+    write_workbook(willow, tea.build_ledger(willow), tea.summarise(willow), path, sensitivity=True)
+    assert "Sensitivity" in load_workbook(path, read_only=True).sheetnames
+    clay = demo["clay_corner_miscanthus"][0]
+    path = tmp_path / "without.xlsx"
+    write_workbook(clay, tea.build_ledger(clay), tea.summarise(clay), path, sensitivity=False)
+    assert "Sensitivity" not in load_workbook(path, read_only=True).sheetnames
+    with pytest.raises(TypeError):
+        workbook_bytes(clay, sensitivity="yes")
+
+
+def test_sensitivity_sheet_of_a_us_case_and_the_command_line_flag(tmp_path):
+    out = tmp_path / "us.xlsx"
+    assert cli.main(["run", str(DEMOS["sandy_slope_switchgrass"]), "--xlsx", str(out), "--brief",
+                     "--sensitivity"]) == 0
+    wb = load_workbook(out)
+    ws = wb["Sensitivity"]
+    cols, rows = _sensitivity_rows(ws)
+    r = next(r for r in rows if ws.cell(r, cols["input"]).value == "revenue.price_per_t_dm")
+    assert ws.cell(r, cols["unit_case"]).value == "USD/short ton DM"
+    # money per acre: the per-ha value x 0.40468564224 (NIST Handbook 44, Appendix C: 1 acre in ha)
+    per_ha = ws.cell(r, cols["npv_low"]).column_letter
+    formula = ws.cell(r, cols["npv_low_per_acre"]).value
+    m = re.fullmatch(rf"={per_ha}{r}\*([0-9.eE+-]+)", formula)
+    assert m and float(m.group(1)) == HA_PER_ACRE, formula
+
+
+def test_sensitivity_sheet_chart_is_a_native_tornado(tmp_path, demo):
+    path = _write(tmp_path, demo["clay_corner_miscanthus"][0])
+    with zipfile.ZipFile(path) as zf:
+        charts = [zf.read(n).decode() for n in sorted(zf.namelist()) if n.startswith("xl/charts/")]
+    tornado = [c for c in charts if "'Sensitivity'!" in c]
+    assert len(tornado) == 1
+    from lxml import etree
+
+    root = etree.fromstring(tornado[0].encode())
+    ns = {"c": "http://schemas.openxmlformats.org/drawingml/2006/chart"}
+    # ECMA-376 Part 1, DrawingML charts (from memory): barDir "bar" draws horizontal bars, and the category
+    # axis scaling orientation "maxMin" runs it from the top, so the largest swing comes first
+    assert root.xpath("//c:barChart/c:barDir/@val", namespaces=ns) == ["bar"]
+    assert root.xpath("//c:catAx/c:scaling/c:orientation/@val", namespaces=ns) == ["maxMin"]
+    assert len(root.xpath("//c:barChart/c:ser", namespaces=ns)) == 2
+
+
+def test_sensitivity_sheet_same_bytes(tmp_path, demo):
+    case, frame, res = demo["clay_corner_miscanthus"]
+    a, b = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
+    write_workbook(case, frame, res, a)
+    write_workbook(tea.load_case(DEMOS["clay_corner_miscanthus"]), frame, res, b)
+    assert a.read_bytes() == b.read_bytes()
