@@ -27,8 +27,7 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
         unit = "money/t DM"
     value, unit = display.convert(value, unit, case.unit_system)
     if name.startswith("breakeven_mature") and value is not None:
-        given, _ = display.convert(case["yield.mature_t_dm_per_ha"], fig.unit, case.unit_system)
-        return f"{value:,.2f} {unit} (case: {given:,.2f})"
+        return f"{value:,.2f} {unit}"
     if value is None:
         note = res.notes.get(name, "undefined")
         return f"– ({note})"
@@ -150,6 +149,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             if name in ("credited_t_co2e", "carbon_credit_pv") and not case["carbon.credit_price_per_t_co2e"]:
                 continue
             per_ha = _fig(res, case, name)
+            if name.startswith("breakeven_mature") and res[name] is not None:  # beside the case's own value
+                given, _ = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)
+                per_ha += f" (case: {given:,.2f})"
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
         out.append("")

@@ -24,6 +24,13 @@ Sheets
 * **Results**, **Finance** (loan schedule with PMT/IPMT/PPMT, DSCR),
   **Carbon** (SOC path, GHG balance, published N2O and GWP coefficients),
   **Notes** (version, case hash, methods, cautions).
+* **Sensitivity** (when the case has a ``[sensitivity]`` section, or when
+  asked): each key input at its low and high value with NPV and EAV, from
+  :func:`tea.sensitivity.sensitivity_table`, and a bar chart (tornado). These
+  are values tea computed when it wrote the file, not formulas: every variant
+  runs the whole ledger again, which a sheet cannot do live. The base NPV now
+  is a formula on the results sheet, and a cell says when the inputs no longer
+  match the table.
 
 Conventions
 -----------
@@ -76,11 +83,17 @@ _ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 # sheet titles of a single-case workbook (a portfolio prefixes "C01 " etc.)
 INPUTS, LEDGER, RESULTS, FINANCE, CARBON, NOTES, COMPARISON = (
     "Inputs", "Ledger", "Results", "Finance", "Carbon", "Notes", "Comparison")
+SENSITIVITY = "Sensitivity"
 
 # layout: rows of the yearly tables
 LEDGER_LABEL_ROW, LEDGER_UNIT_ROW, LEDGER_KEY_ROW, LEDGER_TOP = 4, 5, 6, 7
 TABLE_LABEL_ROW, TABLE_UNIT_ROW, TABLE_KEY_ROW, TABLE_TOP = 22, 23, 24, 25
 INPUT_HEAD_ROW = 4
+# the sensitivity sheet: the base block, then the table's label, unit and key rows and its first input row
+SENS_BASE_ROW, SENS_LABEL_ROW, SENS_UNIT_ROW, SENS_KEY_ROW, SENS_TOP = 5, 11, 12, 13, 14
+#: relative difference between the live NPV and the NPV the table was computed at above which the sheet
+#: says the table is out of date (the spreadsheet's NPV and the engine's agree far closer than this)
+SENS_STALE_RTOL = 1e-9
 KEPT_HEADER = ("Section kept whole", "Content (JSON)")
 _CELL_TEXT_MAX = 32000  # a spreadsheet cell holds at most 32,767 characters
 INPUT_COLUMNS = ("Section", "Key", "Value", "Unit", "Origin", "Source note", "Factor to canonical",
@@ -116,14 +129,16 @@ MODEL_PARAMETERS: tuple[tuple[str, str, str, str], ...] = (
      "IF({m.late}=1,1-{harvest.overwinter_dm_loss},1)"),
     ("moisture", "Moisture at harvest, wet basis", "fraction",
      "IF({m.late}=1,{harvest.moisture_late_winter},{harvest.moisture_autumn})"),
+    ("hv_delivered", "Net heating value at the delivered moisture (ISO 18125 relation, 2.443 GJ per t of water)",
+     "GJ/t DM", "{revenue.heating_value_gj_per_t_dm}-2.443*{m.moisture}/(1-{m.moisture})"),
     ("n_per_t", "N removed per t DM at the chosen harvest time", "kg/t DM",
      "IF({m.late}=1,{nutrients.n_late_winter_kg_per_t_dm},{nutrients.n_autumn_kg_per_t_dm})"),
     ("p_per_t", "P2O5 removed per t DM at the chosen harvest time", "kg/t DM",
      "IF({m.late}=1,{nutrients.p2o5_late_winter_kg_per_t_dm},{nutrients.p2o5_autumn_kg_per_t_dm})"),
     ("k_per_t", "K2O removed per t DM at the chosen harvest time", "kg/t DM",
      "IF({m.late}=1,{nutrients.k2o_late_winter_kg_per_t_dm},{nutrients.k2o_autumn_kg_per_t_dm})"),
-    ("price", "Biomass price per t DM in year 1 (a per-GJ price through the heating value)", "money/t DM",
-     "IF(ISNUMBER({revenue.price_per_gj}),{revenue.price_per_gj}*{revenue.heating_value_gj_per_t_dm},"
+    ("price", "Biomass price per t DM in year 1 (a per-GJ price through the delivered heating value)", "money/t DM",
+     "IF(ISNUMBER({revenue.price_per_gj}),{revenue.price_per_gj}*{m.hv_delivered},"
      "{revenue.price_per_t_dm})"),
     ("soc_start", "SOC stock at planting: equilibrium of the current use (IPCC 2006 Eq. 2.25)", "t C/ha",
      "{carbon.soc_ref_t_c_per_ha}*{carbon.current_f_lu}*{carbon.current_f_mg}*{carbon.current_f_i}"),
@@ -131,8 +146,8 @@ MODEL_PARAMETERS: tuple[tuple[str, str, str, str], ...] = (
      "{carbon.soc_ref_t_c_per_ha}*{carbon.crop_f_lu}*{carbon.crop_f_mg}*{carbon.crop_f_i}"),
     ("first_order", "First-order SOC path (1) or IPCC linear stock change (0)", "flag",
      'IF({carbon.soc_method}="first_order",1,0)'),
-    ("wet", "Moist or wet climate (1): N leaching counted", "flag",
-     'IF(OR(RIGHT({field.climate},5)="moist",RIGHT({field.climate},3)="wet"),1,0)'),
+    ("wet", "Moist or wet climate, boreal included (1): N leaching counted", "flag",
+     'IF(RIGHT({field.climate},3)="dry",0,1)'),
     ("n2o_key", "Row of the N2O factor table used", "text", '{carbon.n2o_method}&IF({m.wet}=1," wet"," dry")'),
     ("ef1", "EF1, direct N2O", "kg N2O-N/kg N", "INDEX({k.ef1},MATCH({m.n2o_key},{k.n2o_key},0))"),
     ("frac_gasf", "Frac_GASF, N volatilised", "kg N/kg N", "INDEX({k.frac_gasf},MATCH({m.n2o_key},{k.n2o_key},0))"),
@@ -143,10 +158,14 @@ MODEL_PARAMETERS: tuple[tuple[str, str, str, str], ...] = (
     ("loan_rate", "Loan interest rate (0 when none is given)", "fraction/yr", "IF(ISNUMBER({loan.rate}),{loan.rate},0)"),
     ("capitalised", "Grace-year interest capitalised (1) or paid (0)", "flag",
      'IF({loan.grace_interest}="capitalised",1,0)'),
-    ("mirr_finance", "MIRR finance rate", "fraction/yr",
-     "IF(ISNUMBER({finance.mirr_finance_rate}),{finance.mirr_finance_rate},{m.rate})"),
-    ("mirr_reinvest", "MIRR reinvestment rate", "fraction/yr",
-     "IF(ISNUMBER({finance.mirr_reinvest_rate}),{finance.mirr_reinvest_rate},{m.rate})"),
+    ("mirr_finance", "MIRR finance rate (real: Fisher equation for a nominal case)", "fraction/yr",
+     'IF(ISNUMBER({finance.mirr_finance_rate}),IF({finance.rate_basis}="nominal",'
+     "(1+{finance.mirr_finance_rate})/(1+{finance.inflation})-1,{finance.mirr_finance_rate}),{m.rate})"),
+    ("mirr_reinvest", "MIRR reinvestment rate (real: Fisher equation for a nominal case)", "fraction/yr",
+     'IF(ISNUMBER({finance.mirr_reinvest_rate}),IF({finance.rate_basis}="nominal",'
+     "(1+{finance.mirr_reinvest_rate})/(1+{finance.inflation})-1,{finance.mirr_reinvest_rate}),{m.rate})"),
+    ("loan_inflation", "Inflation turning the loan's money of the year into today's money (0 in a real case)",
+     "fraction/yr", 'IF({finance.rate_basis}="nominal",{finance.inflation},0)'),
 )
 
 _ACTIVE = "({t}>=1)*({t}<={life})"
@@ -189,7 +208,7 @@ LEDGER_FORMULAS: dict[str, tuple[str, str, str | None]] = {
     "moisture": ("Moisture at harvest", "[harvest]*{m.moisture}", None),
     "harvested_fresh_t": ("Fresh t harvested", "[harvested_t_dm]/(1-{m.moisture})", None),
     "sold_fresh_t": ("Fresh t delivered", "[sold_t_dm]/(1-{m.moisture})", None),
-    "sold_gj": ("Energy sold", "[sold_t_dm]*{revenue.heating_value_gj_per_t_dm}", None),
+    "sold_gj": ("Energy sold", "[sold_t_dm]*{m.hv_delivered}", None),
     "n_offtake_kg": ("N offtake", "[harvested_t_dm]*{m.n_per_t}", None),
     "p2o5_offtake_kg": ("P2O5 offtake", "[harvested_t_dm]*{m.p_per_t}", None),
     "k2o_offtake_kg": ("K2O offtake", "[harvested_t_dm]*{m.k_per_t}", None),
@@ -231,7 +250,8 @@ LEDGER_FORMULAS: dict[str, tuple[str, str, str | None]] = {
     "total_revenue": ("Total revenue", "[biomass_revenue]+[grant]+[annual_payment]+[carbon_credit_revenue]", None),
     "net_cash_flow": ("Net cash flow", "[total_revenue]-[total_cost]", None),
     "current_margin": ("Current use margin (forgone)", _ACTIVE + "*{field.current_margin_per_ha}", None),
-    "incremental_cash_flow": ("Incremental cash flow", "[net_cash_flow]-[current_margin]", None),
+    "current_use_cash_flow": ("Current use nets (margin - rent - overheads)", "[current_margin]-[rent]-[overheads]", None),
+    "incremental_cash_flow": ("Incremental cash flow", "[net_cash_flow]-[current_use_cash_flow]", None),
     "discount_factor": ("Discount factor", "(1+{m.rate})^(-{t})", None),
     "discounted_cash_flow": ("Discounted cash flow", "[net_cash_flow]*[discount_factor]", None),
     "cumulative_cash_flow": ("Cumulative cash flow", "[cumulative_cash_flow@p]+[net_cash_flow]", "[net_cash_flow]"),
@@ -279,7 +299,8 @@ LEDGER_FORMULAS: dict[str, tuple[str, str, str | None]] = {
     "debt_service": ("Debt service", "{F:debt_service}", None),
     "loan_balance": ("Loan balance", "{F:closing_balance}", None),
     "dscr": ("DSCR", "{F:dscr}", None),
-    "equity_cash_flow": ("Own cash flow", "[net_cash_flow]+[loan_drawdown]-[debt_service]", None),
+    "equity_cash_flow": ("Own cash flow (today's money)",
+                         "[net_cash_flow]+([loan_drawdown]-[debt_service])/(1+{m.loan_inflation})^{t}", None),
 }
 
 #: check columns right of the ledger lines: (key, label, unit, formula, formula of the year-0 row)
@@ -323,7 +344,8 @@ FINANCE_SCHEDULE: tuple[tuple[str, str, str, str, str | None], ...] = (
      "{f.loan_principal}*(1+{m.loan_rate})^[year],{f.loan_principal}),"
      "IF(ISNUMBER([period]),[opening_balance]-[principal_repaid],0)))", None),
     ("net_cash_flow", "Net cash flow (before financing)", "money/ha", "{L:net_cash_flow}", None),
-    ("dscr", "DSCR", "ratio", 'IF([debt_service]>0,[net_cash_flow]/[debt_service],"")', None),
+    ("dscr", "DSCR", "ratio",
+     'IF([debt_service]>0,[net_cash_flow]*(1+{m.loan_inflation})^[year]/[debt_service],"")', None),
     ("below_covenant", "Below covenant", "",
      'IF(ISNUMBER([dscr]),IF([dscr]<{loan.dscr_covenant},"BELOW",""),"")', None),
     ("equity_cash_flow", "Own cash flow", "money/ha", "{L:equity_cash_flow}", None),
@@ -386,13 +408,13 @@ def _payback_years(year: str, cum: str, flow: str) -> str:
             f"/INDEX({{Lall:{flow}}},{{R:{year}}}+1)),{{R:{year}}})")
 
 
-_PRICE_DIVISOR = "IF(ISNUMBER({revenue.price_per_gj}),{revenue.heating_value_gj_per_t_dm},1)"
+_PRICE_DIVISOR = "IF(ISNUMBER({revenue.price_per_gj}),{m.hv_delivered},1)"
 
 #: one formula per decision figure of :data:`tea.results.FIGURES` (per ha)
 RESULT_FORMULAS: dict[str, str] = {
     "npv": "{L0:net_cash_flow}+NPV({m.rate},{L1:net_cash_flow})",
     "npv_vs_current_use": "{L0:incremental_cash_flow}+NPV({m.rate},{L1:incremental_cash_flow})",
-    "pv_current_use": "{L0:current_margin}+NPV({m.rate},{L1:current_margin})",
+    "pv_current_use": "{L0:current_use_cash_flow}+NPV({m.rate},{L1:current_use_cash_flow})",
     "irr": _irr("net_cash_flow", "sign_changes_net"),
     "irr_vs_current_use": _irr("incremental_cash_flow", "sign_changes_incremental"),
     "mirr": ('IF(AND(COUNTIF(OFFSET({L0:net_cash_flow},0,0,{life}+1,1),">0")>0,'
@@ -401,6 +423,7 @@ RESULT_FORMULAS: dict[str, str] = {
              '"undefined: the flows need both a cost and a receipt")'),
     "eav": "-PMT({m.rate},{life},{R:npv})",
     "current_margin": "{field.current_margin_per_ha}",
+    "current_use_net": "{field.current_margin_per_ha}-{costs.rent_per_ha}-{costs.overheads_per_ha}",
     "eav_vs_current_use": "-PMT({m.rate},{life},{R:npv_vs_current_use})",
     "payback_year": _payback("chk_cum_below", "chk_payback", "cumulative_cash_flow"),
     "payback_years": _payback_years("payback_year", "cumulative_cash_flow", "net_cash_flow"),
@@ -465,7 +488,7 @@ RESULT_WORKINGS: tuple[tuple[str, str, str, str], ...] = (
 
 _RESULT_GROUPS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("Cash", ("npv", "npv_vs_current_use", "pv_current_use", "irr", "irr_vs_current_use", "mirr", "eav",
-              "current_margin", "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year",
+              "current_margin", "current_use_net", "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year",
               "discounted_payback_years", "peak_funding_need", "peak_funding_year", "establishment_cost")),
     ("Break-even (closed form, no goal seek)", ("breakeven_price", "breakeven_price_vs_current_use",
                                                "breakeven_mature_yield_t_dm_per_ha",
@@ -891,6 +914,7 @@ class _CaseLayout:
         self.finance = sheet_prefix + FINANCE
         self.carbon = sheet_prefix + CARBON
         self.notes = sheet_prefix + NOTES
+        self.sensitivity = sheet_prefix + SENSITIVITY
         self.names: dict[str, str] = {}  # template key -> defined name
         self.refs: dict[str, str] = {}  # defined name -> reference
         self.system = case.unit_system
@@ -992,14 +1016,8 @@ def _display(k: schema.Key, canonical: Any, factor: float) -> Any:
 
 
 def _key_unit(k: schema.Key, system: str, currency: str) -> str:
-    """A key's unit as shown, naming what the tonnes are of (``t DM/ha/yr``, ``t C/ha``)."""
-    text = k.unit_text(system, currency)
-    what = re.search(r"\{t\}_(dm|c)(?:_|$)", k.template)
-    if what:
-        word = units.SYSTEMS[system]["t"].replace("_", " ")
-        label = {"dm": "DM", "c": "C"}[what.group(1)]
-        text = re.sub(rf"(^|/| ){re.escape(word)}(?=/|$| )", rf"\g<1>{word} {label}", text, count=1)
-    return text
+    """A key's unit as shown (``t DM/ha/yr``, ``t C/ha``): the schema names what the tonnes are of."""
+    return k.unit_text(system, currency)
 
 
 def _text_value(value: Any) -> str:
@@ -1014,6 +1032,7 @@ class _Builder:
         self.case, self.frame, self.res, self.st, self.b = case, ledger, results, styles, layout
         self.cur = case.currency
         self.price_unit = "GJ" if case.price_basis == "gj" else "t DM"
+        self.with_sensitivity = False
 
     # --- shared pieces ---------------------------------------------------------------
     def _title(self, sh: _Sheet, title: str, subtitle: str) -> None:
@@ -1342,6 +1361,125 @@ class _Builder:
                                  TABLE_LABEL_ROW + 19)))
         return sh
 
+    # --- sensitivity -----------------------------------------------------------------
+    def sensitivity(self, run) -> _Sheet:
+        """What moves NPV: :func:`tea.sensitivity.sensitivity_table` as tea computed it, and a tornado chart.
+
+        The table holds values, not formulas (each variant runs the whole
+        ledger again, which a sheet cannot do live); the base figures are
+        linked live to the results sheet beside the values the table was
+        computed at, and a cell says whether they still agree.
+        """
+        from .sensitivity import sensitivity_table
+
+        b, st, case, cur = self.b, self.st, self.case, self.cur
+        table = sensitivity_table(run)
+        moved = {m.path: m for m in run.moved}
+        metric = b.system == "metric"
+        per_acre = display.convert(1.0, "money/ha", b.system)[0]
+        sh = _Sheet(b.sensitivity, tab=_PALETTE["input_border"])
+        self._title(sh, f"Sensitivity: {case.name}",
+                    "What moves NPV: each input moved alone to its low and its high value, the others at their base "
+                    "values, ranked by the swing of NPV (one-factor-at-a-time ranges, the tornado diagram of "
+                    f"Eschenbach 1992). Inputs in the case's units; money per ha in {cur}"
+                    + ("." if metric else ", and per acre at the right."))
+        sh.text(3, 1, f"Values computed by tea {__version__} when this file was written (case hash {case.hash}), "
+                "not formulas: a sensitivity runs the whole ledger again for each input, which a sheet cannot do "
+                "live. They do not follow edits of the Inputs sheet; after an edit, write the workbook again "
+                "(tea run THIS.xlsx --xlsx NEW.xlsx --sensitivity).", st("flag"))
+        money = _money_format(cur)
+        const_money, live_money = st("constant", money), st("key", money)
+        label, keyname = st("label"), st("keyname")
+        # the base: as written (values) and now (live, from the results sheet)
+        r = SENS_BASE_ROW
+        npv_now, eav_now = (_abs(b.results, 3, b.result_rows[n]) for n in ("npv", "eav"))
+        base_rows = (
+            ("Base NPV the table was computed at", "base_npv", table.attrs["base_npv"], None, "money/ha"),
+            ("Base NPV now (live: Results sheet)", "npv_now", None, npv_now, "money/ha"),
+            ("Base EAV the table was computed at", "base_eav", table.attrs["base_eav"], None, "money/ha/yr"),
+            ("Base EAV now (live: Results sheet)", "eav_now", None, eav_now, "money/ha/yr"),
+        )
+        for i, (text, key, value, formula, unit) in enumerate(base_rows):
+            sh.text(r + i, 1, text, label)
+            if formula is None:
+                sh.number(r + i, 3, value, const_money)
+            else:
+                sh.formula(r + i, 3, formula, live_money)
+            sh.text(r + i, 4, _unit_text(unit, cur), label)
+            sh.text(r + i, 5, key, keyname)
+        written, now = f"$C${r}", f"$C${r + 1}"
+        sh.text(r + 4, 1, "Does the table match the inputs?", label)
+        sh.formula(r + 4, 3, f"IF(ABS({now}-{written})<={_num(SENS_STALE_RTOL)}*MAX(1,ABS({written})),"
+                             '"yes: the inputs are those the table was computed for",'
+                             '"NO: the inputs changed after the table was computed; write the workbook again")',
+                   st("flag"))
+        sh.text(r + 4, 5, "current", keyname)
+        # the table
+        columns: list[tuple[str, str, str, int]] = [  # key, label, unit, width
+            ("rank", "Rank", "", 6), ("label", "Input", "", 30), ("low_case_units", "Low", "case units", 13),
+            ("high_case_units", "High", "case units", 13), ("unit_case", "Unit", "", 20),
+            ("base_case_units", "Base", "case units", 13), ("range", "Low and high from", "", 36),
+            ("input", "Key", "", 30)]
+        figures = (("npv", "NPV", "money/ha"), ("eav", "EAV", "money/ha/yr"),
+                   ("npv_vs_current_use", "NPV vs current use", "money/ha"),
+                   ("eav_vs_current_use", "EAV vs current use", "money/ha/yr"))
+        for fig, name, unit in figures:
+            for side, word in (("low", "at low"), ("high", "at high"), ("swing", "swing")):
+                columns.append((f"{fig}_{side}", f"{name} {word}", unit, 14))
+        if not metric:
+            for fig, name, unit in figures[:2]:
+                for side, word in (("low", "at low"), ("high", "at high"), ("swing", "swing")):
+                    columns.append((f"{fig}_{side}_per_acre", f"{name} {word}, per acre",
+                                    unit.replace("/ha", "/acre"), 15))
+        columns += [("chart_npv_change_low", "Change in NPV, input low (chart)", "money/ha", 16),
+                    ("chart_npv_change_high", "Change in NPV, input high (chart)", "money/ha", 16)]
+        col = {key: i for i, (key, *_) in enumerate(columns, start=1)}
+        head = st("head")
+        for key, text, unit, width in columns:
+            c = col[key]
+            sh.text(SENS_LABEL_ROW, c, text, head)
+            sh.text(SENS_UNIT_ROW, c, _unit_text(unit, cur), keyname)
+            sh.text(SENS_KEY_ROW, c, key, keyname)
+            sh.widths[c] = width
+        sh.text(SENS_LABEL_ROW - 1, 1, "Each input low and high (values computed by tea when this file was written)",
+                st("group"))
+        L = col_letter  # noqa: N806
+        for i, row in enumerate(table.to_dict(orient="records")):
+            r = SENS_TOP + i
+            m = moved[row["input"]]
+            f = m.display_factor(case)
+            integer = float(m.low).is_integer() and float(m.high).is_integer() and float(m.base).is_integer()
+            shown = st("constant", "0" if integer else "#,##0.0###")
+            sh.number(r, col["rank"], int(row["rank"]), st("constant", "0"))
+            sh.text(r, col["label"], row["label"], label)
+            for side in ("low", "high", "base"):
+                sh.number(r, col[f"{side}_case_units"], float(row[side]) * f, shown)
+            sh.text(r, col["unit_case"], m.unit_text(case), label)
+            sh.text(r, col["range"], row["range"], label)
+            sh.text(r, col["input"], row["input"], keyname)
+            for fig, _, unit in figures:
+                lo, hi = L(col[f"{fig}_low"]), L(col[f"{fig}_high"])
+                sh.number(r, col[f"{fig}_low"], float(row[f"{fig}_low"]), const_money)
+                sh.number(r, col[f"{fig}_high"], float(row[f"{fig}_high"]), const_money)
+                sh.formula(r, col[f"{fig}_swing"], f"ABS({hi}{r}-{lo}{r})", st("computed", money))
+            if not metric:
+                for fig, _, _ in figures[:2]:
+                    for side in ("low", "high", "swing"):
+                        sh.formula(r, col[f"{fig}_{side}_per_acre"], f"{L(col[f'{fig}_{side}'])}{r}*{_num(per_acre)}",
+                                   st("computed", money))
+            for side in ("low", "high"):
+                sh.formula(r, col[f"chart_npv_change_{side}"], f"{L(col[f'npv_{side}'])}{r}-{written}",
+                           st("computed", money))
+        last = SENS_TOP + len(table) - 1
+        sh.widths[1] = 9
+        sh.heights[SENS_LABEL_ROW] = 27.6  # two lines of heading
+        sh.freeze = (SENS_TOP, 3)
+        rng = lambda key: _abs(sh.title, col[key], SENS_TOP, col[key], last)  # noqa: E731
+        sh.charts.append(_Chart(_tornado_chart(rng("chart_npv_change_low"), rng("chart_npv_change_high"),
+                                               rng("label"), cur),
+                                (1, last + 2, 9, last + 2 + max(16, 2 * len(table) + 4))))
+        return sh
+
     # --- notes -----------------------------------------------------------------------
     def notes(self) -> _Sheet:
         b, st, case = self.b, self.st, self.case
@@ -1404,6 +1542,11 @@ class _Builder:
             if section in case.values:
                 rows.append((f"[{section}]", "kept whole, as JSON text, at the foot of the Inputs sheet; it is read "
                              "back by `tea run THIS.xlsx` but not used by the formulas of this workbook"))
+        if self.with_sensitivity:
+            rows.append(("Sensitivity", "The Sensitivity sheet holds values tea computed when it wrote this file: "
+                         "each key input moved alone to its low and its high value, the whole ledger run again for "
+                         "each (tea.sensitivity). They do not follow edits of the inputs; the base NPV now is a "
+                         "formula on the Results sheet, and the sheet says when it no longer matches the table."))
         rows.append(("", ""))
         for i, caution in enumerate(CAUTIONS, start=1):
             rows.append(("Caution" if i == 1 else "", caution))
@@ -1487,6 +1630,32 @@ def _payback_chart(cum: str, marker: str, years: str, currency: str) -> bytes:
     bar.legend.position = "b"
     bar += line
     return tostring(bar._write())
+
+
+def _tornado_chart(low: str, high: str, labels: str, currency: str) -> bytes:
+    """A native horizontal bar chart (tornado): the change in NPV with each input low and high, rank 1 on top."""
+    from openpyxl.chart import BarChart, Reference, Series
+    from openpyxl.xml.functions import tostring
+
+    chart = BarChart()
+    chart.type = "bar"
+    chart.grouping = "clustered"
+    chart.overlap = 100
+    chart.gapWidth = 40
+    for ref, name, rgb in ((low, "input at its low value", _PALETTE["input_border"][2:]),
+                           (high, "input at its high value", _PALETTE["head_fill"][2:])):
+        ser = Series(Reference(range_string=ref), title=name)
+        _colour(ser, rgb, "bar")
+        chart.series.append(ser)
+    chart.set_categories(Reference(range_string=labels))
+    chart.title = "What moves NPV: change from the base NPV"
+    chart.y_axis.title = f"change in NPV [{currency}/ha]"
+    chart.x_axis.scaling.orientation = "maxMin"  # the largest swing at the top
+    chart.x_axis.tickLblPos = "low"
+    chart.x_axis.delete = False
+    chart.y_axis.delete = False
+    chart.legend.position = "b"
+    return tostring(chart._write())
 
 
 _DRAWING_NS = ('xmlns:xdr="http://schemas.openxmlformats.org/drawingml/2006/spreadsheetDrawing" '
@@ -1615,21 +1784,35 @@ def _check_ledger(case: Case, ledger) -> None:
                          "stand life: it does not belong to this case")
 
 
-def _case_sheets(case: Case, ledger, results: Results, styles: _Styles, layout: _CaseLayout) -> list[_Sheet]:
+def _wants_sensitivity(case: Case, given: bool | None) -> bool:
+    """Whether a case's sheets include the sensitivity sheet: as asked, else when the case has the section."""
+    if given is not None and not isinstance(given, bool):
+        raise TypeError("sensitivity: expected True, False or None")
+    return given if given is not None else "sensitivity" in case.values
+
+
+def _case_sheets(case: Case, ledger, results: Results, styles: _Styles, layout: _CaseLayout,
+                 sensitivity: bool | None = None) -> list[_Sheet]:
     bld = _Builder(case, ledger, results, styles, layout)
-    return [bld.inputs(), bld.ledger(), bld.results(), bld.finance(), bld.carbon(), bld.notes()]
+    sheets = [bld.inputs(), bld.ledger(), bld.results(), bld.finance(), bld.carbon()]
+    if _wants_sensitivity(case, sensitivity):
+        from .sensitivity import run
+
+        bld.with_sensitivity = True
+        sheets.append(bld.sensitivity(run(case, with_surface=False)))
+    return sheets + [bld.notes()]
 
 
 def _paper(case: Case) -> int:
     return 1 if case["case.page_size"] == "Letter" else 9  # SpreadsheetML paper codes: 1 Letter, 9 A4
 
 
-def workbook_bytes(case: Case, ledger=None, results: Results | None = None) -> bytes:
+def workbook_bytes(case: Case, ledger=None, results: Results | None = None, sensitivity: bool | None = None) -> bytes:
     """The workbook of one case as .xlsx bytes (see :func:`write_workbook`)."""
     _check_ledger(case, ledger)
     styles = _Styles()
     layout = _CaseLayout(case)
-    sheets = _case_sheets(case, ledger, results, styles, layout)
+    sheets = _case_sheets(case, ledger, results, styles, layout, sensitivity)
     return _package(sheets, styles, layout.refs, case.name, f"{case['field.name']}: stand-life economics and carbon",
                     f"tea; case {case.hash}; {case.currency}", _description([case]), _paper(case))
 
@@ -1641,7 +1824,8 @@ def _description(cases: Sequence[Case]) -> str:
     return ("DEMO DATA. " + text) if demo else text
 
 
-def write_workbook(case: Case, ledger, results: Results, path: str | Path, force: bool = False) -> Path:
+def write_workbook(case: Case, ledger, results: Results, path: str | Path, force: bool = False,
+                   sensitivity: bool | None = None) -> Path:
     """Write the live-formula workbook of one case.
 
     Parameters
@@ -1656,6 +1840,10 @@ def write_workbook(case: Case, ledger, results: Results, path: str | Path, force
         The .xlsx file to write.
     force : bool
         Replace an existing file; otherwise an existing file raises OutputError.
+    sensitivity : bool, optional
+        Add the sensitivity sheet (values computed by :mod:`tea.sensitivity`
+        when the file is written, and a tornado chart): by default (None)
+        when the case has a ``[sensitivity]`` section; True always, False never.
 
     Returns
     -------
@@ -1663,12 +1851,12 @@ def write_workbook(case: Case, ledger, results: Results, path: str | Path, force
         The file written. The write is atomic: an interrupted run leaves no half-written file.
     """
     check_target(path, force)
-    data = workbook_bytes(case, ledger, results)
+    data = workbook_bytes(case, ledger, results, sensitivity)
     return atomic_write(path, lambda p: p.write_bytes(data), force)
 
 
 def portfolio_bytes(cases: Sequence[Case], ledgers: Sequence | None = None,
-                    results: Sequence[Results] | None = None) -> bytes:
+                    results: Sequence[Results] | None = None, sensitivity: bool | None = None) -> bytes:
     """The workbook of several cases as .xlsx bytes (see :func:`write_portfolio`)."""
     if not cases:
         raise ValueError("a portfolio needs at least one case")
@@ -1682,7 +1870,7 @@ def portfolio_bytes(cases: Sequence[Case], ledgers: Sequence | None = None,
     names: dict[str, str] = {}
     for case, frame, res, layout in zip(cases, ledgers, results, layouts):
         _check_ledger(case, frame)
-        sheets.extend(_case_sheets(case, frame, res, styles, layout))
+        sheets.extend(_case_sheets(case, frame, res, styles, layout, sensitivity))
         names.update(layout.refs)
     title = f"Portfolio of {len(cases)} cases"
     return _package(sheets, styles, names, title, "Stand-life economics and carbon, side by side",
@@ -1690,14 +1878,15 @@ def portfolio_bytes(cases: Sequence[Case], ledgers: Sequence | None = None,
 
 
 def write_portfolio(cases: Sequence[Case], ledgers: Sequence, results: Sequence[Results], path: str | Path,
-                    force: bool = False) -> Path:
+                    force: bool = False, sensitivity: bool | None = None) -> Path:
     """Write one workbook holding several cases: a comparison sheet, then each case's sheets.
 
     Sheets of case ``i`` are named ``C01 Inputs``, ``C01 Ledger``, ... and its defined
-    names carry the prefix ``c01_``. See :func:`write_workbook` for ``force`` and atomicity.
+    names carry the prefix ``c01_``. See :func:`write_workbook` for ``force``, ``sensitivity``
+    (case by case) and atomicity.
     """
     check_target(path, force)
-    data = portfolio_bytes(cases, ledgers, results)
+    data = portfolio_bytes(cases, ledgers, results, sensitivity)
     return atomic_write(path, lambda p: p.write_bytes(data), force)
 
 
