@@ -20,21 +20,11 @@ from .errors import CaseError, OutputError, TeaError
 
 def _cmd_run(args: argparse.Namespace) -> int:
     from . import terminal
-    from .case import load_case
     from .ledger import build_ledger
     from .results import summarise
 
-    cases, ledgers, results = [], [], []
-    problems = []
-    for path in args.cases:
-        try:
-            case = load_case(path)
-        except CaseError as exc:
-            problems.extend(exc.problems)
-            continue
-        cases.append(case)
-    if problems:
-        raise CaseError(problems)
+    cases = _load_all(args.cases)
+    ledgers, results = [], []
     outputs = [p for p in (args.xlsx, args.pdf, args.html) if p]
     _check_outputs(outputs, args.force)
     sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
@@ -85,21 +75,33 @@ def _check_outputs(paths: Sequence[str], force: bool) -> None:
         raise OutputError("\n".join(problems))
 
 
-def _cmd_check(args: argparse.Namespace) -> int:
+def _load_all(paths: Sequence[str], on_loaded=None) -> list:
+    """Load every case file (calling ``on_loaded(path, case)`` for each good one); then raise one
+    CaseError listing the problems of all the bad ones."""
     from .case import load_case
 
-    problems = []
-    for path in args.cases:
+    cases, problems = [], []
+    for path in paths:
         try:
             case = load_case(path)
         except CaseError as exc:
             problems.extend(exc.problems)
             continue
+        cases.append(case)
+        if on_loaded:
+            on_loaded(path, case)
+    if problems:
+        raise CaseError(problems)
+    return cases
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    def report(path: str, case) -> None:
         for w in case.warnings:
             print(f"warning: {w}", file=sys.stderr)
         print(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
-    if problems:
-        raise CaseError(problems)
+
+    _load_all(args.cases, report)
     return 0
 
 
