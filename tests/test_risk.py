@@ -168,7 +168,8 @@ high = 25.0
 
 class TestFailureEvent:
     @pytest.fixture(scope="class")
-    def failure_only(self):
+    @classmethod
+    def failure_only(cls):
         case = case_with("[risk]\nfailure_event = true\n")
         return case, risk.run(case, draws=20_000, seed=11)
 
@@ -213,7 +214,8 @@ class TestFailureEvent:
 
 class TestRun:
     @pytest.fixture(scope="class")
-    def demo(self):
+    @classmethod
+    def demo(cls):
         case = load_case(CLAY)
         return case, risk.run(case, draws=3_000, seed=9)
 

@@ -248,7 +248,8 @@ ok2,1e1,,,,,,
 
 class TestBadRows:
     @pytest.fixture(scope="class")
-    def result(self, tmp_path_factory):
+    @classmethod
+    def result(cls, tmp_path_factory):
         path = tmp_path_factory.mktemp("bad") / "fields.csv"
         path.write_text(BAD_TABLE)
         return screen.screen(path, load_case(CASES / "clay_corner_miscanthus.toml"), progress=False)

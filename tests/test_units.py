@@ -302,7 +302,8 @@ class TestUsDisplay:
     """A US-customary case is shown per acre and per short ton, converted with the NIST definitions."""
 
     @pytest.fixture(scope="class")
-    def shown(self):
+    @classmethod
+    def shown(cls):
         from conftest import run_cli
 
         path = CASES_DIR / "sandy_slope_switchgrass.toml"
