@@ -493,9 +493,14 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             if k.kind in ("float", "int") and (
                 (k.warn_lo is not None and item < k.warn_lo) or (k.warn_hi is not None and item > k.warn_hi)
             ):
-                lo = "" if k.warn_lo is None else f"{k.warn_lo:g}"
-                hi = "" if k.warn_hi is None else f"{k.warn_hi:g}"
-                warnings.append(f"{source}: {k.path}: {item:g} is unusual (expected {lo}..{hi} [{k.unit_text()}]); check it")
+                # in the spelling and unit the case used (or its unit system's, for preset values)
+                spelling = spelled.get(k.path) or units.spell(k.template, system)
+                f = factors.get(k.path) or units.spellings(k.template).get(spelling, 1.0)
+                lo = "" if k.warn_lo is None else f"{k.warn_lo / f:g}"
+                hi = "" if k.warn_hi is None else f"{k.warn_hi / f:g}"
+                unit = k.unit_text(system, str(values.get("case.currency", "")))
+                warnings.append(f"{source}: {k.section}.{spelling}: {item / f:g} is unusual "
+                                f"(expected {lo}..{hi}{f' [{unit}]' if unit else ''}); check it")
 
     # 6. rules that tie keys together
     _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced)
