@@ -44,10 +44,11 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import __version__, riskspec, screen, sensitivity
+from . import riskspec, screen, sensitivity
 from .case import Case
 from .errors import CaseError, Problem
 from .texts import CAUTIONS
+from .terminal import json_header
 
 PERCENTILES = (5, 10, 50, 90, 95)
 #: figures drawn per draw
@@ -357,12 +358,7 @@ def to_dict(res: RiskResult) -> dict[str, Any]:
     c = res.case
     counts, edges = res.histogram
     return {
-        "case": c.name,
-        "case_hash": c.hash,
-        "tool_version": __version__,
-        "currency": c.currency,
-        "per": "ha",
-        "demo_data": bool(c["case.demo"]),
+        **json_header(c),
         "draws": res.draws,
         "seed": res.seed,
         "generator": "numpy PCG64",

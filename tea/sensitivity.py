@@ -28,6 +28,7 @@ from . import __version__, riskspec, screen, units
 from .case import Case
 from .errors import CaseError, Problem
 from .texts import CAUTIONS
+from .terminal import json_header
 
 #: the figures recomputed for each variant
 FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use")
@@ -473,12 +474,7 @@ def to_dict(res: Sensitivity) -> dict[str, Any]:
     c = res.case
     table = sensitivity_table(res)
     out: dict[str, Any] = {
-        "case": c.name,
-        "case_hash": c.hash,
-        "tool_version": __version__,
-        "currency": c.currency,
-        "per": "ha",
-        "demo_data": bool(c["case.demo"]),
+        **json_header(c),
         "method": "one input at a time moved to its low and high value; full ledger recomputed",
         "base": {k: _num(v) for k, v in res.base.items()},
         "inputs": [{k: (_num(v) if isinstance(v, float) else v) for k, v in row.items()}

@@ -220,6 +220,18 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
     return payload
 
 
+def json_header(case: Case) -> dict[str, Any]:
+    """The keys every JSON output of a case opens with (tying it to its inputs)."""
+    return {
+        "case": case.name,
+        "case_hash": case.hash,
+        "tool_version": __version__,
+        "currency": case.currency,
+        "per": "ha",
+        "demo_data": bool(case["case.demo"]),
+    }
+
+
 def _json_number(v: float) -> float | None:
     """A float for JSON; NaN (e.g. DSCR in a year without debt service) becomes null."""
     v = float(v)
