@@ -18,24 +18,21 @@ from pathlib import Path
 from .errors import CaseError, Problem
 
 
-def _positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a whole number >= 1, got {value}")
-    return value
+def _whole_number(minimum: int):
+    """An argparse type: a whole number >= ``minimum``."""
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+        if value < minimum:
+            raise argparse.ArgumentTypeError(f"expected a whole number >= {minimum}, got {value}")
+        return value
+    return parse
 
 
-def _seed(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"expected a whole number >= 0, got {value}")
-    return value
+_positive_int = _whole_number(1)
+_seed = _whole_number(0)
 
 
 def _progress(args: argparse.Namespace) -> bool | None:

@@ -195,15 +195,19 @@ class TestSignChanges:
         assert got.tolist() == [2, 0, 1]
 
 
+#: numpy-financial docstring examples of irr, printed to 5 decimals
+IRR_DOCSTRING_EXAMPLES = [
+    ([-100, 39, 59, 55, 20], 0.28095),  # numpy-financial docstring example
+    ([-100, 0, 0, 74], -0.0955),  # numpy-financial docstring example
+    ([-100, 100, 0, 7], 0.06206),  # numpy-financial docstring example
+]
+
+
 # ---------------------------------------------------------------------------
 class TestIrr:
     @pytest.mark.parametrize(
         "flows, expected",
-        [
-            ([-100, 39, 59, 55, 20], 0.28095),  # numpy-financial docstring example
-            ([-100, 0, 0, 74], -0.0955),  # numpy-financial docstring example
-            ([-100, 100, 0, 7], 0.06206),  # numpy-financial docstring example
-        ],
+        IRR_DOCSTRING_EXAMPLES,
     )
     def test_docstring_examples(self, flows, expected):
         # printed to 5 decimals (-0.0955 is -0.09550 rounded)
@@ -400,11 +404,7 @@ class TestIrr:
 class TestIrrScalar:
     @pytest.mark.parametrize(
         "flows, expected",
-        [
-            ([-100, 39, 59, 55, 20], 0.28095),  # numpy-financial docstring example
-            ([-100, 0, 0, 74], -0.0955),  # numpy-financial docstring example
-            ([-100, 100, 0, 7], 0.06206),  # numpy-financial docstring example
-        ],
+        IRR_DOCSTRING_EXAMPLES,
     )
     def test_docstring_examples(self, flows, expected):
         assert fin.irr_scalar(flows) == pytest.approx(expected, abs=5e-6)
