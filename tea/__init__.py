@@ -17,22 +17,22 @@ try:
 except PackageNotFoundError:  # running from a source tree that is not installed
     __version__ = "0.1.0+src"
 
-from .errors import CaseError, OutputError, Problem, TeaError  # noqa: E402
-from .case import Case, load_case, load_text, load_mapping, preset_names, load_preset  # noqa: E402
-from .ledger import build_ledger  # noqa: E402
-from .results import Results, summarise  # noqa: E402
+from tea.core.errors import CaseError, OutputError, Problem, TeaError  # noqa: E402
+from tea.inputs.case import Case, load_case, load_text, load_mapping, preset_names, load_preset  # noqa: E402
+from tea.model.ledger import build_ledger  # noqa: E402
+from tea.model.results import Results, summarise  # noqa: E402
 
 
 def write_workbook(case, ledger, results, path, **options):
-    """Write the live-formula workbook of a case (see :mod:`tea.workbook`)."""
-    from .workbook import write_workbook as _write
+    """Write the live-formula workbook of a case (see :mod:`tea.outputs.workbook`)."""
+    from tea.outputs.workbook import write_workbook as _write
 
     return _write(case, ledger, results, path, **options)
 
 
 def render_summary(case, ledger, results, path, **options):
-    """Render the printed summary of a case as PDF or HTML (see :mod:`tea.report`)."""
-    from .report import render_summary as _render
+    """Render the printed summary of a case as PDF or HTML (see :mod:`tea.outputs.report`)."""
+    from tea.outputs.report import render_summary as _render
 
     return _render(case, ledger, results, path, **options)
 

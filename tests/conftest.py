@@ -46,7 +46,7 @@ class CliResult:
 
 def run_cli(argv: list[str], cwd: Path | None = None) -> CliResult:
     """Run ``tea.cli.main(argv)`` in-process; capture stdout, stderr and the exit status."""
-    from tea import cli
+    from tea.cli import main as cli
 
     out, err = io.StringIO(), io.StringIO()
     here = Path.cwd()

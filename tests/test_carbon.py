@@ -16,9 +16,10 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from tea import carbon
+from tea.methods import carbon
+from tea.inputs import published
 
-DATA_FILE = Path(carbon.__file__).parent / "data" / "ipcc.toml"
+DATA_FILE = Path(published.__file__).parent / "data" / "ipcc.toml"
 
 # IPCC 2006 Vol.4 Ch.2 Table 2.3, default reference SOC stocks under native vegetation,
 # 0-30 cm [t C/ha], as reproduced in the ILCD Handbook (2010) Annex B Table 10 (secondary).
@@ -49,17 +50,17 @@ TABLE_2_3_CELLS = [
 class TestSocRef:
     def test_names_cover_table_2_3(self):
         # IPCC 2006 Table 2.3 climate rows and mineral-soil columns (via ILCD Table 10)
-        assert carbon.CLIMATES == tuple(TABLE_2_3)
-        assert carbon.SOILS == TABLE_2_3_SOILS
+        assert published.CLIMATES == tuple(TABLE_2_3)
+        assert published.SOILS == TABLE_2_3_SOILS
 
     @pytest.mark.parametrize("climate, soil, expected", TABLE_2_3_CELLS)
     def test_every_cell_equals_table_2_3(self, climate, soil, expected):
         # IPCC 2006 Vol.4 Ch.2 Table 2.3 (via ILCD Handbook 2010 Annex B Table 10), secondary
         if expected is None:
             with pytest.raises(KeyError, match="soils with a value there"):
-                carbon.soc_ref_t_c_per_ha(climate, soil)
+                published.soc_ref_t_c_per_ha(climate, soil)
         else:
-            assert carbon.soc_ref_t_c_per_ha(climate, soil) == float(expected)
+            assert published.soc_ref_t_c_per_ha(climate, soil) == float(expected)
 
     def test_data_file_has_no_cell_outside_table_2_3(self):
         # IPCC 2006 Table 2.3 (via ILCD Table 10): the data file holds exactly its non-NA cells
@@ -71,14 +72,14 @@ class TestSocRef:
     def test_na_cell_lists_existing_soils(self):
         # Table 2.3: spodic is NA in warm temperate moist; the message lists the soils that exist
         with pytest.raises(KeyError) as info:
-            carbon.soc_ref_t_c_per_ha("warm_temperate_moist", "spodic")
+            published.soc_ref_t_c_per_ha("warm_temperate_moist", "spodic")
         message = str(info.value)
         for soil in ("high_activity_clay", "low_activity_clay", "sandy", "volcanic"):
             assert soil in message
 
     def test_unknown_climate_lists_valid_names(self):
         with pytest.raises(KeyError) as info:
-            carbon.soc_ref_t_c_per_ha("mediterranean", "sandy")
+            published.soc_ref_t_c_per_ha("mediterranean", "sandy")
         message = str(info.value)
         assert "mediterranean" in message
         for climate in TABLE_2_3:
@@ -86,7 +87,7 @@ class TestSocRef:
 
     def test_unknown_soil_lists_valid_names(self):
         with pytest.raises(KeyError) as info:
-            carbon.soc_ref_t_c_per_ha("boreal", "peat")
+            published.soc_ref_t_c_per_ha("boreal", "peat")
         for soil in TABLE_2_3_SOILS:
             assert soil in str(info.value)
 
@@ -143,39 +144,39 @@ FACTOR_CASES = [
 
 class TestLandUseFactors:
     def test_land_use_names(self):
-        assert set(carbon.LAND_USES) == {case[0] for case in FACTOR_CASES}
+        assert set(published.LAND_USES) == {case[0] for case in FACTOR_CASES}
 
     @pytest.mark.parametrize("land_use, climate, expected", FACTOR_CASES)
     def test_factors_match_tables(self, land_use, climate, expected):
-        assert carbon.land_use_factors(land_use, climate) == pytest.approx(expected, abs=1e-12)
+        assert published.land_use_factors(land_use, climate) == pytest.approx(expected, abs=1e-12)
 
     def test_tropical_wet_uses_moist_wet_column(self):
         # Table 5.5 (via ILCD): tropical moist/wet column, F_LU 0.48, F_MG no-till 1.22
-        assert carbon.land_use_factors("cropland_no_till", "tropical_wet") == pytest.approx(
+        assert published.land_use_factors("cropland_no_till", "tropical_wet") == pytest.approx(
             (0.48, 1.22, 1.00)
         )
 
     def test_warm_temperate_dry_uses_temperate_dry_column(self):
         # Table 5.5 (via ILCD): temperate/boreal dry column, F_LU 0.80, F_MG reduced till 1.02
-        assert carbon.land_use_factors("cropland_reduced_till", "warm_temperate_dry") == (
+        assert published.land_use_factors("cropland_reduced_till", "warm_temperate_dry") == (
             pytest.approx((0.80, 1.02, 1.00))
         )
 
     def test_boreal_uses_moist_column(self):
         # documented choice of tea.carbon.climate_regimes (Table 2.3 has one boreal row):
         # Table 5.5 temperate/boreal moist F_LU 0.69 (via ILCD)
-        assert carbon.climate_regimes("boreal") == ("temperate_boreal", "moist_wet")
-        assert carbon.land_use_factors("cropland_full_till", "boreal")[0] == pytest.approx(0.69)
+        assert published.climate_regimes("boreal") == ("temperate_boreal", "moist_wet")
+        assert published.land_use_factors("cropland_full_till", "boreal")[0] == pytest.approx(0.69)
 
     def test_unknown_land_use_lists_valid_names(self):
         with pytest.raises(KeyError) as info:
-            carbon.land_use_factors("orchard", TM)
-        for name in carbon.LAND_USES:
+            published.land_use_factors("orchard", TM)
+        for name in published.LAND_USES:
             assert name in str(info.value)
 
     def test_unknown_climate_lists_valid_names(self):
         with pytest.raises(KeyError) as info:
-            carbon.land_use_factors("perennial_crop", "arctic")
+            published.land_use_factors("perennial_crop", "arctic")
         for climate in TABLE_2_3:
             assert climate in str(info.value)
 
@@ -185,7 +186,7 @@ class TestLandUseFactors:
 # --------------------------------------------------------------------------------------
 def _equilibrium(land_use, climate, soil="high_activity_clay"):
     return carbon.soc_equilibrium(
-        carbon.soc_ref_t_c_per_ha(climate, soil), *carbon.land_use_factors(land_use, climate)
+        published.soc_ref_t_c_per_ha(climate, soil), *published.land_use_factors(land_use, climate)
     )
 
 
@@ -362,7 +363,7 @@ class TestN2O:
     # are half a unit of the last printed digit.
 
     def test_2006_wet(self):
-        factors = carbon.n2o_factors("2006", wet=True)
+        factors = published.n2o_factors("2006", wet=True)
         direct, indirect = _n2o_total_kg_n2o_n(100.0, factors)
         assert direct == pytest.approx(1.0, abs=5e-4)  # 100 x 0.010
         # 100 x 0.10 x 0.010 + 100 x 0.30 x 0.0075
@@ -372,19 +373,19 @@ class TestN2O:
         n2o = carbon.n2o_n_to_n2o(total)
         assert n2o == pytest.approx(2.0821, abs=5e-5)
         for report, expected in (("AR4", 620.5), ("AR5", 551.8), ("AR6", 568.4)):
-            assert n2o * carbon.gwp("n2o", report) == pytest.approx(expected, abs=0.05)
+            assert n2o * published.gwp("n2o", report) == pytest.approx(expected, abs=0.05)
 
     def test_2019_wet_aggregated(self):
-        factors = carbon.n2o_factors("2019", wet=True, disaggregated=False)
+        factors = published.n2o_factors("2019", wet=True, disaggregated=False)
         direct, indirect = _n2o_total_kg_n2o_n(100.0, factors)
         total = direct + indirect
         assert total == pytest.approx(1.374, abs=5e-4)  # 1.0 + 0.11 + 0.264
         n2o = carbon.n2o_n_to_n2o(total)
         assert n2o == pytest.approx(2.1591, abs=5e-5)
-        assert n2o * carbon.gwp("n2o", "AR6") == pytest.approx(589.4, abs=0.05)
+        assert n2o * published.gwp("n2o", "AR6") == pytest.approx(589.4, abs=0.05)
 
     def test_2019_wet_disaggregated(self):
-        factors = carbon.n2o_factors("2019", wet=True)  # disaggregated is the default
+        factors = published.n2o_factors("2019", wet=True)  # disaggregated is the default
         assert factors["ef1"] == pytest.approx(0.016)  # 2019 Table 11.1, wet, synthetic (weak)
         assert factors["ef4"] == pytest.approx(0.014)  # 2019 Table 11.3, wet (weak)
         direct, indirect = _n2o_total_kg_n2o_n(100.0, factors)
@@ -392,7 +393,7 @@ class TestN2O:
         assert total == pytest.approx(2.018, abs=5e-4)  # 1.6 + 0.154 + 0.264
         n2o = carbon.n2o_n_to_n2o(total)
         assert n2o == pytest.approx(3.1711, abs=5e-5)
-        assert n2o * carbon.gwp("n2o", "AR6") == pytest.approx(865.7, abs=0.05)
+        assert n2o * published.gwp("n2o", "AR6") == pytest.approx(865.7, abs=0.05)
 
     @pytest.mark.parametrize(
         "version, disaggregated, expected_total",
@@ -404,7 +405,7 @@ class TestN2O:
         ],
     )
     def test_dry_climate_has_no_leaching_term(self, version, disaggregated, expected_total):
-        factors = carbon.n2o_factors(version, wet=False, disaggregated=disaggregated)
+        factors = published.n2o_factors(version, wet=False, disaggregated=disaggregated)
         assert factors["frac_leach"] == 0.0
         direct, indirect = _n2o_total_kg_n2o_n(100.0, factors)
         volatilisation_only = carbon.n2o_indirect_kg_n2o_n(
@@ -414,7 +415,7 @@ class TestN2O:
         assert direct + indirect == pytest.approx(expected_total, abs=1e-9)
 
     def test_factor_keys_and_version_as_int(self):
-        factors = carbon.n2o_factors(2006, wet=True)
+        factors = published.n2o_factors(2006, wet=True)
         assert set(factors) == {"ef1", "frac_gasf", "frac_leach", "ef4", "ef5"}
         # IPCC 2006 Tables 11.1 / 11.3 (weak)
         assert factors == pytest.approx(
@@ -423,21 +424,21 @@ class TestN2O:
 
     def test_2019_factor_values(self):
         # 2019 Refinement Tables 11.1 / 11.3 (weak; EF5 0.011 secondary)
-        assert carbon.n2o_factors("2019", wet=True, disaggregated=False) == pytest.approx(
+        assert published.n2o_factors("2019", wet=True, disaggregated=False) == pytest.approx(
             {"ef1": 0.010, "frac_gasf": 0.11, "frac_leach": 0.24, "ef4": 0.010, "ef5": 0.011}
         )
-        assert carbon.n2o_factors("2019", wet=False) == pytest.approx(
+        assert published.n2o_factors("2019", wet=False) == pytest.approx(
             {"ef1": 0.005, "frac_gasf": 0.11, "frac_leach": 0.0, "ef4": 0.005, "ef5": 0.011}
         )
 
     def test_unknown_version_lists_valid(self):
         with pytest.raises(KeyError) as info:
-            carbon.n2o_factors("2010", wet=True)
+            published.n2o_factors("2010", wet=True)
         assert "2006" in str(info.value) and "2019" in str(info.value)
 
     def test_wet_must_be_bool(self):
         with pytest.raises(TypeError, match="wet"):
-            carbon.n2o_factors("2006", wet="dry")
+            published.n2o_factors("2006", wet="dry")
 
     def test_broadcast_cases_by_years(self):
         # (cases, years) of N applied against per-case factors; each cell = N x factor
@@ -494,10 +495,10 @@ GWP_TABLE = [
 class TestGwp:
     @pytest.mark.parametrize("gas, report, expected", GWP_TABLE)
     def test_values(self, gas, report, expected):
-        assert carbon.gwp(gas, report) == expected
+        assert published.gwp(gas, report) == expected
 
     def test_case_insensitive(self):
-        assert carbon.gwp("N2O", "ar5") == carbon.gwp("n2o", "AR5")
+        assert published.gwp("N2O", "ar5") == published.gwp("n2o", "AR5")
 
     @pytest.mark.parametrize("gas", ["n2o", "ch4"])
     @pytest.mark.parametrize("report", ["AR4", "AR5", "AR6"])
@@ -510,14 +511,14 @@ class TestGwp:
             "(pip install globalwarmingpotentials) - outside GWP check skipped",
         )
         expected = gwp_pkg.data[f"{report}GWP100"][gas.upper()]
-        assert carbon.gwp(gas, report) == pytest.approx(expected, abs=1e-9)
+        assert published.gwp(gas, report) == pytest.approx(expected, abs=1e-9)
 
     def test_unknown_gas_and_report_list_valid(self):
         with pytest.raises(KeyError) as info:
-            carbon.gwp("sf6", "AR6")
+            published.gwp("sf6", "AR6")
         assert all(g in str(info.value) for g in ("co2", "ch4", "n2o"))
         with pytest.raises(KeyError) as info:
-            carbon.gwp("n2o", "SAR")
+            published.gwp("n2o", "SAR")
         assert all(r in str(info.value) for r in ("AR4", "AR5", "AR6"))
 
 
@@ -529,20 +530,20 @@ class TestDefaultInputFactors:
         # 40 CFR 98 Subpart C Table C-1, distillate fuel oil No. 2: 0.138 mmBtu/gal x
         # 73.96 kg CO2/mmBtu = 10.21 kg/gal = 2.696 kg CO2/L (verified). The IPCC default uses
         # net calorific values and another density, so agreement within 1 % is expected.
-        diesel = carbon.default_input_factors()["diesel_kg_co2_per_l"]
+        diesel = published.default_input_factors()["diesel_kg_co2_per_l"]
         assert diesel["value"] == pytest.approx(2.696, rel=0.01)
         assert diesel["check_value"] == 2.696
 
     def test_diesel_derivation(self):
         # IPCC 2006 Vol.2 Ch.1 Tables 1.4 and 1.2: 74,100 kg CO2/TJ x 43.0 TJ/Gg = 3.186 kg/kg,
         # x 0.84 kg/L = 2.676 kg/L (all from memory); printed to 3 decimals
-        diesel = carbon.default_input_factors()["diesel_kg_co2_per_l"]
+        diesel = published.default_input_factors()["diesel_kg_co2_per_l"]
         per_kg = diesel["value"] / diesel["density_kg_per_l"]
         assert per_kg == pytest.approx(3.186, abs=5e-4)
         assert diesel["value"] == pytest.approx(2.676, abs=5e-4)
 
     def test_every_factor_has_source_unit_and_status(self):
-        factors = carbon.default_input_factors()
+        factors = published.default_input_factors()
         assert set(factors) == {
             "diesel_kg_co2_per_l",
             "fertiliser_n_kg_co2e_per_kg_n",
@@ -559,13 +560,13 @@ class TestDefaultInputFactors:
 
     def test_fertiliser_n_inside_typical_range(self):
         # typical European manufacture values 3.5-6 kg CO2e/kg N (from memory)
-        n = carbon.default_input_factors()["fertiliser_n_kg_co2e_per_kg_n"]
+        n = published.default_input_factors()["fertiliser_n_kg_co2e_per_kg_n"]
         assert 3.5 <= n["value"] <= 6.0
 
     def test_returns_a_copy(self):
-        first = carbon.default_input_factors()
+        first = published.default_input_factors()
         first["diesel_kg_co2_per_l"]["value"] = 0.0
-        assert carbon.default_input_factors()["diesel_kg_co2_per_l"]["value"] > 2.0
+        assert published.default_input_factors()["diesel_kg_co2_per_l"]["value"] > 2.0
 
 
 # --------------------------------------------------------------------------------------

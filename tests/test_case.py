@@ -13,20 +13,20 @@ from importlib import resources
 import pytest
 
 import tea
-from tea import schema
-from tea.case import load_case, load_mapping, load_preset, load_text, preset_names
-from tea.errors import CaseError
+from tea.inputs import schema
+from tea.inputs.case import load_case, load_mapping, load_preset, load_text, preset_names
+from tea.core.errors import CaseError
 
 from conftest import CASES_DIR, copy_case, to_toml
 
 HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 Appendix C: 1 acre = 0.40468564224 ha
 T_PER_SHORT_TON = 0.90718474  # NIST Handbook 44 Appendix C: 1 short ton = 0.90718474 t
 
-PRESET_FILES = sorted(p.name[:-5] for p in resources.files("tea.presets").iterdir() if p.name.endswith(".toml"))
+PRESET_FILES = sorted(p.name[:-5] for p in resources.files("tea.inputs.presets").iterdir() if p.name.endswith(".toml"))
 
 
 def _raw_preset(name: str) -> dict:
-    return tomllib.loads(resources.files("tea.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8"))
+    return tomllib.loads(resources.files("tea.inputs.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8"))
 
 
 def _spellings(section: str) -> set[str]:

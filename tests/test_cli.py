@@ -14,10 +14,10 @@ from pathlib import Path
 import pytest
 
 import tea
-from tea.case import load_case, preset_names
-from tea.ledger import LINE_NAMES
-from tea.results import FIGURE_BY_NAME, FIGURE_NAMES
-from tea.texts import CAUTIONS
+from tea.inputs.case import load_case, preset_names
+from tea.model.ledger import LINE_NAMES
+from tea.model.results import FIGURE_BY_NAME, FIGURE_NAMES
+from tea.core.texts import CAUTIONS
 
 from conftest import CASES_DIR, DEMO_CASES, DEMO_IDS, copy_case, run_cli, to_toml
 

@@ -2,14 +2,14 @@
 
 from pathlib import Path
 
-from tea import docs
+from tea.outputs import docs
 
 ROOT = Path(__file__).resolve().parent.parent
 
 
 def test_readme_reference_is_current():
     text = (ROOT / "README.md").read_text(encoding="utf-8")
-    assert docs.update(text) == text, "README.md is stale: run `python -m tea.docs`"
+    assert docs.update(text) == text, "README.md is stale: run `python -m tea.outputs.docs`"
 
 
 def test_readme_has_exactly_two_setup_commands():

@@ -25,7 +25,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
-from tea import finance as fin
+from tea.methods import finance as fin
 
 # The npv example of the numpy-financial docstring, reused below.
 NPV_EXAMPLE = [-40_000.0, 5_000.0, 8_000.0, 12_000.0, 30_000.0]

@@ -14,8 +14,8 @@ import pytest
 from numpy.testing import assert_allclose
 
 import tea
-from tea.case import load_case
-from tea.ledger import LINE_NAMES
+from tea.inputs.case import load_case
+from tea.model.ledger import LINE_NAMES
 
 from conftest import CASES_DIR, DEMO_CASES, DEMO_IDS
 
@@ -242,7 +242,7 @@ class TestCashIdentities:
     def test_whole_field_is_per_ha_times_area(self, stem, demo):
         case, _, res = demo[stem]
         whole = res.whole_field
-        from tea.results import FIGURE_BY_NAME
+        from tea.model.results import FIGURE_BY_NAME
 
         for name, per_ha in res.per_ha.items():
             if per_ha is None:

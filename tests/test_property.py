@@ -25,9 +25,11 @@ import hypothesis.strategies as st
 from hypothesis import HealthCheck, given, settings
 
 import tea
-from tea import schema
-from tea.case import load_mapping, load_text
-from tea.errors import CaseError
+import tea.inputs.schema
+import tea.inputs.units
+from tea.inputs import schema
+from tea.inputs.case import load_mapping, load_text
+from tea.core.errors import CaseError
 
 from conftest import DEMO_CASES, run_cli, to_toml
 
@@ -36,7 +38,7 @@ TEXTS = {p.stem: p.read_text(encoding="utf-8") for p in DEMO_CASES}
 BASES = {stem: tomllib.loads(text) for stem, text in TEXTS.items()}
 STEMS = sorted(BASES)
 SPELLINGS = {s: sorted({sp for k in schema.keys_in(s) for t in (k.template, *k.aliases)
-                        for sp in tea.units.spellings(t)}) for s in schema.SECTIONS}
+                        for sp in tea.inputs.units.spellings(t)}) for s in schema.SECTIONS}
 ALL_SPELLINGS = sorted((s, sp) for s, names in SPELLINGS.items() for sp in names)
 WHOLE_FILE = ("malformed TOML", "expected a TOML document")
 

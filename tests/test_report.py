@@ -31,9 +31,9 @@ import pytest
 from lxml import etree
 
 import tea
-from tea import charts, display, report, terminal
-from tea.errors import OutputError
-from tea.texts import CAUTIONS
+from tea.outputs import charts, display, report, terminal
+from tea.core.errors import OutputError
+from tea.core.texts import CAUTIONS
 
 from conftest import CASES_DIR, DEMO_CASES, DEMO_IDS, run_cli, run_module, to_toml
 
@@ -537,7 +537,7 @@ def test_the_page_of_a_case_with_a_sensitivity_section_shows_its_tornado(rendere
             tops.setdefault("".join(el.itertext()).split("*")[0].strip(), float(el.get("y")))
     swing = {path: abs(_npv_per_area(case, **{path: r["high"]}) - _npv_per_area(case, **{path: r["low"]}))
              for path, r in ranges.items()}
-    from tea import riskspec
+    from tea.inputs import riskspec
 
     by_position = sorted(ranges, key=lambda path: tops[riskspec.label(path)])
     assert by_position == sorted(ranges, key=lambda path: -swing[path])

@@ -31,9 +31,12 @@ import numpy as np
 import numpy_financial as npf
 import pytest
 
-from tea import ledger, load_case, load_text, riskspec, risk, screen, summarise
-from tea.cli import main
-from tea.errors import CaseError
+from tea import load_case, load_text, summarise
+from tea.model import ledger
+from tea.inputs import riskspec
+from tea.analysis import risk, screen
+from tea.cli.main import main
+from tea.core.errors import CaseError
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
@@ -297,7 +300,7 @@ class TestRun:
 
 
 def finance_sign_changes(flows) -> int:
-    from tea import finance
+    from tea.methods import finance
 
     return finance.sign_changes(flows)
 

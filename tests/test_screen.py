@@ -19,9 +19,12 @@ import numpy_financial as npf
 import pandas as pd
 import pytest
 
-from tea import finance, ledger, load_case, results, screen
-from tea.cli import main
-from tea.errors import CaseError, OutputError
+from tea import load_case
+from tea.methods import finance
+from tea.model import ledger, results
+from tea.analysis import screen
+from tea.cli.main import main
+from tea.core.errors import CaseError, OutputError
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"

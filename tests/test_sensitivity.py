@@ -22,9 +22,11 @@ import numpy as np
 import numpy_financial as npf
 import pytest
 
-from tea import build_ledger, load_case, load_text, riskspec, sensitivity, summarise
-from tea.cli import main
-from tea.errors import CaseError
+from tea import build_ledger, load_case, load_text, summarise
+from tea.inputs import riskspec
+from tea.analysis import sensitivity
+from tea.cli.main import main
+from tea.core.errors import CaseError
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"

@@ -17,8 +17,8 @@ import pytest
 from numpy.testing import assert_allclose
 
 import tea
-from tea import schema, units
-from tea.case import load_mapping, load_text
+from tea.inputs import schema, units
+from tea.inputs.case import load_mapping, load_text
 
 from conftest import CASES_DIR, to_toml
 
@@ -154,7 +154,7 @@ class TestSpellings:
 
     def test_scalar_list_and_array(self):
         # the same factor on a scalar, a list and an ndarray (a list scales element-wise)
-        from tea.case import _scale
+        from tea.inputs.case import _scale
 
         f = units.spellings("area_{ha}")["area_acre"]
         assert _scale(10.0, f) == pytest.approx(10 * HA_PER_ACRE, rel=1e-15)

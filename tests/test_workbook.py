@@ -35,15 +35,20 @@ import numpy as np
 import pytest
 
 import tea
-from tea import display, finance, ledger, results, units
-from tea.results import FIGURE_BY_NAME, FIGURE_NAMES
-from tea.workbook import (LEDGER_KEY_ROW, LEDGER_TOP, N_ROWS, TABLE_KEY_ROW, TABLE_LABEL_ROW, TABLE_TOP,
+import tea.inputs.schema
+import tea.inputs.units
+from tea.outputs import display
+from tea.methods import finance
+from tea.model import ledger, results
+from tea.inputs import units
+from tea.model.results import FIGURE_BY_NAME, FIGURE_NAMES
+from tea.outputs.workbook import (LEDGER_KEY_ROW, LEDGER_TOP, N_ROWS, TABLE_KEY_ROW, TABLE_LABEL_ROW, TABLE_TOP,
                           portfolio_bytes, read_case_mapping, workbook_bytes)
 
 import spreadsheet_engine as engine
-from tea.sensitivity import FIGURES as SENS_FIGURES
-from tea.sensitivity import sensitivity_table
-from tea.workbook import SENS_KEY_ROW, SENS_TOP
+from tea.analysis.sensitivity import FIGURES as SENS_FIGURES
+from tea.analysis.sensitivity import sensitivity_table
+from tea.outputs.workbook import SENS_KEY_ROW, SENS_TOP
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = {p.stem: p for p in sorted((ROOT / "cases").glob("*.toml"))}
@@ -236,7 +241,7 @@ def compare_case(wb, case, prefix: str = "") -> int:
             break
         m = re.fullmatch(r"(\w+)\[(\d+)\]", key)
         base = m.group(1) if m else key
-        k = next(k for k in tea.schema.KEYS if k.section == section and base in k.spellings())
+        k = next(k for k in tea.inputs.schema.KEYS if k.section == section and base in k.spellings())
         value = v.get(k.path)
         if k.kind == "list":
             i = int(m.group(2)) - 1
@@ -268,7 +273,7 @@ def input_row(path: Path, path_key: str, sheet: str = "Inputs") -> int:
     from openpyxl import load_workbook
 
     section, _, name = path_key.partition(".")
-    k = tea.schema.BY_PATH[path_key]
+    k = tea.inputs.schema.BY_PATH[path_key]
     wb = load_workbook(path, read_only=True)
     try:
         ws = wb[sheet]
@@ -298,7 +303,7 @@ def edit_input(src: Path, dst: Path, path_key: str, value: float) -> None:
 
 def shown_value(case, path_key: str) -> float:
     """The value the inputs sheet shows for a key (case units)."""
-    k = tea.schema.BY_PATH[path_key]
+    k = tea.inputs.schema.BY_PATH[path_key]
     factor = k.spellings()[units.spell(k.template, case.unit_system)]
     return case.values[path_key] / factor
 
@@ -353,7 +358,7 @@ def recalculated(tmp_path_factory):
         base = books["clay_corner_miscanthus" if case is clay else "sandy_slope_switchgrass"][0]
         path = src / f"{name}.xlsx"
         edit_input(base, path, key, value)
-        k = tea.schema.BY_PATH[key]
+        k = tea.inputs.schema.BY_PATH[key]
         factor = k.spellings()[units.spell(k.template, case.unit_system)]
         books[name] = (path, case.replace(**{key: value * factor if k.kind == "float" else value}))
     files = engine.recalculate([p for p, _ in books.values()], out)

@@ -15,11 +15,13 @@ import pytest
 from openpyxl import load_workbook
 
 import tea
-from tea import cli, schema, units
-from tea.errors import CaseError, OutputError
-from tea.ledger import LINE_NAMES
-from tea.results import FIGURE_NAMES
-from tea.workbook import (LEDGER_FORMULAS, LEDGER_TOP, N_ROWS, RESULT_FORMULAS, portfolio_bytes,
+import tea.core.texts
+from tea.cli import main as cli
+from tea.inputs import schema, units
+from tea.core.errors import CaseError, OutputError
+from tea.model.ledger import LINE_NAMES
+from tea.model.results import FIGURE_NAMES
+from tea.outputs.workbook import (LEDGER_FORMULAS, LEDGER_TOP, N_ROWS, RESULT_FORMULAS, portfolio_bytes,
                           read_case_mapping, workbook_bytes, write_portfolio, write_workbook)
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -233,7 +235,7 @@ def test_sheets_views_print_setup_and_properties(tmp_path, demo):
     assert res.cell(npv_row, 3).value.startswith("=$B$") or "NPV(m_rate," in res.cell(npv_row, 3).value
     notes = [c.value for row in wb["Notes"].iter_rows() for c in row if isinstance(c.value, str)]
     assert tea.__version__ in " ".join(notes) and case.hash in notes
-    for caution in tea.texts.CAUTIONS:
+    for caution in tea.core.texts.CAUTIONS:
         assert caution in notes
     with zipfile.ZipFile(path) as zf:
         charts = [n for n in zf.namelist() if n.startswith("xl/charts/")]
@@ -352,7 +354,7 @@ HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 (2024), Appendix C, exact
 
 def _sensitivity_rows(ws):
     """The keyed columns of the sensitivity table and its rows: ({key: column}, [row numbers])."""
-    from tea.workbook import SENS_KEY_ROW, SENS_TOP
+    from tea.outputs.workbook import SENS_KEY_ROW, SENS_TOP
 
     cols = {c.value: c.column for c in ws[SENS_KEY_ROW] if isinstance(c.value, str)}
     rows = [r for r in range(SENS_TOP, ws.max_row + 1) if isinstance(ws.cell(r, cols["rank"]).value, int)]
@@ -362,8 +364,8 @@ def _sensitivity_rows(ws):
 def test_sensitivity_sheet_holds_the_sensitivity_table(tmp_path, demo):
     import numpy_financial as npf
 
-    from tea.sensitivity import FIGURES as SENS_FIGURES
-    from tea.sensitivity import sensitivity_table
+    from tea.analysis.sensitivity import FIGURES as SENS_FIGURES
+    from tea.analysis.sensitivity import sensitivity_table
 
     case = demo["clay_corner_miscanthus"][0]
     path = _write(tmp_path, case)  # the case has a [sensitivity] section: the sheet is there by default

@@ -43,7 +43,9 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from tea import finance, load_case, risk, screen, sensitivity  # noqa: E402
+from tea import load_case
+from tea.methods import finance
+from tea.analysis import risk, screen, sensitivity  # noqa: E402
 
 CASE = ROOT / "cases" / "clay_corner_miscanthus.toml"
 

@@ -24,7 +24,7 @@ import pyxirr
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from tea import finance  # noqa: E402
+from tea.methods import finance  # noqa: E402
 
 CASES = 100_000
 YEARS = 25

@@ -31,7 +31,7 @@ ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
 import tea  # noqa: E402
-from tea import report  # noqa: E402
+from tea.outputs import report  # noqa: E402
 
 CASES = sorted((ROOT / "cases").glob("*.toml"))
 

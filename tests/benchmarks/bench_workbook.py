@@ -25,7 +25,7 @@ sys.path.insert(0, str(ROOT))
 
 T0 = time.perf_counter()
 import tea  # noqa: E402
-from tea import workbook  # noqa: E402
+from tea.outputs import workbook  # noqa: E402
 import openpyxl.chart  # noqa: E402,F401  (charts are serialised with openpyxl: an import, not work)
 IMPORTS = time.perf_counter() - T0
 

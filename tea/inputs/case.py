@@ -2,9 +2,9 @@
 
 A case is one field, one crop and one deal. :func:`load_case` reads it, lays the
 crop preset under the case's own values, converts every quantity to canonical
-units (ha, t, kg, km, l, GJ; see :mod:`tea.units`) and checks every key against
-:mod:`tea.schema`. Every problem is collected, each naming the file, the key
-path and what was expected, and raised together as one :class:`~tea.errors.CaseError`.
+units (ha, t, kg, km, l, GJ; see :mod:`tea.inputs.units`) and checks every key against
+:mod:`tea.inputs.schema`. Every problem is collected, each naming the file, the key
+path and what was expected, and raised together as one :class:`~tea.core.errors.CaseError`.
 Legal but unusual values become warnings on the case.
 """
 
@@ -22,8 +22,10 @@ from importlib import resources
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
-from . import carbon, finance, schema, units
-from .errors import CaseError, Problem
+from tea.methods import finance
+from tea.inputs import published
+from tea.inputs import schema, units
+from tea.core.errors import CaseError, Problem
 
 #: physical ceiling on a harvested yield [t DM ha⁻¹ yr⁻¹]: from memory, the
 #: most that the maximum efficiency of solar energy conversion allows any crop
@@ -56,7 +58,7 @@ class Preset:
 
 def preset_names() -> list[str]:
     """Names of the packaged crop presets."""
-    return sorted(p.name[:-5] for p in resources.files("tea.presets").iterdir() if p.name.endswith(".toml"))
+    return sorted(p.name[:-5] for p in resources.files("tea.inputs.presets").iterdir() if p.name.endswith(".toml"))
 
 
 @lru_cache(maxsize=None)
@@ -64,7 +66,7 @@ def load_preset(name: str) -> Preset:
     """Read a packaged preset. Raises KeyError naming the valid presets."""
     if name not in preset_names():
         raise KeyError(f"unknown crop preset {name!r}; valid presets: {', '.join(preset_names())}")
-    text = resources.files("tea.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8")
+    text = resources.files("tea.inputs.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8")
     data = tomllib.loads(text)
     head = data.pop("preset")
     values: dict[str, Any] = {}
@@ -197,7 +199,7 @@ def load_case(path: str | Path) -> Case:
     if not path.exists():
         raise CaseError([Problem(source, "", "file not found")])
     if path.suffix.lower() == ".xlsx":
-        from .workbook import read_case_mapping  # only when a workbook is read back
+        from tea.inputs.workbook_reader import read_case_mapping  # only when a workbook is read back
 
         return load_mapping(read_case_mapping(path), source=source)
     try:
@@ -521,7 +523,7 @@ def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[P
     It returns the normalised (JSON-able) content and a list of problems.
     """
     try:
-        from . import riskspec
+        from tea.inputs import riskspec
     except ImportError:
         return None, [Problem(source, section, "this version of tea does not read this section")]
     return riskspec.parse(section, table, source)
@@ -549,7 +551,7 @@ def _derive(values, origin, notes, problems, source) -> None:
 
     if "carbon.soc_ref_t_c_per_ha" not in values and known_site:
         try:
-            put("carbon.soc_ref_t_c_per_ha", carbon.soc_ref_t_c_per_ha(climate, soil),
+            put("carbon.soc_ref_t_c_per_ha", published.soc_ref_t_c_per_ha(climate, soil),
                 f"IPCC 2006 Vol.4 Ch.2 Table 2.3, {climate}, {soil}")
         except KeyError:
             problems.append(Problem(source, "carbon.soc_ref_t_c_per_ha",
@@ -557,10 +559,10 @@ def _derive(values, origin, notes, problems, source) -> None:
                                     "give the reference stock [t C/ha]"))
     use = values.get("field.current_use")
     if climate in schema.CLIMATES and use in schema.LAND_USES:
-        f_lu, f_mg, f_i = carbon.land_use_factors(use, climate)
+        f_lu, f_mg, f_i = published.land_use_factors(use, climate)
         for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
             put(f"carbon.current_{name}", f, f"IPCC 2006 Vol.4 Tables 5.5/6.2, {use}, {climate}")
-    factors = carbon.default_input_factors()
+    factors = published.default_input_factors()
     for path, key in (
         ("carbon.diesel_kg_co2e_per_l", "diesel_kg_co2_per_l"),
         ("carbon.n_manufacture_kg_co2e_per_kg", "fertiliser_n_kg_co2e_per_kg_n"),

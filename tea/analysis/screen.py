@@ -3,10 +3,10 @@
 Two parts:
 
 * :func:`evaluate` computes decision figures for many variants of one case at
-  once (``p`` from :func:`tea.ledger.model_inputs`, columns shaped
+  once (``p`` from :func:`tea.model.ledger.model_inputs`, columns shaped
   ``(cases, 1)``), in chunks of rows so that memory stays bounded. Its *lean*
-  path computes only what screening and risk report; :func:`tea.ledger.compute`
-  with :func:`tea.results.figures` stays the reference (the *full* path, also
+  path computes only what screening and risk report; :func:`tea.model.ledger.compute`
+  with :func:`tea.model.results.figures` stays the reference (the *full* path, also
   available here), and the tests hold the two equal to 1e-9.
 * :func:`screen` reads a field table (CSV, one row per field, columns
   overriding case values), checks every cell, skips and reports bad rows,
@@ -21,13 +21,13 @@ path, SOC path, loan terms): a harvest's dry matter is mature yield x site
 factor x (1 - losses) x the harvested share of the growth pattern, a yearly
 cost is its amount x the years the stand stands, and so on (every cost or
 receipt that depends on the yield is proportional to the harvested dry
-matter, as :mod:`tea.ledger` defines it). Rows are grouped by their
+matter, as :mod:`tea.model.ledger` defines it). Rows are grouped by their
 structural inputs; within a group the net cash flow is the matrix product of
 a (rows x terms) coefficient matrix and a (terms x years) pattern matrix,
 and sums over the years (dry matter sold, emissions, present values) reduce
 to sums of the patterns. Only the IRR, the paybacks, the funding peaks and
 the DSCR need the year-by-year flows. The same functions of
-:mod:`tea.agronomy`, :mod:`tea.carbon` and :mod:`tea.loan` as the ledger's
+:mod:`tea.methods.agronomy`, :mod:`tea.methods.carbon` and :mod:`tea.methods.loan` as the ledger's
 build the patterns.
 """
 
@@ -43,10 +43,14 @@ from typing import Any, Callable, Iterator, Mapping, Sequence
 
 import numpy as np
 
-from . import __version__, agronomy, carbon, finance, ledger, loan, results, schema
-from .case import Case
-from .errors import CaseError, OutputError, Problem
-from .texts import CAUTIONS
+from tea import __version__
+from tea.methods import agronomy, carbon, finance, loan
+from tea.inputs import published
+from tea.model import ledger, results
+from tea.inputs import schema
+from tea.inputs.case import Case
+from tea.core.errors import CaseError, OutputError, Problem
+from tea.core.texts import CAUTIONS
 
 C_TO_CO2 = carbon.C_TO_CO2
 N2O_N_TO_N2O = carbon.N2O_N_TO_N2O
@@ -58,7 +62,7 @@ TABLE_CHUNK_ROWS = 65536
 #: above this many structural groups per row the lean path stops paying; the full ledger is used
 MAX_GROUP_SHARE = 1.0 / 256.0
 
-#: the figures the lean path computes (names as in :data:`tea.results.FIGURE_NAMES`)
+#: the figures the lean path computes (names as in :data:`tea.model.results.FIGURE_NAMES`)
 LEAN_FIGURES = (
     "npv", "npv_vs_current_use", "pv_current_use", "irr", "irr_vs_current_use", "eav", "current_margin", "current_use_net",
     "eav_vs_current_use", "payback_year", "payback_years", "discounted_payback_year", "discounted_payback_years",
@@ -82,7 +86,7 @@ STRUCTURE = ("life", "first", "interval", "decline_start", "decline_rate", "pric
 
 # ============================================================================= inputs for many rows
 def model_inputs(values: Mapping[str, Any], case_or_values: Case | Mapping[str, Any] | None = None) -> dict[str, Any]:
-    """:func:`tea.ledger.model_inputs` plus the options :func:`tea.results.figures` needs."""
+    """:func:`tea.model.ledger.model_inputs` plus the options :func:`tea.model.results.figures` needs."""
     p = ledger.model_inputs(values)
     return results.with_case_options(values if case_or_values is None else case_or_values, p)
 
@@ -111,7 +115,7 @@ def _take(p: Mapping[str, Any], rows: slice | np.ndarray, n: int) -> dict[str, A
 
 
 def _broadcast(p: Mapping[str, Any], n: int) -> dict[str, Any]:
-    """Every (1, 1) column broadcast to (n, 1), as :func:`tea.results.figures` expects."""
+    """Every (1, 1) column broadcast to (n, 1), as :func:`tea.model.results.figures` expects."""
     out = {}
     for name, a in p.items():
         if isinstance(a, np.ndarray) and a.ndim == 2 and a.shape == (1, 1) and name != "ramp":
@@ -334,7 +338,7 @@ def _coefficients(q: Mapping[str, Any], m: int) -> dict[str, np.ndarray]:
 
 
 def _payback_from(flow: np.ndarray, cum: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`tea.finance.payback` from flows and their running totals, both (years, rows).
+    """:func:`tea.methods.finance.payback` from flows and their running totals, both (years, rows).
 
     Same rule: the first year t after the cumulative flow first turns negative
     at which it is >= 0 again, interpolated as ``t - 1 + deficit / flow_t``;
@@ -410,14 +414,14 @@ def _lean_chunk(q: Mapping[str, Any], pat: _Patterns, m: int, names: Sequence[st
     for i, k in enumerate(terms):
         C[i] = c[k]
     margin = g("margin")
-    # the current use nets its margin less the rent and overheads it pays too (tea.ledger: current_use_cash_flow)
+    # the current use nets its margin less the rent and overheads it pays too (tea.model.ledger: current_use_cash_flow)
     current_net = margin - g("rent") - g("overheads")
     active_i = pat.index["active"]
     C_inc = C.copy()
     C_inc[active_i] -= current_net
     rate = g("rate")
     life = pat.life
-    # the loan is in money of the year; the ledger in today's money (tea.ledger: to_nominal)
+    # the loan is in money of the year; the ledger in today's money (tea.model.ledger: to_nominal)
     to_nominal = (1.0 + g("loan_inflation")[None, :]) ** pat.T[:, None]  # (years, rows)
     out: dict[str, np.ndarray] = {}
 
@@ -629,7 +633,7 @@ class ScreenResult:
 
 
 def _all_spellings() -> dict[str, list[tuple[schema.Key, float]]]:
-    from .case import _spelling_index
+    from tea.inputs.case import _spelling_index
 
     out: dict[str, list[tuple[schema.Key, float]]] = {}
     for section, table in _spelling_index().items():
@@ -640,7 +644,7 @@ def _all_spellings() -> dict[str, list[tuple[schema.Key, float]]]:
 
 def resolve_column(header: str, index: int) -> Column:
     """What a field-table header names: the id column, a case key (any spelling), or nothing known."""
-    from .case import _spelling_index, _suggest
+    from tea.inputs.case import _spelling_index, _suggest
 
     name = header.strip()
     if name == ID_COLUMN:
@@ -702,7 +706,7 @@ def _count_rows(path: Path) -> int:
 
 
 def _range_reason(k: schema.Key, value: float, factor: float, system: str) -> str | None:
-    from .case import _range_error
+    from tea.inputs.case import _range_error
 
     return _range_error(k, value, factor, system)
 
@@ -741,7 +745,7 @@ class _Checker:
         """Merged values for the chunk's rows, which rows are good, the problems, and the shown cells."""
         import pandas as pd
 
-        from .case import _suggest
+        from tea.inputs.case import _suggest
 
         m = len(chunk)
         width = len(self.columns)
@@ -845,7 +849,7 @@ class _Checker:
             for combo in set(zip(climate[site_changed & ~own], soil[site_changed & ~own])):
                 rows = np.flatnonzero(site_changed & ~own & (climate == combo[0]) & (soil == combo[1]))
                 try:
-                    refs[rows] = carbon.soc_ref_t_c_per_ha(combo[0], combo[1])
+                    refs[rows] = published.soc_ref_t_c_per_ha(combo[0], combo[1])
                 except KeyError:
                     for i in rows:
                         flag(i, ref, "", f"IPCC Table 2.3 has no reference SOC stock for {combo[0]} on {combo[1]}; "
@@ -857,7 +861,7 @@ class _Checker:
             cols = {p: np.broadcast_to(np.asarray(values[p], dtype=float), (m,)).copy() for p in derived}
             for combo in set(zip(use[use_changed], climate[use_changed])):
                 rows = np.flatnonzero(use_changed & (use == combo[0]) & (climate == combo[1]))
-                factors = dict(zip(names, carbon.land_use_factors(combo[0], combo[1])))
+                factors = dict(zip(names, published.land_use_factors(combo[0], combo[1])))
                 for p in derived:
                     keep = rows[~given.get(p, np.zeros(m, bool))[rows]]
                     cols[p][keep] = factors[p]
@@ -865,7 +869,7 @@ class _Checker:
 
     def _cross_checks(self, values, given, flag, ok, m) -> None:
         """The case loader's rules that tie keys together, row by row (rows still ``ok`` only)."""
-        from .case import YIELD_CEILING_T_DM_PER_HA
+        from tea.inputs.case import YIELD_CEILING_T_DM_PER_HA
 
         g = lambda path: np.broadcast_to(np.asarray(values[path]), (m,))  # noqa: E731
         flag_ok = flag
@@ -1041,7 +1045,7 @@ def _rename_with_units(table, case: Case):
     customary units is named ``short_ton_dm``; break-even prices end in the
     price's unit. Carbon stays in metric tonnes, money in the case's currency.
     """
-    from . import display
+    from tea.outputs import display
 
     if not len(table.columns):
         return table
@@ -1107,7 +1111,7 @@ def progress_bar(total: int, what: str, enabled: bool | None, unit: str = "rows"
 # ============================================================================= writing
 def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> Path:
     """Write the ranked table: .csv (with # comment lines on top), .xlsx or .parquet."""
-    from .files import atomic_write, atomic_write_text, check_target
+    from tea.core.files import atomic_write, atomic_write_text, check_target
 
     out = Path(out)
     check_target(out, force)
@@ -1181,7 +1185,7 @@ def parquet_available() -> bool:
 
 def check_output(out: str | Path, force: bool) -> None:
     """Refuse, before any work, an output that cannot be written."""
-    from .files import check_target
+    from tea.core.files import check_target
 
     out = Path(out)
     suffix = out.suffix.lower()
@@ -1195,7 +1199,7 @@ def check_output(out: str | Path, force: bool) -> None:
 
 def write_errors(result: ScreenResult, out: str | Path, force: bool = True) -> Path:
     """Write the skipped rows' problems as CSV: line, row, column, value, reason."""
-    from .files import atomic_write_text
+    from tea.core.files import atomic_write_text
 
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
@@ -1221,7 +1225,7 @@ def metadata_lines(result: ScreenResult) -> list[str]:
 
 def summary_text(result: ScreenResult, top: int = 10) -> str:
     """The terminal view: counts, the best-ranked fields, the cautions."""
-    from . import display
+    from tea.outputs import display
 
     case = result.case
     out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]

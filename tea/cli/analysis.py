@@ -2,8 +2,8 @@
 
 ``tea sensitivity CASE``, ``tea risk CASE --draws N --seed S`` and
 ``tea screen FIELDS.csv --case BASE.toml``. Bad input raises
-:class:`~tea.errors.CaseError` (exit status 2, one line per problem); an
-output that cannot be written raises :class:`~tea.errors.OutputError` (exit 2),
+:class:`~tea.core.errors.CaseError` (exit status 2, one line per problem); an
+output that cannot be written raises :class:`~tea.core.errors.OutputError` (exit 2),
 checked before any work is done. Progress bars go to stderr, never into JSON
 on stdout.
 """
@@ -15,7 +15,7 @@ import json
 import sys
 from pathlib import Path
 
-from .errors import CaseError, Problem
+from tea.core.errors import CaseError, Problem
 
 
 def _whole_number(minimum: int):
@@ -45,7 +45,7 @@ def _warn(case) -> None:
 
 
 def _save_figure(fig, path: str, force: bool) -> None:
-    from .files import atomic_write
+    from tea.core.files import atomic_write
 
     suffix = Path(path).suffix.lower().lstrip(".") or "png"
     atomic_write(path, lambda tmp: fig.savefig(tmp, format=suffix), force=force)
@@ -53,8 +53,8 @@ def _save_figure(fig, path: str, force: bool) -> None:
 
 
 def _check_figure_paths(paths, force: bool) -> None:
-    from .cli import _check_outputs
-    from .errors import OutputError
+    from tea.cli.common import check_outputs as _check_outputs
+    from tea.core.errors import OutputError
 
     given = [p for p in paths if p]
     for p in given:
@@ -65,8 +65,8 @@ def _check_figure_paths(paths, force: bool) -> None:
 
 # ----------------------------------------------------------------------------- sensitivity
 def _cmd_sensitivity(args: argparse.Namespace) -> int:
-    from . import sensitivity
-    from .case import load_case
+    from tea.analysis import sensitivity
+    from tea.inputs.case import load_case
 
     case = load_case(args.case)
     _check_figure_paths([args.plot, args.surface_plot], args.force)
@@ -85,8 +85,8 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
 
 # ----------------------------------------------------------------------------- risk
 def _cmd_risk(args: argparse.Namespace) -> int:
-    from . import risk
-    from .case import load_case
+    from tea.analysis import risk
+    from tea.inputs.case import load_case
 
     case = load_case(args.case)
     _check_figure_paths([args.plot], args.force)
@@ -103,8 +103,8 @@ def _cmd_risk(args: argparse.Namespace) -> int:
 
 # ----------------------------------------------------------------------------- screen
 def _cmd_screen(args: argparse.Namespace) -> int:
-    from . import screen
-    from .case import load_case
+    from tea.analysis import screen
+    from tea.inputs.case import load_case
 
     case = load_case(args.case)
     out = args.out or f"{Path(args.fields).stem}.screened.csv"
@@ -112,7 +112,7 @@ def _cmd_screen(args: argparse.Namespace) -> int:
     screen.check_output(out, args.force)
     if Path(errors).resolve() == Path(out).resolve():
         raise CaseError([Problem("command line", "--errors", "must differ from --out")])
-    from .files import check_target
+    from tea.core.files import check_target
 
     check_target(errors, args.force)
     if not Path(args.fields).exists():
@@ -140,7 +140,7 @@ def _cmd_screen(args: argparse.Namespace) -> int:
 
 def add_commands(sub) -> None:
     """Add ``sensitivity``, ``risk`` and ``screen`` to the ``tea`` command's subparsers."""
-    from . import screen
+    from tea.analysis import screen
 
     s = sub.add_parser("sensitivity", help="what moves the answer: each key input low and high, ranked; "
                        "break-even surface")

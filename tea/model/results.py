@@ -29,9 +29,11 @@ from typing import Any, Mapping
 import numpy as np
 import pandas as pd
 
-from . import __version__, carbon, finance, ledger, loan
-from .case import Case
-from .texts import CAUTIONS
+from tea import __version__
+from tea.methods import carbon, finance, loan
+from tea.model import ledger
+from tea.inputs.case import Case
+from tea.core.texts import CAUTIONS
 
 
 @dataclass(frozen=True)
@@ -111,9 +113,9 @@ def figures(p: Mapping[str, Any], L: Mapping[str, np.ndarray], breakevens: bool 
     Parameters
     ----------
     p : mapping
-        :func:`tea.ledger.model_inputs` output.
+        :func:`tea.model.ledger.model_inputs` output.
     L : mapping
-        :func:`tea.ledger.compute` output for ``p``.
+        :func:`tea.model.ledger.compute` output for ``p``.
     breakevens : bool
         Compute the break-even yields (one more evaluation of the ledger).
     """

@@ -5,7 +5,7 @@ distribution (uniform, triangular, normal or lognormal, truncated to its
 bounds and to the key's physical range), optionally with rank correlations
 between inputs; establishment failure is drawn per draw as well. All draws
 are evaluated at once on the vectorised (draws x years) model
-(:func:`tea.screen.evaluate`), and the run reports percentiles of NPV, IRR
+(:func:`tea.analysis.screen.evaluate`), and the run reports percentiles of NPV, IRR
 and the equivalent annual value, the chance of a negative NPV, the chance
 that the lowest DSCR falls below the lender's covenant, and the
 year-by-year band of the cumulative cash flow.
@@ -44,11 +44,12 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import riskspec, screen, sensitivity
-from .case import Case
-from .errors import CaseError, Problem
-from .texts import CAUTIONS
-from .terminal import json_header
+from tea.inputs import riskspec
+from tea.analysis import screen, sensitivity
+from tea.inputs.case import Case
+from tea.core.errors import CaseError, Problem
+from tea.core.texts import CAUTIONS
+from tea.outputs.terminal import json_header
 
 PERCENTILES = (5, 10, 50, 90, 95)
 #: figures drawn per draw
@@ -384,7 +385,7 @@ def to_dict(res: RiskResult) -> dict[str, Any]:
 
 def summary_text(res: RiskResult) -> str:
     """Terminal view: percentiles, probabilities, the cash-flow band and a text histogram."""
-    from . import display
+    from tea.outputs import display
 
     c = res.case
     per = "acre" if c.unit_system == "us_customary" else "ha"

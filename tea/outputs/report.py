@@ -6,15 +6,15 @@ HTML (inline SVG charts and CSS, a print stylesheet for A4 and Letter) or as
 PDF through WeasyPrint, an HTML-to-PDF engine (fonts embedded). The format
 follows the file name: ``.pdf`` or ``.html``.
 
-The page only renders: every figure comes from :class:`tea.results.Results`
-and the ledger, formatted by :mod:`tea.terminal` and :mod:`tea.display` exactly
+The page only renders: every figure comes from :class:`tea.model.results.Results`
+and the ledger, formatted by :mod:`tea.outputs.terminal` and :mod:`tea.outputs.display` exactly
 as the terminal shows it, in the case's units and currency.
 
 Safety and reproducibility
 --------------------------
 * The jinja2 templates (``templates/`` next to the package) autoescape: a
   case's own words (name, field name, notes) cannot inject markup or script.
-  Only chart SVG made by :mod:`tea.charts` is inserted as markup.
+  Only chart SVG made by :mod:`tea.outputs.charts` is inserted as markup.
 * The page refers to nothing outside itself, and the PDF engine is given a URL
   fetcher that refuses every URL.
 * The same case gives the same bytes: no dates in the PDF, fixed chart ids.
@@ -39,6 +39,7 @@ import re
 import warnings
 from dataclasses import dataclass
 from functools import lru_cache
+from importlib import resources
 from pathlib import Path
 from typing import Any, Sequence
 
@@ -47,23 +48,20 @@ from markupsafe import Markup
 
 import tea
 
-from . import __version__, charts, display, terminal
-from .case import Case
-from .errors import OutputError
-from .files import atomic_write, atomic_write_text, check_target
-from .results import Results
-from .texts import CAUTIONS
+from tea import __version__
+from tea.outputs import charts, display, terminal
+from tea.inputs.case import Case
+from tea.core.errors import OutputError
+from tea.core.files import atomic_write, atomic_write_text, check_target
+from tea.model.results import Results
+from tea.core.texts import CAUTIONS
 
 def _templates_folder() -> Path:
-    """The templates folder: next to the package (a source tree or editable install), else inside it."""
-    here = Path(tea.__file__).resolve().parent
-    for folder in (here.parent / "templates", here / "templates"):
-        if (folder / "summary.html.j2").is_file():
-            return folder
-    return here.parent / "templates"
+    """The templates folder: the top-level ``templates/`` of the source tree, installed as ``tea.templates``."""
+    return Path(str(resources.files("tea.templates")))
 
 
-#: the templates folder, next to the package (the project is installed editable)
+#: the jinja2 templates and the page's CSS (package data of ``tea.templates``)
 TEMPLATES = _templates_folder()
 PAGE_SIZES = {"a4": "A4", "letter": "Letter"}
 #: densest layout tried before giving up on one page
@@ -105,10 +103,10 @@ def render_summary(
         Replace an existing file.
     page_size : {"A4", "Letter"}, optional
         Paper size; default the case's ``case.page_size``.
-    sensitivity : bool or tea.charts.Chart, optional
+    sensitivity : bool or tea.outputs.charts.Chart, optional
         What moves the NPV, below the other charts: by default (None) the
         tornado chart of NPV when the case has a ``[sensitivity]`` section;
-        True always shows it, False never; a :class:`tea.charts.Chart` is
+        True always shows it, False never; a :class:`tea.outputs.charts.Chart` is
         shown instead of it.
 
     Returns
@@ -652,7 +650,7 @@ def _chart_view(chart: charts.Chart) -> dict[str, Any]:
 class _SensitivityViews:
     """The sensitivity block of one case's page at each layout step (None: no block).
 
-    The sensitivity run (:func:`tea.sensitivity.run`, one vectorised
+    The sensitivity run (:func:`tea.analysis.sensitivity.run`, one vectorised
     evaluation of the full ledger) is made once; the chart is drawn per
     layout step, its rows as short as the other charts at that density, and
     at :data:`BESIDE` narrow, with two-line labels, for its place beside the
@@ -661,13 +659,13 @@ class _SensitivityViews:
 
     def __init__(self, case: Case, given: charts.Chart | bool | None, anchor: str):
         if given is not None and not isinstance(given, (bool, charts.Chart)):
-            raise TypeError("sensitivity: expected True, False, None or a tea.charts.Chart")
+            raise TypeError("sensitivity: expected True, False, None or a tea.outputs.charts.Chart")
         self.case, self.anchor = case, anchor
         self.chart = given if isinstance(given, charts.Chart) else None
         shown = given if isinstance(given, bool) else (given is not None or "sensitivity" in case.values)
         self.run = None
         if shown and self.chart is None:
-            from . import sensitivity as sens
+            from tea.analysis import sensitivity as sens
 
             self.run = sens.run(case, with_surface=False)
         #: what the fit cache tells layouts apart by
@@ -725,7 +723,7 @@ def _tornado_view(case: Case, run, anchor: str, density: int, split: bool) -> di
 
 def _ranges_note(case: Case, run) -> str:
     """One line: where the low and high values come from (declared in the case, or a share of the base)."""
-    from . import riskspec
+    from tea.inputs import riskspec
 
     spec = case.values.get("sensitivity") or {}
     share = spec.get("default_share", riskspec.DEFAULT_SHARE)

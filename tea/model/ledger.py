@@ -1,7 +1,7 @@
 """The ledger: a validated case turned into one row per year, one column per line item.
 
-This is the one place that maps case inputs to the models (:mod:`tea.agronomy`,
-:mod:`tea.carbon`, :mod:`tea.finance`). :func:`model_inputs` turns case values
+This is the one place that maps case inputs to the models (:mod:`tea.methods.agronomy`,
+:mod:`tea.methods.carbon`, :mod:`tea.methods.finance`). :func:`model_inputs` turns case values
 (scalars, or ``(cases,)`` arrays for risk and screening) into numeric columns;
 :func:`compute` evaluates every line for all cases at once, shaped
 ``(cases, years)``; :func:`build_ledger` returns one case's ledger as a pandas
@@ -26,8 +26,9 @@ from typing import Any, Mapping
 import numpy as np
 import pandas as pd
 
-from . import agronomy, carbon, finance, loan
-from .case import Case
+from tea.methods import agronomy, carbon, finance, loan
+from tea.inputs import published
+from tea.inputs.case import Case
 
 C_TO_CO2 = carbon.C_TO_CO2
 N2O_N_TO_N2O = carbon.N2O_N_TO_N2O
@@ -168,7 +169,7 @@ def _labels(*parts: Any) -> np.ndarray:
 
 def _is_wet(climate: str) -> bool:
     """IPCC moisture regime of a climate zone for the N2O factors: the same regime as the SOC factors."""
-    return carbon.climate_regimes(climate)[1] == "moist_wet"
+    return published.climate_regimes(climate)[1] == "moist_wet"
 
 
 def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
@@ -185,10 +186,10 @@ def model_inputs(v: Mapping[str, Any]) -> dict[str, Any]:
     def n2o(name: str) -> np.ndarray:
         def factor(label: str) -> float:
             method, climate = label.split("|")
-            return carbon.n2o_factors(method.removeprefix("ipcc"), _is_wet(climate))[name]
+            return published.n2o_factors(method.removeprefix("ipcc"), _is_wet(climate))[name]
         return _lookup(site, factor)
 
-    gwp_n2o = _lookup(c["carbon.gwp"], lambda s: carbon.gwp("N2O", s))
+    gwp_n2o = _lookup(c["carbon.gwp"], lambda s: published.gwp("N2O", s))
     pick = lambda autumn, winter: np.where(late > 0, _col(c[winter]), _col(c[autumn]))  # noqa: E731
     moisture = pick("harvest.moisture_autumn", "harvest.moisture_late_winter")
     hv = _col(c["revenue.heating_value_gj_per_t_dm"])

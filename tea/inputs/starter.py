@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from . import schema, units
-from .case import load_preset
+from tea.inputs import schema, units
+from tea.inputs.case import load_preset
 
 #: invented example values for the keys a case must give, canonical units
 #: (money per ha or per t in no particular currency); never check values

@@ -14,14 +14,16 @@ import sys
 from pathlib import Path
 from typing import Sequence
 
-from . import __version__
-from .errors import CaseError, OutputError, TeaError
+from tea import __version__
+from tea.cli import analysis as analysis_cli
+from tea.cli.common import check_outputs as _check_outputs, load_all as _load_all
+from tea.core.errors import CaseError, OutputError, TeaError
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
-    from . import terminal
-    from .ledger import build_ledger
-    from .results import summarise
+    from tea.outputs import terminal
+    from tea.model.ledger import build_ledger
+    from tea.model.results import summarise
 
     cases = _load_all(args.cases)
     ledgers, results = [], []
@@ -41,7 +43,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         for c, f, r in zip(cases, ledgers, results):
             print(terminal.summary_text(c, f, r, yearly=not args.brief))
     if args.xlsx:
-        from .workbook import write_portfolio, write_workbook
+        from tea.outputs.workbook import write_portfolio, write_workbook
 
         if len(cases) == 1:
             write_workbook(cases[0], ledgers[0], results[0], args.xlsx, force=args.force, sensitivity=sensitivity)
@@ -50,7 +52,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         print(f"wrote {args.xlsx}", file=sys.stderr)
     for out, kind in ((args.pdf, "pdf"), (args.html, "html")):
         if out:
-            from .report import render_comparison, render_summary
+            from tea.outputs.report import render_comparison, render_summary
 
             if len(cases) == 1:
                 render_summary(cases[0], ledgers[0], results[0], out, force=args.force, page_size=args.page_size,
@@ -60,39 +62,6 @@ def _cmd_run(args: argparse.Namespace) -> int:
                                   sensitivity=sensitivity)
             print(f"wrote {out}", file=sys.stderr)
     return 0
-
-
-def _check_outputs(paths: Sequence[str], force: bool) -> None:
-    """Refuse, before any work, to overwrite files or write into missing folders."""
-    problems = []
-    for p in paths:
-        path = Path(p)
-        if path.exists() and not force:
-            problems.append(f"{p}: exists; pass --force to overwrite it")
-        elif not path.parent.exists():
-            problems.append(f"{p}: folder {path.parent} does not exist")
-    if problems:
-        raise OutputError("\n".join(problems))
-
-
-def _load_all(paths: Sequence[str], on_loaded=None) -> list:
-    """Load every case file (calling ``on_loaded(path, case)`` for each good one); then raise one
-    CaseError listing the problems of all the bad ones."""
-    from .case import load_case
-
-    cases, problems = [], []
-    for path in paths:
-        try:
-            case = load_case(path)
-        except CaseError as exc:
-            problems.extend(exc.problems)
-            continue
-        cases.append(case)
-        if on_loaded:
-            on_loaded(path, case)
-    if problems:
-        raise CaseError(problems)
-    return cases
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -106,13 +75,13 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 
 def _cmd_new(args: argparse.Namespace) -> int:
-    from .starter import starter_case
+    from tea.inputs.starter import starter_case
 
     name = args.name if args.name.endswith(".toml") else args.name + ".toml"
     path = Path(name)
     _check_outputs([name], args.force)
     text = starter_case(Path(name).stem, args.crop, args.units, args.currency)
-    from .files import atomic_write_text
+    from tea.core.files import atomic_write_text
 
     atomic_write_text(path, text)
     print(f"wrote {path}: a starter case for preset {args.crop}; edit it, then `tea check {path}`")
@@ -120,19 +89,10 @@ def _cmd_new(args: argparse.Namespace) -> int:
 
 
 def _cmd_presets(args: argparse.Namespace) -> int:
-    from . import terminal
+    from tea.outputs import terminal
 
     print(terminal.presets_text(verbose=args.verbose))
     return 0
-
-
-def _add_analysis_commands(sub) -> None:
-    """Risk and screening commands, where the module exists."""
-    try:
-        from . import analysis_cli
-    except ImportError:
-        return
-    analysis_cli.add_commands(sub)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -162,7 +122,7 @@ def build_parser() -> argparse.ArgumentParser:
     check.add_argument("cases", nargs="+", metavar="CASE")
     check.set_defaults(func=_cmd_check)
 
-    from .case import preset_names
+    from tea.inputs.case import preset_names
 
     new = sub.add_parser("new", help="write a commented starter case")
     new.add_argument("name", metavar="NAME", help="file to write (.toml is added if missing)")
@@ -176,7 +136,7 @@ def build_parser() -> argparse.ArgumentParser:
     presets.add_argument("-v", "--verbose", action="store_true", help="show every value with its source")
     presets.set_defaults(func=_cmd_presets)
 
-    _add_analysis_commands(sub)
+    analysis_cli.add_commands(sub)
     return parser
 
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 
-from .units import HA_PER_ACRE, T_PER_SHORT_TON
+from tea.inputs.units import HA_PER_ACRE, T_PER_SHORT_TON
 
 _CARBON_UNITS = ("t C", "t CO2e", "kg CO2e")
 

@@ -4,7 +4,7 @@ One table drives the loader's validation, the starter case written by
 ``tea new``, the case-file reference in the README and the inputs sheet of the
 workbook, so the four cannot drift apart.
 
-Key templates carry their unit in slots (see :mod:`tea.units`):
+Key templates carry their unit in slots (see :mod:`tea.inputs.units`):
 ``mature_{t}_dm_per_{ha}`` accepts ``mature_t_dm_per_ha`` or
 ``mature_short_ton_dm_per_acre``. Money is always in the case's one currency.
 Values are stored canonically (ha, t, kg, km, l, GJ) after loading.
@@ -23,7 +23,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-from . import units
+from tea.inputs import units
 
 
 class _Marker:
@@ -39,7 +39,7 @@ REQUIRED = _Marker("REQUIRED")
 DERIVED = _Marker("DERIVED")
 
 # the IPCC climate zones, soil classes and land uses the carbon tables cover
-from .carbon import CLIMATES, LAND_USES, SOILS  # noqa: E402
+from tea.inputs.published import CLIMATES, LAND_USES, SOILS  # noqa: E402
 
 
 @dataclass(frozen=True)
@@ -233,18 +233,18 @@ KEYS: tuple[Key, ...] = (
        choices=("ipcc2006", "ipcc2019")),
     _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),
     _k("carbon", "diesel_kg_co2e_per_{l}", "float", DERIVED, "CO2 from burning one unit of diesel.", unit="kg CO2e", lo=0.0, warn_lo=2.0, warn_hi=3.5,
-       source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/data/ipcc.toml)"),
+       source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/inputs/data/ipcc.toml)"),
     _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
     _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),
     _k("carbon", "diesel_{l}_per_{t}_dm", "float", PRESET, "Diesel burnt baling or chipping, per t DM harvested.", lo=0.0),
     _k("carbon", "diesel_removal_{l}_per_{ha}", "float", PRESET, "Diesel burnt removing the stand.", lo=0.0),
     *(
         _k("carbon", f"{nut}_manufacture_{{kg}}_co2e_per_{{kg}}", "float", DERIVED, f"Emissions from making one unit of {label}.",
-           lo=0.0, warn_hi=15.0, source="tea/data/ipcc.toml (from memory)")
+           lo=0.0, warn_hi=15.0, source="tea/inputs/data/ipcc.toml (from memory)")
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
-       lo=0.0, warn_hi=1.0, source="tea/data/ipcc.toml (from memory)"),
+       lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)"),
     _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
     _k("carbon", "credit_first_year", "int", 1, "First year credits are paid.", lo=0),
     _k("carbon", "credit_buffer_share", "float", 0.2, "Share of removals held back in a non-permanence buffer.", **FRACTION,

@@ -6,11 +6,12 @@ from typing import Any
 
 import pandas as pd
 
-from . import __version__, display
-from .case import Case, load_preset, preset_names
-from .ledger import BY_NAME, LINE_NAMES
-from .results import FIGURE_BY_NAME, Results
-from .texts import CAUTIONS
+from tea import __version__
+from tea.outputs import display
+from tea.inputs.case import Case, load_preset, preset_names
+from tea.model.ledger import BY_NAME, LINE_NAMES
+from tea.model.results import FIGURE_BY_NAME, Results
+from tea.core.texts import CAUTIONS
 
 
 def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:

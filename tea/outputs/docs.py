@@ -1,6 +1,6 @@
 """Generated reference text: the case-file keys and the JSON output keys, from the code's own tables.
 
-``python -m tea.docs`` rewrites the parts of README.md between the ``<!-- begin:… -->``
+``python -m tea.outputs.docs`` rewrites the parts of README.md between the ``<!-- begin:… -->``
 and ``<!-- end:… -->`` markers; a test fails when the README is out of date.
 """
 
@@ -10,9 +10,9 @@ import re
 import sys
 from pathlib import Path
 
-from . import schema, units
-from .ledger import LINES
-from .results import FIGURES
+from tea.inputs import schema, units
+from tea.model.ledger import LINES
+from tea.model.results import FIGURES
 
 
 def _default_text(k: schema.Key) -> str:

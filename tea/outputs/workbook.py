@@ -3,12 +3,12 @@
 :func:`write_workbook` writes one case, :func:`write_portfolio` several cases
 with a side-by-side comparison sheet, and :func:`read_case_mapping` reads the
 inputs sheet of such a workbook (as an advisor edited it) back into a case
-mapping that :func:`tea.case.load_mapping` validates like a TOML file.
+mapping that :func:`tea.inputs.case.load_mapping` validates like a TOML file.
 
 The workbook is the project's one deliberate second implementation of the
-model. Each ledger line of :data:`tea.ledger.LINES` has its spreadsheet
+model. Each ledger line of :data:`tea.model.ledger.LINES` has its spreadsheet
 formula in :data:`LEDGER_FORMULAS` below, beside the numpy expression in
-:func:`tea.ledger.compute`; the recalculation tests (LibreOffice Calc,
+:func:`tea.model.ledger.compute`; the recalculation tests (LibreOffice Calc,
 headless) keep the two identical cell by cell.
 
 Sheets
@@ -26,7 +26,7 @@ Sheets
   **Notes** (version, case hash, methods, cautions).
 * **Sensitivity** (when the case has a ``[sensitivity]`` section, or when
   asked): each key input at its low and high value with NPV and EAV, from
-  :func:`tea.sensitivity.sensitivity_table`, and a bar chart (tornado). These
+  :func:`tea.analysis.sensitivity.sensitivity_table`, and a bar chart (tornado). These
   are values tea computed when it wrote the file, not formulas: every variant
   runs the whole ledger again, which a sheet cannot do live. The base NPV now
   is a formula on the results sheet, and a cell says when the inputs no longer
@@ -61,15 +61,20 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable, Mapping, Sequence
 
-from . import __version__, carbon, display, schema, units
-from .case import EXTENSION_SECTIONS, Case
-from .errors import CaseError, Problem
-from .files import atomic_write, check_target
-from .ledger import BY_NAME as LINE_BY_NAME
-from .ledger import LINE_NAMES, LINES
-from .results import FIGURE_BY_NAME, FIGURES, Results
-from .terminal import LABELS
-from .texts import CAUTIONS
+from tea import __version__
+from tea.methods import carbon
+from tea.inputs import published
+from tea.outputs import display
+from tea.inputs import schema, units
+from tea.inputs.case import EXTENSION_SECTIONS, Case
+from tea.inputs.workbook_reader import INPUT_COLUMNS, INPUT_HEAD_ROW, INPUTS, KEPT_HEADER, col_letter, read_case_mapping
+from tea.core.errors import CaseError, Problem
+from tea.core.files import atomic_write, check_target
+from tea.model.ledger import BY_NAME as LINE_BY_NAME
+from tea.model.ledger import LINE_NAMES, LINES
+from tea.model.results import FIGURE_BY_NAME, FIGURES, Results
+from tea.outputs.terminal import LABELS
+from tea.core.texts import CAUTIONS
 
 #: the longest stand life the sheets hold rows for [yr] (the schema's upper bound)
 MAX_YEARS = int(schema.BY_PATH["finance.stand_life_years"].hi)
@@ -81,23 +86,19 @@ DOCUMENT_TIMESTAMP = "2000-01-01T00:00:00Z"
 _ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 
 # sheet titles of a single-case workbook (a portfolio prefixes "C01 " etc.)
-INPUTS, LEDGER, RESULTS, FINANCE, CARBON, NOTES, COMPARISON = (
-    "Inputs", "Ledger", "Results", "Finance", "Carbon", "Notes", "Comparison")
+LEDGER, RESULTS, FINANCE, CARBON, NOTES, COMPARISON = (
+    "Ledger", "Results", "Finance", "Carbon", "Notes", "Comparison")
 SENSITIVITY = "Sensitivity"
 
 # layout: rows of the yearly tables
 LEDGER_LABEL_ROW, LEDGER_UNIT_ROW, LEDGER_KEY_ROW, LEDGER_TOP = 4, 5, 6, 7
 TABLE_LABEL_ROW, TABLE_UNIT_ROW, TABLE_KEY_ROW, TABLE_TOP = 22, 23, 24, 25
-INPUT_HEAD_ROW = 4
 # the sensitivity sheet: the base block, then the table's label, unit and key rows and its first input row
 SENS_BASE_ROW, SENS_LABEL_ROW, SENS_UNIT_ROW, SENS_KEY_ROW, SENS_TOP = 5, 11, 12, 13, 14
 #: relative difference between the live NPV and the NPV the table was computed at above which the sheet
 #: says the table is out of date (the spreadsheet's NPV and the engine's agree far closer than this)
 SENS_STALE_RTOL = 1e-9
-KEPT_HEADER = ("Section kept whole", "Content (JSON)")
 _CELL_TEXT_MAX = 32000  # a spreadsheet cell holds at most 32,767 characters
-INPUT_COLUMNS = ("Section", "Key", "Value", "Unit", "Origin", "Source note", "Factor to canonical",
-                 "Canonical value", "Canonical unit", "Defined name", "As written")
 RESULT_HEAD_ROW = 4
 
 # ----------------------------------------------------------------------------- the formula tables
@@ -410,7 +411,7 @@ def _payback_years(year: str, cum: str, flow: str) -> str:
 
 _PRICE_DIVISOR = "IF(ISNUMBER({revenue.price_per_gj}),{m.hv_delivered},1)"
 
-#: one formula per decision figure of :data:`tea.results.FIGURES` (per ha)
+#: one formula per decision figure of :data:`tea.model.results.FIGURES` (per ha)
 RESULT_FORMULAS: dict[str, str] = {
     "npv": "{L0:net_cash_flow}+NPV({m.rate},{L1:net_cash_flow})",
     "npv_vs_current_use": "{L0:incremental_cash_flow}+NPV({m.rate},{L1:incremental_cash_flow})",
@@ -522,18 +523,6 @@ def _esc(text: str) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace('"', "&quot;")
 
 
-_COLS: list[str] = []
-
-
-def col_letter(col: int) -> str:
-    """Column letters of a 1-based column index (1 -> A, 27 -> AA)."""
-    while len(_COLS) < col:
-        n, s = len(_COLS) + 1, ""
-        while n:
-            n, rem = divmod(n - 1, 26)
-            s = chr(65 + rem) + s
-        _COLS.append(s)
-    return _COLS[col - 1]
 
 
 def _quote(sheet: str) -> str:
@@ -981,7 +970,7 @@ class _CaseLayout:
         for j, key in enumerate(("n2o_key",) + _N2O_COLUMNS):
             name = self._define(f"k.{key}", f"k_{key}")
             self.refs[name] = _abs(self.carbon, 5 + j, self.k_top, 5 + j, self.k_top + len(self.n2o_rows) - 1)
-        self.gwp_reports = carbon.REPORTS
+        self.gwp_reports = published.REPORTS
         self.gwp_top = self.k_top + len(self.n2o_rows) + 4
         for j, key in enumerate(("gwp_report", "gwp_n2o")):
             name = self._define(f"k.{key}", f"k_{key}")
@@ -1325,7 +1314,7 @@ class _Builder:
         for i, (method, wet) in enumerate(b.n2o_rows):
             r = b.k_top + i
             sh.text(r, 5, f"{method} {'wet' if wet else 'dry'}", st("constant"))
-            factors = carbon.n2o_factors(method.removeprefix("ipcc"), wet)
+            factors = published.n2o_factors(method.removeprefix("ipcc"), wet)
             for j, name in enumerate(_N2O_COLUMNS, start=6):
                 sh.number(r, j, factors[name], const)
         r = b.k_top + len(b.n2o_rows)
@@ -1337,8 +1326,8 @@ class _Builder:
         for i, report in enumerate(b.gwp_reports):
             r = b.gwp_top + i
             sh.text(r, 5, report, st("constant"))
-            sh.number(r, 6, carbon.gwp("N2O", report), st("constant", "0.0"))
-        sh.text(b.gwp_top + len(b.gwp_reports), 5, "Source: " + carbon._data()["gwp100"]["n2o"]["source"],
+            sh.number(r, 6, published.gwp("N2O", report), st("constant", "0.0"))
+        sh.text(b.gwp_top + len(b.gwp_reports), 5, "Source: " + published._data()["gwp100"]["n2o"]["source"],
                 st("keyname"))
         # yearly table: links to the ledger
         sh.text(TABLE_LABEL_ROW - 1, 1, "SOC path and GHG balance by year", st("group"))
@@ -1363,14 +1352,14 @@ class _Builder:
 
     # --- sensitivity -----------------------------------------------------------------
     def sensitivity(self, run) -> _Sheet:
-        """What moves NPV: :func:`tea.sensitivity.sensitivity_table` as tea computed it, and a tornado chart.
+        """What moves NPV: :func:`tea.analysis.sensitivity.sensitivity_table` as tea computed it, and a tornado chart.
 
         The table holds values, not formulas (each variant runs the whole
         ledger again, which a sheet cannot do live); the base figures are
         linked live to the results sheet beside the values the table was
         computed at, and a cell says whether they still agree.
         """
-        from .sensitivity import sensitivity_table
+        from tea.analysis.sensitivity import sensitivity_table
 
         b, st, case, cur = self.b, self.st, self.case, self.cur
         table = sensitivity_table(run)
@@ -1514,7 +1503,7 @@ class _Builder:
                     "sheet then shows a text note instead. Flows that change sign once have exactly one rate; "
                     "IRR(flows, guess = MIRR) finds it. Flows that change sign three or more (odd) times may have "
                     "several: the sheet shows the rate IRR finds and says so beside it. The engine "
-                    "(tea.finance.irr) reports such a rate only when it has counted exactly one root. Use MIRR "
+                    "(tea.methods.finance.irr) reports such a rate only when it has counted exactly one root. Use MIRR "
                     "where no single IRR exists."),
             ("MIRR", "Over years 0..stand life only (trailing zero years would change its exponent), finance and "
                      "reinvestment rates as the case says (the real discount rate by default); OpenFormula MIRR."),
@@ -1536,7 +1525,7 @@ class _Builder:
             ("N2O", "IPCC 2006 Vol.4 Ch.11 Eq. 11.1 (direct), 11.9 and 11.10 (indirect) for synthetic N, "
                     "factors of the 2006 Guidelines or the 2019 Refinement (Carbon sheet), x 44/28 x GWP100."),
             ("Other emissions", "Diesel (IPCC 2006 Vol.2 Ch.1 factors), fertiliser manufacture and road haulage "
-                                "(tea/data/ipcc.toml, each value with its source and status)."),
+                                "(tea/inputs/data/ipcc.toml, each value with its source and status)."),
         ]
         for section in EXTENSION_SECTIONS:
             if section in case.values:
@@ -1545,7 +1534,7 @@ class _Builder:
         if self.with_sensitivity:
             rows.append(("Sensitivity", "The Sensitivity sheet holds values tea computed when it wrote this file: "
                          "each key input moved alone to its low and its high value, the whole ledger run again for "
-                         "each (tea.sensitivity). They do not follow edits of the inputs; the base NPV now is a "
+                         "each (tea.analysis.sensitivity). They do not follow edits of the inputs; the base NPV now is a "
                          "formula on the Results sheet, and the sheet says when it no longer matches the table."))
         rows.append(("", ""))
         for i, caution in enumerate(CAUTIONS, start=1):
@@ -1566,7 +1555,7 @@ class _Builder:
 
 
 def _n2o_sources() -> dict[str, str]:
-    data = carbon._data()["n2o"]
+    data = published._data()["n2o"]
     return {version: "; ".join(data[version][name]["source"] for name in _N2O_COLUMNS) for version in data}
 
 
@@ -1796,7 +1785,7 @@ def _case_sheets(case: Case, ledger, results: Results, styles: _Styles, layout: 
     bld = _Builder(case, ledger, results, styles, layout)
     sheets = [bld.inputs(), bld.ledger(), bld.results(), bld.finance(), bld.carbon()]
     if _wants_sensitivity(case, sensitivity):
-        from .sensitivity import run
+        from tea.analysis.sensitivity import run
 
         bld.with_sensitivity = True
         sheets.append(bld.sensitivity(run(case, with_surface=False)))
@@ -1841,7 +1830,7 @@ def write_workbook(case: Case, ledger, results: Results, path: str | Path, force
     force : bool
         Replace an existing file; otherwise an existing file raises OutputError.
     sensitivity : bool, optional
-        Add the sensitivity sheet (values computed by :mod:`tea.sensitivity`
+        Add the sensitivity sheet (values computed by :mod:`tea.analysis.sensitivity`
         when the file is written, and a tornado chart): by default (None)
         when the case has a ``[sensitivity]`` section; True always, False never.
 
@@ -1935,165 +1924,5 @@ def _comparison_sheet(cases: Sequence[Case], layouts: Sequence[_CaseLayout], sty
 
 
 # ----------------------------------------------------------------------------- reading back
-def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
-    """The case-file mapping held by the inputs sheet of a workbook written by `tea`.
-
-    Returns ``{section: {key spelled in the case's units: value}}`` for
-    :func:`tea.case.load_mapping`. A row is taken when the case file gave it
-    (origin "case") or when its value differs from the value the workbook was
-    written with (an edit); preset, default and derived values left alone are
-    filled in again by the loader, so an edited climate or preset takes effect.
-    A blank value means "not given".
-
-    Raises
-    ------
-    CaseError
-        naming the file and the cell or key when the workbook cannot be read.
-    """
-    from openpyxl import load_workbook
-
-    source = str(path)
-    p = Path(path)
-    if not p.exists():
-        raise CaseError([Problem(source, "", "file not found")])
-    try:
-        wb = load_workbook(p, read_only=True, data_only=True)
-    except Exception as exc:  # noqa: BLE001 - any unreadable file is a bad input
-        raise CaseError([Problem(source, "", f"cannot read the workbook ({exc.__class__.__name__}: {exc})")]) from None
-    try:
-        titles = [t for t in wb.sheetnames if t == INPUTS or t.endswith(" " + INPUTS)]
-        if not titles:
-            raise CaseError([Problem(source, "", f"no {INPUTS!r} sheet: not a workbook written by tea")])
-        if len(titles) > 1:
-            raise CaseError([Problem(source, "", f"holds {len(titles)} cases ({', '.join(titles)}); "
-                                     "read one case's workbook instead")])
-        ws = wb[titles[0]]
-        rows = list(ws.iter_rows(min_row=1, values_only=True))
-    finally:
-        wb.close()
-    head = None
-    for i, row in enumerate(rows):
-        if row and tuple(row[: len(INPUT_COLUMNS)]) == INPUT_COLUMNS:
-            head = i
-            break
-    if head is None:
-        raise CaseError([Problem(source, f"{titles[0]}!A{INPUT_HEAD_ROW}",
-                                 f"header row {', '.join(INPUT_COLUMNS)} not found")])
-    col = {name: j for j, name in enumerate(INPUT_COLUMNS)}
-    problems: list[Problem] = []
-    lists: dict[tuple[str, str], list[tuple[int, Any, Any, str, int]]] = {}
-    out: dict[str, dict[str, Any]] = {}
-    current_origin: dict[tuple[str, str], str] = {}
-    index = _key_index()
-
-    def cell(j: int, r: int) -> str:
-        return f"{titles[0]}!{col_letter(j + 1)}{r}"
-
-    i = head
-    for i in range(head + 1, len(rows)):
-        row = list(rows[i]) + [None] * len(INPUT_COLUMNS)
-        section, key = row[col["Section"]], row[col["Key"]]
-        if section is None and key is None:
-            break
-        r = i + 1
-        if not isinstance(section, str) or not isinstance(key, str):
-            problems.append(Problem(source, cell(col["Key"], r), "expected a section and a key in text"))
-            continue
-        value, written = row[col["Value"]], row[col["As written"]]
-        origin = row[col["Origin"]]
-        m = re.fullmatch(r"(\w+)\[(\d+)\]", key)
-        base = m.group(1) if m else key
-        k = index.get((section, base))
-        if k is None:
-            out.setdefault(section, {})[key] = value  # the loader names the unknown key
-            continue
-        if isinstance(origin, str):
-            current_origin[(section, base)] = origin
-        where = f"{section}.{key} ({cell(col['Value'], r)})"
-        if k.kind == "list":
-            lists.setdefault((section, base), []).append((int(m.group(2)) if m else 1, value, written, where, r))
-            continue
-        why = _cell_type_error(k, value)
-        if why:
-            problems.append(Problem(source, where, why))
-            continue
-        if current_origin.get((section, base)) == "case" or not _same(value, written):
-            if value is not None and value != "":
-                out.setdefault(section, {})[base] = value
-    for (section, base), items in lists.items():
-        items.sort()
-        values, written = [], []
-        bad = False
-        for _, value, w, where, _ in items:
-            if value is not None and not _is_number(value):
-                problems.append(Problem(source, where, f"expected a number or a blank cell, got {value!r}"))
-                bad = True
-            values.append(value)
-            written.append(w)
-        if bad:
-            continue
-        while values and values[-1] is None:
-            values.pop()
-        while written and written[-1] is None:
-            written.pop()
-        if None in values:
-            problems.append(Problem(source, f"{section}.{base}", "a list needs its numbers in consecutive cells "
-                                    "from the first one, with no blank between them"))
-            continue
-        if current_origin.get((section, base)) == "case" or values != written:
-            if values:
-                out.setdefault(section, {})[base] = values
-    kept: dict[str, str] = {}
-    start = next((j for j in range(i, len(rows)) if tuple(rows[j][:2]) == KEPT_HEADER), None)
-    if start is not None:
-        for j in range(start + 1, len(rows)):
-            section, chunk = rows[j][0], rows[j][1]
-            if section is None:
-                break
-            kept[section] = kept.get(section, "") + (chunk or "")
-    for section, text in kept.items():
-        try:
-            out[section] = json.loads(text)
-        except ValueError as exc:
-            problems.append(Problem(source, f"{section} ({titles[0]}!B{start + 2})", f"malformed JSON: {exc}"))
-    if problems:
-        raise CaseError(problems)
-    return out
-
-
-def _key_index() -> dict[tuple[str, str], schema.Key]:
-    index = {}
-    for k in schema.KEYS:
-        for spelling in k.spellings():
-            index[(k.section, spelling)] = k
-    return index
-
-
-def _is_number(v: Any) -> bool:
-    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
-
-
-def _same(a: Any, b: Any) -> bool:
-    if a is None or a == "":
-        return b is None or b == ""
-    if _is_number(a) and _is_number(b):
-        return float(a) == float(b)
-    return a == b
-
-
-def _cell_type_error(k: schema.Key, value: Any) -> str | None:
-    if value is None or value == "":
-        return None
-    if isinstance(value, str) and value.startswith("#"):
-        return f"the cell holds an error value {value!r}"
-    if k.kind in ("float", "int") and not _is_number(value):
-        return f"expected a number [{k.unit_text()}], got {value!r}"
-    if k.kind == "bool" and not isinstance(value, bool):
-        return f"expected TRUE or FALSE, got {value!r}"
-    if k.kind in ("str", "enum") and not isinstance(value, str):
-        return f"expected text, got {value!r}"
-    return None
-
-
 __all__ = ["write_workbook", "write_portfolio", "read_case_mapping", "workbook_bytes", "portfolio_bytes",
            "LEDGER_FORMULAS", "RESULT_FORMULAS", "MAX_YEARS"]

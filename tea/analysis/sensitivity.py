@@ -24,11 +24,13 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
-from . import __version__, riskspec, screen, units
-from .case import Case
-from .errors import CaseError, Problem
-from .texts import CAUTIONS
-from .terminal import json_header
+from tea import __version__
+from tea.inputs import riskspec, units
+from tea.analysis import screen
+from tea.inputs.case import Case
+from tea.core.errors import CaseError, Problem
+from tea.core.texts import CAUTIONS
+from tea.outputs.terminal import json_header
 
 #: the figures recomputed for each variant
 FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use")
@@ -53,7 +55,7 @@ class Moved:
 
     def range_text(self, case: Case) -> str:
         """``low / high unit`` as shown to people (whole years, percentages for rates)."""
-        from . import display
+        from tea.outputs import display
 
         f = self.display_factor(case)
         unit = self.unit_text(case)
@@ -198,7 +200,7 @@ def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names
                       ) -> dict[str, np.ndarray]:
     """Figures for variants of a case, each a mapping input path -> value, in one evaluation.
 
-    Uses the full ledger (:func:`tea.ledger.compute`), the reference.
+    Uses the full ledger (:func:`tea.model.ledger.compute`), the reference.
     """
     n = len(variants)
     values: dict[str, Any] = dict(case.values)
@@ -498,7 +500,7 @@ def _num(v: float) -> float | None:
 
 def summary_text(res: Sensitivity, figure: str = "npv") -> str:
     """Terminal view: the ranked table, a text tornado and the break-even surface."""
-    from . import display
+    from tea.outputs import display
 
     c = res.case
     per = "acre" if c.unit_system == "us_customary" else "ha"
@@ -568,7 +570,7 @@ def _text_tornado(res: Sensitivity, figure: str, scale: float, width: int = 48) 
 
 
 def _surface_text(s: Surface, c: Case) -> list[str]:
-    from . import display
+    from tea.outputs import display
 
     per = "acre" if c.unit_system == "us_customary" else "ha"
     scale = units.HA_PER_ACRE if per == "acre" else 1.0

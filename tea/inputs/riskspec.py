@@ -3,7 +3,7 @@
 :func:`parse` is called by the case loader for each of the two sections. It
 returns the section's content in a normalised, JSON-able form (canonical key
 paths, canonical metric units, only what the case gave) and a list of
-:class:`~tea.errors.Problem`, each naming the file, the key path inside the
+:class:`~tea.core.errors.Problem`, each naming the file, the key path inside the
 section (e.g. ``risk.inputs.yield.mature_t_dm_per_ha.high``) and what was
 expected. The normalised form parses again to itself, so ``Case.replace``
 can feed it back.
@@ -60,8 +60,8 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from . import schema
-from .errors import Problem
+from tea.inputs import schema
+from tea.core.errors import Problem
 
 #: +/- share of the base value an input moves by when the case declares no range
 #: (a reporting convention, not a model coefficient)
@@ -165,7 +165,7 @@ class InputKey:
         k = self.key
         if k.path == "yield.mature_t_dm_per_ha":
             # no schema bound, but a physical ceiling the loader enforces for every crop
-            from .case import YIELD_CEILING_T_DM_PER_HA
+            from tea.inputs.case import YIELD_CEILING_T_DM_PER_HA
 
             return k.lo, YIELD_CEILING_T_DM_PER_HA, k.lo_open, False
         return k.lo, k.hi, k.lo_open, k.hi_open
@@ -187,13 +187,13 @@ class InputKey:
 
 
 def _spelling_index():
-    from .case import _spelling_index
+    from tea.inputs.case import _spelling_index
 
     return _spelling_index()
 
 
 def _suggest(word: str, candidates) -> str:
-    from .case import _suggest as suggest
+    from tea.inputs.case import _suggest as suggest
 
     return suggest(word, candidates)
 

@@ -11,7 +11,7 @@ import tempfile
 from pathlib import Path
 from typing import Callable
 
-from .errors import OutputError
+from tea.core.errors import OutputError
 
 
 def check_target(path: str | Path, force: bool) -> Path:

@@ -1,0 +1,1 @@
+"""The command line: `tea` and its commands (argument parsing and printing only)."""

@@ -1,0 +1,1 @@
+"""The jinja2 templates and CSS of the printed summary (package data)."""
