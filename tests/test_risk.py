@@ -32,7 +32,7 @@ import numpy_financial as npf
 import pytest
 
 from tea import load_case, load_text, summarise
-from tea.model import ledger
+from tea.model.evaluate import evaluate
 from tea.inputs import riskspec
 from tea.analysis import risk, screen
 from tea.cli.main import main
@@ -202,8 +202,7 @@ class TestFailureEvent:
     def test_failed_draw_pays_replanting_and_ramps_up_a_year_late(self):
         case = case_with("[risk]\nfailure_event = true\n")
         inputs = risk.Inputs({}, np.array([False, True]), np.full(2, 0.15))
-        p = risk.model_inputs(case, inputs)
-        L = ledger.compute(screen._broadcast(p, 2))
+        L = evaluate(risk.draw_values(case, inputs), lines=("est_replanting_expected", "growth_t_dm"), rows=2).lines
         life = case.stand_life
         replant = case["establishment.replant_share"] * (case["establishment.planting_units_per_ha"]
                                                          * case["establishment.planting_unit_price"]
@@ -239,10 +238,9 @@ class TestRun:
         # rebuild the first draws' cash flows on the full ledger and solve them with numpy-financial
         case, res = demo
         inputs = risk.sample(case, 3_000, np.random.default_rng(9))
-        p = risk.model_inputs(case, inputs)
-        sub = screen._broadcast(screen._take(p, slice(0, 40), 3_000), 40)
-        L = ledger.compute(sub)
-        life = sub["life"][:, 0]
+        values = risk.draw_values(case, inputs)
+        L = evaluate(values, lines=("net_cash_flow",), rows=3_000).lines
+        life = np.broadcast_to(np.asarray(values["finance.stand_life_years"]), (3_000,)).astype(int)
         checked = 0
         for i in range(40):
             flows = L["net_cash_flow"][i, : life[i] + 1]
@@ -277,8 +275,7 @@ class TestRun:
     def test_band_is_the_percentile_of_cumulative_cash_flow(self, demo):
         case, res = demo
         inputs = risk.sample(case, 3_000, np.random.default_rng(9))
-        p = risk.model_inputs(case, inputs)
-        L = ledger.compute(screen._broadcast(p, 3_000))
+        L = evaluate(risk.draw_values(case, inputs), lines=("cumulative_cash_flow",), rows=3_000).lines
         for q in risk.PERCENTILES:
             np.testing.assert_allclose(res.band[q], np.percentile(L["cumulative_cash_flow"], q, axis=0),
                                        rtol=1e-9, atol=1e-6)

@@ -1,7 +1,7 @@
-"""Tests of `tea.screen`: the lean evaluator against the full ledger, and field-table screening.
+"""Tests of screening: the evaluator's batches against single cases, and field-table screening.
 
-The full ledger (`tea.ledger.compute` with `tea.results.figures`) is the
-reference the lean path must equal to 1e-9; per-field screening results are
+A batch of rows evaluated together must equal each row evaluated as its own
+case to 1e-9; per-field screening results are
 checked against the case loader itself (`Case.replace` of each row, then
 `tea.results.summarise`), so a field screened in bulk gives what the same
 field gives as its own case. External checks: numpy-financial (npv, irr) and
@@ -19,9 +19,10 @@ import numpy_financial as npf
 import pandas as pd
 import pytest
 
-from tea import load_case
+from tea import load_case, summarise
 from tea.methods import finance
-from tea.model import ledger, results
+from tea.model.definition import MODEL
+from tea.model.evaluate import evaluate
 from tea.analysis import screen
 from tea.cli.main import main
 from tea.core.errors import CaseError, OutputError
@@ -52,7 +53,7 @@ def _close(lean, full, what: str) -> None:
     assert err.size == 0 or err.max() <= 1e-9, f"{what}: largest relative difference {err.max():.3g}"
 
 
-def _variants(case, n: int, seed: int, vary_structure: bool):
+def _variants(case, n: int, seed: int, vary_structure: bool) -> dict:
     """Many variants of a case: continuous inputs always, stand life and discount rate if asked."""
     rng = np.random.default_rng(seed)
     v = dict(case.values)
@@ -73,80 +74,104 @@ def _variants(case, n: int, seed: int, vary_structure: bool):
         low = max(case["loan.grace_years"] + case["loan.term_years"], case["harvest.first_year"], 2)
         v["finance.stand_life_years"] = rng.integers(low, case.stand_life + 5, n)
         v["finance.discount_rate"] = rng.uniform(0.0, 0.12, n)
-    return screen.model_inputs(v, case)
+    return v
 
 
-class TestLeanEqualsLedger:
-    """The lean screening path equals the full ledger (the reference) to 1e-9."""
+def _row(values: dict, i: int) -> dict:
+    """The case values of row i of a batch."""
+    return {k: (v[i] if isinstance(v, np.ndarray) and v.ndim == 1 else v) for k, v in values.items()}
+
+
+ALL_FIGURES = tuple(f.name for f in MODEL.figures)
+CASH_LINES = ("net_cash_flow", "incremental_cash_flow", "cumulative_cash_flow", "discounted_cash_flow",
+              "cumulative_discounted_cash_flow", "equity_cash_flow")
+
+
+class TestBatchEqualsSingleCase:
+    """A batch evaluated in chunks equals each of its rows evaluated alone, as its own one-row case.
+
+    Screening, risk and sensitivity use the same evaluator as `tea run`, so the
+    two agree by construction; what these tests hold is the evaluator's batch
+    machinery: chunks, rows of different stand lives padded with zero years,
+    per-row and shared inputs broadcast together.
+    """
 
     @pytest.mark.parametrize("name", DEMO_CASES)
     def test_demo_case_itself(self, cases, name):
         case = cases[name]
-        p = screen.model_inputs(case.values, case)
-        lean = screen.evaluate(p, lean=True)
-        full = results.figures(p, ledger.compute(p))
-        for fig in screen.LEAN_FIGURES:
-            _close(lean[fig], full[fig], f"{name}: {fig}")
+        got = evaluate(case.values, figures=ALL_FIGURES)
+        res = summarise(case)
+        for fig in ALL_FIGURES:
+            _close(got.figures[fig][0], np.nan if res[fig] is None else res[fig], f"{name}: {fig}")
 
     @pytest.mark.parametrize("name", DEMO_CASES)
     @pytest.mark.parametrize("vary_structure", [False, True])
     def test_many_variants(self, cases, name, vary_structure):
         case = cases[name]
-        p = _variants(case, 400, seed=7, vary_structure=vary_structure)
-        lean = screen.evaluate(p, lean=True, lines=screen.LEAN_LINES, chunk_rows=128)
-        full = screen.evaluate(p, lean=False, names=screen.LEAN_FIGURES, lines=screen.LEAN_LINES)
-        for fig in (*screen.LEAN_FIGURES, *screen.LEAN_LINES):
-            if fig in TIED_YEARS:
-                continue
-            _close(lean[fig], full[fig], f"{name}: {fig}")
-        # the year of a minimum may differ only where two years tie to rounding: the reference's
-        # own line must reach the minimum in the year the lean path names
-        L = ledger.compute(screen._broadcast(p, 400))
-        for fig, line, value in (("min_dscr_year", "dscr", "min_dscr"),
-                                 ("peak_funding_year", "cumulative_cash_flow", None)):
-            year = lean[fig]
-            ok = ~np.isnan(year)
-            _close(np.isnan(year), np.isnan(full[fig]), f"{name}: {fig} defined")
-            rows = np.flatnonzero(ok)
-            at = L[line][rows, year[rows].astype(int)]
-            target = full[value][rows] if value else L[line][rows].min(axis=1)
-            _close(at, target, f"{name}: {line} in the {fig}")
+        n = 60
+        values = _variants(case, n, seed=7, vary_structure=vary_structure)
+        batch = evaluate(values, figures=ALL_FIGURES, lines=CASH_LINES, chunk_rows=16)
+        for i in range(n):
+            alone = evaluate(_row(values, i), figures=ALL_FIGURES, lines=CASH_LINES)
+            life = int(_row(values, i)["finance.stand_life_years"])
+            for fig in ALL_FIGURES:
+                if fig in TIED_YEARS:
+                    continue
+                _close(batch.figures[fig][i], alone.figures[fig][0], f"{name} row {i}: {fig}")
+            for line in CASH_LINES:
+                _close(batch.lines[line][i, : life + 1], alone.lines[line][0], f"{name} row {i}: {line}")
+            # the year of a minimum may differ only where two years tie to rounding: the line must
+            # reach its minimum in the year the batch names
+            for fig, line in (("min_dscr_year", "dscr"), ("peak_funding_year", "cumulative_cash_flow")):
+                year = batch.figures[fig][i]
+                _close(np.isnan(year), np.isnan(alone.figures[fig][0]), f"{name}: {fig} defined")
+                if not np.isnan(year):
+                    flows = evaluate(_row(values, i), lines=(line,)).lines[line][0]
+                    _close(flows[int(year)], np.nanmin(flows), f"{name} row {i}: {line} in the {fig}")
 
     def test_npv_and_irr_against_numpy_financial(self, cases):
         # numpy-financial 1.0 npv/irr on each row's own years 0..life
         case = cases["clay_corner_miscanthus"]
-        p = _variants(case, 40, seed=3, vary_structure=True)
-        got = screen.evaluate(p, names=("npv", "irr"), lines=("net_cash_flow",))
-        life = p["life"][:, 0]
-        rate = p["rate"][:, 0]
+        values = _variants(case, 40, seed=3, vary_structure=True)
+        got = evaluate(values, figures=("npv", "irr"), lines=("net_cash_flow",))
+        life = values["finance.stand_life_years"]
+        rate = values["finance.discount_rate"]  # the demo case's rate is real
+        assert case["finance.rate_basis"] == "real"
         for i in range(40):
-            flows = got["net_cash_flow"][i, : life[i] + 1]
-            assert got["npv"][i] == pytest.approx(npf.npv(rate[i], flows), rel=1e-11, abs=1e-8)
-            if not math.isnan(got["irr"][i]):
-                assert got["irr"][i] == pytest.approx(npf.irr(flows), abs=1e-9)
+            flows = got.lines["net_cash_flow"][i, : life[i] + 1]
+            assert got.figures["npv"][i] == pytest.approx(npf.npv(rate[i], flows), rel=1e-11, abs=1e-8)
+            if not math.isnan(got.figures["irr"][i]):
+                assert got.figures["irr"][i] == pytest.approx(npf.irr(flows), abs=1e-9)
 
-    def test_payback_rule_equals_finance_payback(self):
-        rng = np.random.default_rng(11)
-        flows = rng.normal(0.0, 100.0, (500, 12))
-        flows[:100, 0] = np.abs(flows[:100, 0])  # some rows start positive: the general search
-        flows[100:300, 0] = -1000.0  # some never recover
-        year, years = screen._payback_from(flows.T, np.cumsum(flows, axis=1).T)
-        ref_year, ref_years = finance.payback(flows)
-        np.testing.assert_array_equal(year, ref_year)
-        np.testing.assert_allclose(years, ref_years, rtol=1e-12)
-
-    def test_running_total_is_cumsum(self):
-        x = np.random.default_rng(1).normal(size=(9, 33))
-        np.testing.assert_allclose(screen._running_total(x), np.cumsum(x, axis=0), rtol=1e-14)
-
-    def test_lean_refuses_a_figure_it_does_not_compute(self, cases):
+    def test_payback_rule_equals_finance_payback(self, cases):
+        # the model's payback (declared as formulas of working lines) follows the rule of
+        # tea.methods.finance.payback, which its own tests check against a textbook example
         case = cases["clay_corner_miscanthus"]
-        p = screen.model_inputs(case.values, case)
-        with pytest.raises(ValueError, match="lean path computes"):
-            screen.evaluate(p, names=("mirr",), lean=True)
-        # lean=None falls back to the full ledger for it
-        got = screen.evaluate(p, names=("mirr",))
-        assert got["mirr"][0] == pytest.approx(results.summarise(case)["mirr"], rel=1e-12)
+        values = _variants(case, 300, seed=11, vary_structure=True)
+        values["field.current_margin_per_ha"] = 0.0
+        got = evaluate(values, figures=("payback_year", "payback_years", "discounted_payback_year",
+                                        "discounted_payback_years"),
+                       lines=("net_cash_flow", "discounted_cash_flow"))
+        life = values["finance.stand_life_years"]
+        for i in range(300):
+            flows = got.lines["net_cash_flow"][i, : life[i] + 1]
+            year, years = finance.payback(flows)
+            np.testing.assert_array_equal(got.figures["payback_year"][i], year)
+            _close(got.figures["payback_years"][i], years, "payback years")
+            dflows = got.lines["discounted_cash_flow"][i, : life[i] + 1]
+            year, years = finance.payback(dflows)
+            np.testing.assert_array_equal(got.figures["discounted_payback_year"][i], year)
+            _close(got.figures["discounted_payback_years"][i], years, "discounted payback years")
+
+    def test_a_batch_always_has_its_rows(self, cases):
+        # no model input varies, yet the batch has 5 rows (a field table of areas only)
+        got = evaluate(cases["clay_corner_miscanthus"].values, figures=("npv",), lines=("net_cash_flow",), rows=5)
+        assert got.figures["npv"].shape == (5,) and np.all(got.figures["npv"] == got.figures["npv"][0])
+        assert got.lines["net_cash_flow"].shape[0] == 5
+
+    def test_unknown_figure_is_refused(self, cases):
+        with pytest.raises(KeyError, match="no figure named 'nvp'"):
+            evaluate(cases["clay_corner_miscanthus"].values, figures=("nvp",))
 
 
 # ----------------------------------------------------------------------------- field tables
@@ -201,7 +226,7 @@ class TestDemoFieldTable:
                     continue
                 changes[path] = r[col] if path.startswith(("field.climate", "field.soil", "field.current_use",
                                                            "field.name")) else float(r[col])
-            own = results.summarise(base.replace(**changes))
+            own = summarise(base.replace(**changes))
             got = table.loc[r["field_id"]]
             for fig in ("npv", "npv_vs_current_use", "eav_vs_current_use", "irr", "soc_gain_t_c", "ghg_net_t_co2e",
                         "discounted_payback_year", "breakeven_price", "min_dscr"):
@@ -224,7 +249,7 @@ class TestDemoFieldTable:
         path.write_text("field_id,area_acre,haul_distance_mile\nA,10,5\nB,20,30\n")
         res = screen.screen(path, base, progress=False)
         row = res.table.set_index("field_id").loc["A"]
-        own = results.summarise(base.replace(**{"field.area_ha": 10 * HA_PER_ACRE,
+        own = summarise(base.replace(**{"field.area_ha": 10 * HA_PER_ACRE,
                                                 "costs.haul_distance_km": 5 * 1.609344}))
         # per-acre money = per-ha money x ha per acre (NIST HB44 exact definition)
         assert row["npv_per_acre"] == pytest.approx(own["npv"] * HA_PER_ACRE, rel=1e-9)

@@ -39,7 +39,8 @@ import tea.inputs.schema
 import tea.inputs.units
 from tea.outputs import display
 from tea.methods import finance
-from tea.model import ledger, results
+from tea.model import ledger
+from tea.model.evaluate import evaluate
 from tea.inputs import units
 from tea.model.results import FIGURE_BY_NAME, FIGURE_NAMES
 from tea.outputs.workbook import (LEDGER_KEY_ROW, LEDGER_TOP, N_ROWS, TABLE_KEY_ROW, TABLE_LABEL_ROW, TABLE_TOP,
@@ -64,10 +65,20 @@ INJECTED = {
 
 
 # ----------------------------------------------------------------------------- the engine's side
+PARAMS = {"rate": "discount_rate_real", "material": "planting_material_per_ha", "retention": "standing_retention",
+          "moisture": "moisture_at_harvest", "n_per_t": "n_offtake_kg_per_t_dm", "p_per_t": "p2o5_offtake_kg_per_t_dm",
+          "k_per_t": "k2o_offtake_kg_per_t_dm", "price": "price_per_t_dm_year1", "soc_start": "soc_start_t_c",
+          "soc_target": "soc_target_t_c", "ef1": "ef1", "frac_gasf": "frac_gasf", "frac_leach": "frac_leach",
+          "ef4": "ef4", "ef5": "ef5", "gwp_n2o": "gwp_n2o", "loan_rate": "loan_rate", "first_order": "soc_first_order",
+          "loan_capitalised": "loan_capitalised", "mirr_finance_rate": "mirr_finance_rate_real",
+          "mirr_reinvest_rate": "mirr_reinvest_rate_real"}
+
+
 def engine_side(case):
-    """Every ledger line over years 0..MAX_YEARS, and the engine's decision figures."""
-    p = results.with_case_options(case, ledger.model_inputs(case.values))
-    lines = {k: v[0] for k, v in ledger.compute(p, N_ROWS).items()}
+    """Every ledger line over years 0..MAX_YEARS, the model's parameters, and the engine's decision figures."""
+    got = evaluate(case.values, lines=(*ledger.LINE_NAMES, *PARAMS.values()), years=N_ROWS)
+    lines = {k: got.lines[k][0] for k in ledger.LINE_NAMES}
+    p = {short: got.lines[name][0, :1] for short, name in PARAMS.items()}
     figs = tea.summarise(case, tea.build_ledger(case)).per_ha
     return p, lines, figs
 
@@ -166,9 +177,9 @@ def compare_case(wb, case, prefix: str = "") -> int:
     df = lines["discount_factor"]
     close(ws.cell(rows["price_pv"], 3).value, float(np.sum(lines["sold_t_dm"] * lines["price_index"] * df)),
           "price_pv")
-    half = dict(p)
-    half["mature"] = p["mature"] * 0.5  # NPV at half the yield, the engine's own two-point slope
-    npv_half = float(np.sum(ledger.compute(half, N_ROWS)["net_cash_flow"][0] * df))
+    half = dict(case.values)
+    half["yield.mature_t_dm_per_ha"] = case["yield.mature_t_dm_per_ha"] * 0.5  # NPV at half the yield: a two-point slope
+    npv_half = float(np.sum(evaluate(half, lines=("net_cash_flow",), years=N_ROWS).lines["net_cash_flow"][0] * df))
     close(ws.cell(rows["yield_pv"], 3).value, 2.0 * (figs["npv"] - npv_half), "yield_pv")
     for name, changes in (("irr", finance.sign_changes(net)), ("irr_vs_current_use", finance.sign_changes(inc))):
         cell = ws.cell(rows[name], 3).value
@@ -254,8 +265,7 @@ def compare_case(wb, case, prefix: str = "") -> int:
              "frac_gasf": p["frac_gasf"], "frac_leach": p["frac_leach"], "ef4": p["ef4"], "ef5": p["ef5"],
              "gwp_n2o": p["gwp_n2o"], "loan_rate": p["loan_rate"], "first_order": p["first_order"],
              "capitalised": p["loan_capitalised"],
-             "mirr_finance": p.get("mirr_finance_rate", p["rate"]),
-             "mirr_reinvest": p.get("mirr_reinvest_rate", p["rate"])}
+             "mirr_finance": p["mirr_finance_rate"], "mirr_reinvest": p["mirr_reinvest_rate"]}
     mrows = {ws.cell(r, 10).value: r for r in range(5, ws.max_row + 1)
              if isinstance(ws.cell(r, 10).value, str) and ws.cell(r, 10).value.startswith(prefix_name(prefix) + "m_")}
     for key, value in model.items():

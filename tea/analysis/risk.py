@@ -5,7 +5,7 @@ distribution (uniform, triangular, normal or lognormal, truncated to its
 bounds and to the key's physical range), optionally with rank correlations
 between inputs; establishment failure is drawn per draw as well. All draws
 are evaluated at once on the vectorised (draws x years) model
-(:func:`tea.analysis.screen.evaluate`), and the run reports percentiles of NPV, IRR
+(:func:`tea.model.evaluate.evaluate`), and the run reports percentiles of NPV, IRR
 and the equivalent annual value, the chance of a negative NPV, the chance
 that the lowest DSCR falls below the lender's covenant, and the
 year-by-year band of the cumulative cash flow.
@@ -46,6 +46,7 @@ import numpy as np
 
 from tea.inputs import riskspec
 from tea.analysis import screen, sensitivity
+from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
 from tea.core.texts import CAUTIONS
@@ -169,8 +170,8 @@ def check_inputs(case: Case, spec: Mapping[str, Any]) -> None:
         raise CaseError(problems)
 
 
-def model_inputs(case: Case, inputs: Inputs) -> dict[str, Any]:
-    """Model inputs of every draw: the case's values with the drawn inputs and the failure event."""
+def draw_values(case: Case, inputs: Inputs) -> dict[str, Any]:
+    """Case values of every draw: the case's values with the drawn inputs and the failure event."""
     values: dict[str, Any] = dict(case.values)
     order = [p for p in inputs.draws if p != riskspec.COST_MULTIPLIER]
     if riskspec.COST_MULTIPLIER in inputs.draws:
@@ -179,16 +180,14 @@ def model_inputs(case: Case, inputs: Inputs) -> dict[str, Any]:
         col = inputs.draws[path]
         inp, _ = riskspec.resolve(path)
         sensitivity.apply(values, path, col.astype(np.int64) if inp.integer else col)
-    p = screen.model_inputs(values, case)
     if inputs.failed is not None:
-        n = inputs.failed.size
         ramp = [float(v) for v in case["yield.ramp_up_fractions"]]
         delayed = np.array([0.0] + ramp)
-        usual = np.array(ramp + [np.nan])  # NaN reads as 1 (mature) in agronomy.growth_fraction
-        p["ramp"] = np.where(inputs.failed[:, None], delayed[None, :], usual[None, :])
-        # the replanting actually paid: all of it on failure, none otherwise
-        p["p_fail"] = inputs.failed.astype(float).reshape(n, 1)
-    return p
+        usual = np.array(ramp + [np.nan])  # a NaN pads the shorter list: read as 1 (mature)
+        values["yield.ramp_up_fractions"] = np.where(inputs.failed[:, None], delayed[None, :], usual[None, :])
+        # the replanting actually paid: all of the expected share on failure, none otherwise
+        values["establishment.failure_probability"] = inputs.failed.astype(float)
+    return values
 
 
 # ----------------------------------------------------------------------------- the run
@@ -309,14 +308,14 @@ def run(case: Case, draws: int | None = None, seed: int | None = None, progress:
     check_inputs(case, spec)
     rng = np.random.default_rng(s)
     inputs = sample(case, n, rng, spec)
-    p = model_inputs(case, inputs)
+    values = draw_values(case, inputs)
     bar = screen.progress_bar(n, "drawing", progress, unit="draws")
     try:
-        figs = screen.evaluate(p, names=FIGURES, lines=("cumulative_cash_flow",), chunk_rows=chunk_rows,
-                               progress=bar.update)
+        got = evaluate(values, figures=FIGURES, lines=("cumulative_cash_flow",), rows=n, chunk_rows=chunk_rows,
+                       progress=bar.update)
     finally:
         bar.close()
-    cum = figs.pop("cumulative_cash_flow")
+    figs, cum = got.figures, got.lines["cumulative_cash_flow"]
     notes: list[str] = []
     stats = {name: stat(figs[name]) for name in ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr")}
     if not spec.get("inputs"):

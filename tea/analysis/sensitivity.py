@@ -27,6 +27,7 @@ import numpy as np
 from tea import __version__
 from tea.inputs import riskspec, units
 from tea.analysis import screen
+from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
 from tea.core.texts import CAUTIONS
@@ -200,7 +201,7 @@ def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names
                       ) -> dict[str, np.ndarray]:
     """Figures for variants of a case, each a mapping input path -> value, in one evaluation.
 
-    Uses the full ledger (:func:`tea.model.ledger.compute`), the reference.
+    One pass of the model's evaluator, one row per variant.
     """
     n = len(variants)
     values: dict[str, Any] = dict(case.values)
@@ -214,8 +215,7 @@ def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names
         if inp is not None and inp.integer:
             col = np.round(col).astype(np.int64)
         apply(values, path, col)
-    p = screen.model_inputs(values, case)
-    return screen.evaluate(p, names=names, lean=False, chunk_rows=max(n, 1))
+    return evaluate(values, figures=names, rows=n).figures
 
 
 # ----------------------------------------------------------------------------- the run

@@ -344,3 +344,45 @@ def default_input_factors() -> dict[str, dict]:
     tj_per_kg = diesel["ncv_tj_per_gg"] / 1.0e6  # 1 Gg = 10^6 kg
     diesel["value"] = diesel["ef_kg_co2_per_tj"] * tj_per_kg * diesel["density_kg_per_l"]
     return factors
+
+
+# ----------------------------------------------------------------------------- tables the model reads by label
+N2O_METHODS = ("ipcc2006", "ipcc2019")
+
+
+@functools.lru_cache(maxsize=1)
+def tables() -> dict[str, dict]:
+    """The published tables the model looks up by label (:func:`tea.model.expr.lookup`).
+
+    Each table: ``keys`` (labels; a key of several labels joins them with a
+    space), ``columns`` (name -> values in key order), ``units`` and ``source``.
+    The workbook writes each table on a sheet and reads it with INDEX/MATCH,
+    so an edited climate or method takes effect there too.
+    """
+    moisture = {c: ("wet" if climate_regimes(c)[1] == "moist_wet" else "dry") for c in CLIMATES}
+    n2o_keys = [f"{m} {w}" for m in N2O_METHODS for w in ("wet", "dry")]
+    n2o_cols: dict[str, list[float]] = {name: [] for name in ("ef1", "frac_gasf", "frac_leach", "ef4", "ef5")}
+    for key in n2o_keys:
+        method, wet = key.split(" ")
+        for name, value in n2o_factors(method.removeprefix("ipcc"), wet == "wet").items():
+            n2o_cols[name].append(value)
+    return {
+        "climate_moisture": {
+            "keys": list(CLIMATES), "columns": {"moisture": [moisture[c] for c in CLIMATES]},
+            "units": {"moisture": ""},
+            "source": "IPCC 2006 Vol.4 Ch.3 climate zones: moisture regime (wet = moist or wet, boreal included)",
+        },
+        "n2o_factors": {
+            "keys": n2o_keys, "columns": n2o_cols,
+            "units": {"ef1": "kg N2O-N/kg N", "frac_gasf": "kg N/kg N", "frac_leach": "kg N/kg N",
+                      "ef4": "kg N2O-N/kg N", "ef5": "kg N2O-N/kg N"},
+            "source": "IPCC 2006 Vol.4 Ch.11 Tables 11.1, 11.3; 2019 Refinement Tables 11.1, 11.3 "
+                      "(leaching in wet climates only)",
+        },
+        "gwp100": {
+            "keys": list(REPORTS), "columns": {"n2o": [gwp("n2o", r) for r in REPORTS],
+                                               "ch4": [gwp("ch4", r) for r in REPORTS]},
+            "units": {"n2o": "kg CO2e/kg N2O", "ch4": "kg CO2e/kg CH4"},
+            "source": _data()["gwp100"]["n2o"]["source"],
+        },
+    }

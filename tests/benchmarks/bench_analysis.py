@@ -43,9 +43,10 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from tea import load_case
-from tea.methods import finance
+from tea import load_case  # noqa: E402
+from tea.methods import finance  # noqa: E402
 from tea.analysis import risk, screen, sensitivity  # noqa: E402
+from tea.model.evaluate import evaluate  # noqa: E402
 
 CASE = ROOT / "cases" / "clay_corner_miscanthus.toml"
 
@@ -78,8 +79,7 @@ def stand_flows(n: int, years: int, seed: int) -> np.ndarray:
     spec = dict(case["risk"])
     spec["inputs"] = {k: v for k, v in spec["inputs"].items() if k != "finance.stand_life_years"}
     inputs = risk.sample(case, n, np.random.default_rng(seed), spec)
-    p = risk.model_inputs(case, inputs)
-    return screen.evaluate(p, names=("npv",), lines=("net_cash_flow",))["net_cash_flow"]
+    return evaluate(risk.draw_values(case, inputs), lines=("net_cash_flow",), rows=n).lines["net_cash_flow"]
 
 
 def bench_irr(quick: bool) -> dict:
@@ -151,7 +151,7 @@ def million_fields_inputs(n: int):
     v["field.current_margin_per_ha"] = rng.uniform(-50.0, 380.0, n)
     v["costs.rent_per_ha"] = np.where(rng.random(n) < 0.6, 0.0, rng.uniform(60.0, 220.0, n))
     v["carbon.soc_ref_t_c_per_ha"] = rng.uniform(40.0, 120.0, n)
-    return case, screen.model_inputs(v, case)
+    return case, v
 
 
 MODEL_FIGURES = ("npv", "irr", "discounted_payback_year", "discounted_payback_years", "soc_start_t_c_per_ha",
@@ -161,23 +161,24 @@ MODEL_FIGURES = ("npv", "irr", "discounted_payback_year", "discounted_payback_ye
 def child_million(quick: bool) -> dict:
     n = 200_000 if quick else 1_000_000
     years = 30
-    case, p = million_fields_inputs(n)
+    case, values = million_fields_inputs(n)
     arr = np.random.default_rng(3).standard_normal((n, years))
     v = np.ones(years)
     arr @ v
     t_pass = best(lambda: arr @ v, 7)
 
-    screen.evaluate(screen._take(p, slice(0, 20_000), n), names=MODEL_FIGURES)  # warm-up
-    t_model = best(lambda: screen.evaluate(p, names=MODEL_FIGURES), 3)
-    t_screen = best(lambda: screen.evaluate(p, names=screen.SCREEN_FIGURES), 2)
+    warm = {k: (v[:20_000] if isinstance(v, np.ndarray) and v.shape[:1] == (n,) else v) for k, v in values.items()}
+    evaluate(warm, figures=MODEL_FIGURES, rows=20_000)  # warm-up
+    t_model = best(lambda: evaluate(values, figures=MODEL_FIGURES, rows=n), 3)
+    t_screen = best(lambda: evaluate(values, figures=screen.SCREEN_FIGURES, rows=n), 2)
 
     tracemalloc.start()
     base = tracemalloc.get_traced_memory()[0]
-    out = screen.evaluate(p, names=MODEL_FIGURES)
+    out = evaluate(values, figures=MODEL_FIGURES, rows=n).figures
     model_extra = tracemalloc.get_traced_memory()[1] - base
     tracemalloc.stop()
 
-    net = screen.evaluate(p, names=("npv",), lines=("net_cash_flow",))["net_cash_flow"]
+    net = evaluate(values, lines=("net_cash_flow",), rows=n).lines["net_cash_flow"]
     del arr
     finance.irr(net[:20_000])
     t_irr = best(lambda: finance.irr(net), 3)

@@ -1,0 +1,85 @@
+"""Carbon: soil organic carbon under the stand, field emissions, credits.
+
+Greenhouse-gas lines are emissions positive, removals (SOC gain) negative.
+SOC follows the IPCC 2006 Tier 1 stock-change method (Vol. 4 Eq. 2.25): the
+stock moves from the current use's equilibrium to the stand's, linearly over
+the transition period, or by a first-order approach; it is held at its last
+value after the stand is removed.
+"""
+
+from __future__ import annotations
+
+from tea.model.declare import line, param
+from tea.model.definition.constants import C_TO_CO2, KG_PER_T, N2O_N_TO_N2O
+from tea.model.expr import I, L, exp, lag, lookup, maximum, minimum, t, where
+
+CB = I.carbon
+LIFE = I.finance.stand_life_years
+HELD = minimum(t, LIFE)  # years since planting, held at the stand life after removal
+
+
+def _n2o(column: str, label: str, unit: str):
+    return param(column, unit, "carbon", label, f"{label}: IPCC default for the case's method and climate.",
+                 lookup("n2o_factors", column, CB.n2o_method, L.climate_moisture),
+                 source="IPCC 2006 Vol.4 Ch.11 Tables 11.1/11.3; 2019 Refinement Tables 11.1/11.3")
+
+
+DEFS = (
+    param("soc_start_t_c", "t C/ha", "carbon", "SOC at planting",
+          "SOC stock at planting: the current use's equilibrium, SOC_ref x F_LU x F_MG x F_I.",
+          CB.soc_ref_t_c_per_ha * CB.current_f_lu * CB.current_f_mg * CB.current_f_i,
+          source="IPCC 2006 Vol.4 Ch.2 Eq. 2.25"),
+    param("soc_target_t_c", "t C/ha", "carbon", "SOC equilibrium under the stand",
+          "SOC equilibrium under the stand: SOC_ref x F_LU x F_MG x F_I of the crop.",
+          CB.soc_ref_t_c_per_ha * CB.crop_f_lu * CB.crop_f_mg * CB.crop_f_i,
+          source="IPCC 2006 Vol.4 Ch.2 Eq. 2.25"),
+    param("soc_first_order", "flag", "carbon", "First-order SOC path",
+          "1 for the first-order SOC path, 0 for the IPCC linear stock change.", CB.soc_method == "first_order"),
+    param("climate_moisture", "label", "carbon", "Moisture regime", "Wet (moist or wet climates) or dry.",
+          lookup("climate_moisture", "moisture", I.field.climate), source="IPCC 2006 Vol.4 Ch.3 climate zones"),
+    _n2o("ef1", "EF1, direct N2O", "kg N2O-N/kg N"),
+    _n2o("frac_gasf", "Frac_GASF, N volatilised", "kg N/kg N"),
+    _n2o("frac_leach", "Frac_LEACH, N leached", "kg N/kg N"),
+    _n2o("ef4", "EF4, N2O from volatilised N", "kg N2O-N/kg N"),
+    _n2o("ef5", "EF5, N2O from leached N", "kg N2O-N/kg N"),
+    param("gwp_n2o", "kg CO2e/kg N2O", "carbon", "GWP100 of N2O", "GWP100 of N2O in the case's assessment report.",
+          lookup("gwp100", "n2o", CB.gwp), source="IPCC AR4/AR5/AR6 WG1"),
+    line("soc_t_c", "t C/ha", "carbon", "SOC stock", "SOC stock (0-30 cm) at the end of the year under the stand.",
+         where(L.soc_first_order,
+               L.soc_target_t_c + (L.soc_start_t_c - L.soc_target_t_c) * exp(0 - CB.first_order_rate_per_year * HELD),
+               L.soc_start_t_c + (L.soc_target_t_c - L.soc_start_t_c)
+               * minimum(maximum(HELD / CB.transition_years, 0), 1)),
+         source="IPCC 2006 Vol.4 Ch.2 Eq. 2.25 (linear over the transition period)"),
+    line("soc_current_use_t_c", "t C/ha", "carbon", "SOC under current use",
+         "SOC stock had the current use continued (its equilibrium).", L.soc_start_t_c + 0 * t),
+    line("soc_change_t_c", "t C/ha", "carbon", "SOC change", "Change of the SOC stock during the year.",
+         L.soc_t_c - lag(L.soc_t_c, 1, fill=L.soc_t_c)),
+    line("diesel_l", "l/ha", "carbon", "Diesel", "Diesel burnt.",
+         L.planting_year * CB.diesel_establishment_l_per_ha + L.harvest * CB.diesel_harvest_l_per_ha
+         + L.harvested_t_dm * CB.diesel_l_per_t_dm + L.removal_year * CB.diesel_removal_l_per_ha),
+    line("ghg_n2o_direct_t_co2e", "t CO2e/ha", "carbon", "N2O direct", "Direct N2O from N applied (IPCC Eq. 11.1).",
+         L.n_applied_kg * L.ef1 * N2O_N_TO_N2O * L.gwp_n2o / KG_PER_T, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1"),
+    line("ghg_n2o_indirect_t_co2e", "t CO2e/ha", "carbon", "N2O indirect",
+         "Indirect N2O: volatilised and leached N (IPCC Eq. 11.9, 11.10).",
+         L.n_applied_kg * (L.frac_gasf * L.ef4 + L.frac_leach * L.ef5) * N2O_N_TO_N2O * L.gwp_n2o / KG_PER_T,
+         source="IPCC 2006 Vol.4 Ch.11 Eq. 11.9, 11.10"),
+    line("ghg_fertiliser_t_co2e", "t CO2e/ha", "carbon", "Fertiliser manufacture",
+         "Emissions from making the fertiliser applied.",
+         (L.n_applied_kg * CB.n_manufacture_kg_co2e_per_kg + L.p2o5_applied_kg * CB.p2o5_manufacture_kg_co2e_per_kg
+          + L.k2o_applied_kg * CB.k2o_manufacture_kg_co2e_per_kg) / KG_PER_T),
+    line("ghg_diesel_t_co2e", "t CO2e/ha", "carbon", "Diesel CO2", "CO2 from diesel burnt.",
+         L.diesel_l * CB.diesel_kg_co2e_per_l / KG_PER_T),
+    line("ghg_haulage_t_co2e", "t CO2e/ha", "carbon", "Haulage", "Road haulage of the fresh tonnes delivered.",
+         L.sold_fresh_t * I.costs.haul_distance_km * CB.haul_kg_co2e_per_t_km / KG_PER_T),
+    line("ghg_emissions_t_co2e", "t CO2e/ha", "carbon", "Emissions", "Sum of the emission lines.",
+         L.ghg_n2o_direct_t_co2e + L.ghg_n2o_indirect_t_co2e + L.ghg_fertiliser_t_co2e + L.ghg_diesel_t_co2e
+         + L.ghg_haulage_t_co2e),
+    line("ghg_soc_t_co2e", "t CO2e/ha", "carbon", "SOC change as CO2",
+         "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
+    line("ghg_net_t_co2e", "t CO2e/ha", "carbon", "Net GHG",
+         "Emissions + SOC line: the net balance (negative = net removal).", L.ghg_emissions_t_co2e + L.ghg_soc_t_co2e),
+    line("credited_t_co2e", "t CO2e/ha", "carbon", "Credited",
+         "SOC gain credited: gain x 44/12 x (1 - buffer), from the first credited year.",
+         (t >= CB.credit_first_year) * L.stand_year * maximum(L.soc_change_t_c, 0) * C_TO_CO2
+         * (1 - CB.credit_buffer_share)),
+)

@@ -1,0 +1,19 @@
+"""Named constants of the model: stoichiometry and unit identities, each with its source.
+
+They appear in the workbook as defined names (never as numbers typed in a
+formula) and in ``tea explain`` with their source.
+"""
+
+from __future__ import annotations
+
+from tea.model.expr import const
+
+C_TO_CO2 = const("c_to_co2", 44.0 / 12.0, "t CO2/t C", "Mass of CO2 per mass of its carbon (44/12)",
+                 "stoichiometry: molar masses of CO2 (44) and C (12)")
+N2O_N_TO_N2O = const("n2o_n_to_n2o", 44.0 / 28.0, "kg N2O/kg N2O-N", "Mass of N2O per mass of its nitrogen (44/28)",
+                     "stoichiometry: molar mass of N2O (44) over its two N atoms (28); IPCC 2006 Vol.4 Eq. 11.1")
+KG_PER_T = const("kg_per_t", 1000.0, "kg/t", "Kilograms per tonne", "SI unit identity")
+WATER_VAPORISATION = const(
+    "water_vaporisation_gj_per_t", 2.443, "GJ/t water",
+    "Energy to evaporate the water delivered with the fuel, per tonne of water (at 25 °C)",
+    "ISO 18125:2017, net calorific value as received: q_net,ar = q_net,d (1 - M) - 2.443 M [MJ/kg]")

@@ -1,0 +1,89 @@
+"""Money: costs, receipts, the net cash flow, the current use it replaces, discounting.
+
+Cost and revenue lines are positive magnitudes; only the cash-flow lines carry
+a sign. Land costs, the current use's forgone margin and yearly payments run
+in years 1..stand life. The current use nets its gross margin less the rent
+and overheads it would pay too, so "vs current use" figures count only what
+the decision changes.
+"""
+
+from __future__ import annotations
+
+from tea.model.declare import line, param
+from tea.model.expr import I, L, by_year, cumsum, given, t, where
+
+C, R, FI = I.costs, I.revenue, I.finance
+
+
+def real(rate):
+    """A rate of the case as a real rate: a nominal one through the Fisher equation."""
+    return where(FI.rate_basis == "nominal", (1 + rate) / (1 + FI.inflation) - 1, rate)
+
+
+DEFS = (
+    # costs
+    line("harvest_cost", "money/ha", "costs", "Cutting", "Cutting, per harvest.", L.harvest * C.harvest_per_ha),
+    line("baling_chipping_cost", "money/ha", "costs", "Baling or chipping", "Baling or chipping, per t DM harvested.",
+         L.harvested_t_dm * C.baling_chipping_per_t_dm),
+    line("haulage_cost", "money/ha", "costs", "Haulage", "Haulage: fresh t delivered x distance x rate.",
+         L.sold_fresh_t * C.haul_distance_km * C.haul_per_t_km),
+    line("storage_cost", "money/ha", "costs", "Storage", "Storage, per t DM sold.", L.sold_t_dm * C.storage_per_t_dm),
+    line("rent", "money/ha", "costs", "Rent", "Land rent, years 1..L.", L.stand_year * C.rent_per_ha),
+    line("overheads", "money/ha", "costs", "Overheads", "Overheads, years 1..L.", L.stand_year * C.overheads_per_ha),
+    line("insurance", "money/ha", "costs", "Insurance", "Insurance, years 1..L.", L.stand_year * C.insurance_per_ha),
+    line("upkeep", "money/ha", "costs", "Upkeep", "Field upkeep, years 1..L.", L.stand_year * C.upkeep_per_ha),
+    line("removal_cost", "money/ha", "costs", "Removal", "Taking the stand out (last year).",
+         L.removal_year * C.removal_per_ha),
+    line("total_cost", "money/ha", "costs", "Total cost", "All costs of the year, establishment included.",
+         L.establishment_cost + L.fertiliser_cost + L.harvest_cost + L.baling_chipping_cost + L.haulage_cost
+         + L.storage_cost + L.rent + L.overheads + L.insurance + L.upkeep + L.removal_cost),
+    # revenue
+    param("price_per_t_dm_year1", "money/t DM", "revenue", "Biomass price per t DM in year 1",
+          "The case's price per t DM, or its price per GJ times the heating value as delivered.",
+          where(given(R.price_per_gj), R.price_per_gj * L.heating_value_delivered_gj_per_t_dm, R.price_per_t_dm)),
+    line("price_index", "fraction", "revenue", "Price index",
+         "Real price multiplier: (1 + change)^(t - 1), or the case's price path.",
+         L.stand_year * where(given(R.price_path), by_year(R.price_path, start=1, hold_last=True),
+                              (1 + R.price_change_per_year) ** (t - 1))),
+    line("price_per_t_dm", "money/t DM", "revenue", "Price per t DM",
+         "Price received per t DM (per-GJ prices through the heating value).",
+         L.price_per_t_dm_year1 * L.price_index),
+    line("biomass_revenue", "money/ha", "revenue", "Biomass revenue", "Dry matter sold x price.",
+         L.sold_t_dm * L.price_per_t_dm),
+    line("grant", "money/ha", "revenue", "Grant", "Establishment grant (year 0).",
+         L.planting_year * I.establishment.grant_per_ha),
+    line("annual_payment", "money/ha", "revenue", "Yearly payment", "Yearly payments.",
+         L.stand_year * where(R.annual_payment_years > 0, t <= R.annual_payment_years, 1)
+         * R.annual_payment_per_ha),
+    line("carbon_credit_revenue", "money/ha", "revenue", "Carbon-credit revenue", "Credited t CO2e x credit price.",
+         L.credited_t_co2e * I.carbon.credit_price_per_t_co2e),
+    line("total_revenue", "money/ha", "revenue", "Total revenue", "All receipts of the year.",
+         L.biomass_revenue + L.grant + L.annual_payment + L.carbon_credit_revenue),
+    # cash
+    param("discount_rate_real", "fraction/yr", "cash", "Real discount rate",
+          "The case's discount rate, made real through the Fisher equation if it is nominal.",
+          real(FI.discount_rate), source="Fisher equation: (1 + i) = (1 + r)(1 + inflation)"),
+    line("net_cash_flow", "money/ha", "cash", "Net cash flow", "Total revenue - total cost.",
+         L.total_revenue - L.total_cost),
+    line("current_margin", "money/ha", "cash", "Current use margin (forgone)",
+         "Gross margin the current use would have earned (forgone), years 1..L.",
+         L.stand_year * I.field.current_margin_per_ha),
+    line("current_use_cash_flow", "money/ha", "cash", "Current use nets (margin - rent - overheads)",
+         "What the field would net under its current use: current margin - rent - overheads (paid under either use).",
+         L.current_margin - L.rent - L.overheads),
+    line("incremental_cash_flow", "money/ha", "cash", "Incremental cash flow",
+         "Net cash flow - current use cash flow: the change from today's use.",
+         L.net_cash_flow - L.current_use_cash_flow),
+    line("discount_factor", "fraction", "cash", "Discount factor", "(1 + r)^-t at the real discount rate.",
+         (1 + L.discount_rate_real) ** (0 - t)),
+    line("discounted_cash_flow", "money/ha", "cash", "Discounted cash flow", "Net cash flow x discount factor.",
+         L.net_cash_flow * L.discount_factor),
+    line("cumulative_cash_flow", "money/ha", "cash", "Cumulative cash flow", "Running total of the net cash flow.",
+         cumsum(L.net_cash_flow)),
+    line("cumulative_discounted_cash_flow", "money/ha", "cash", "Cumulative discounted",
+         "Running total of the discounted cash flow.", cumsum(L.discounted_cash_flow)),
+    line("discounted_incremental_cash_flow", "money/ha", "cash", "Discounted incremental",
+         "Incremental cash flow x discount factor.", L.incremental_cash_flow * L.discount_factor),
+    line("cumulative_discounted_incremental", "money/ha", "cash", "Cumulative disc. incremental",
+         "Running total of the discounted incremental cash flow.", cumsum(L.discounted_incremental_cash_flow)),
+)

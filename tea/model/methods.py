@@ -1,0 +1,71 @@
+"""Published methods the model calls by name, where a formula of lines would not do.
+
+Each entry gives the numpy function (over ``(rows, years)`` and ``(rows, 1)``
+arrays, from :mod:`tea.methods`) and the spreadsheet formula of the same
+method (:func:`tea.model.formulas` renders its arguments). ``linear`` lists the
+arguments the method is linear in, so the model's slopes pass through it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+from tea.methods import finance, loan
+
+
+@dataclass(frozen=True)
+class MethodDef:
+    name: str
+    doc: str
+    numpy: Callable[..., np.ndarray]
+    linear: tuple[int, ...] = ()  # argument positions the result is linear in (others held fixed)
+    source: str = ""
+
+
+def _column(x) -> np.ndarray:
+    return np.asarray(x, dtype=float).reshape(-1, 1)
+
+
+def _irr(flows: np.ndarray) -> np.ndarray:
+    return _column(np.atleast_1d(finance.irr(flows)))
+
+
+def _mirr(flows: np.ndarray, finance_rate, reinvest_rate, life) -> np.ndarray:
+    """MIRR over each row's own years 0..life (trailing padded years would change its exponent)."""
+    rows = flows.shape[0]
+    fin = np.broadcast_to(np.asarray(finance_rate, dtype=float), (rows, 1))[:, 0]
+    rei = np.broadcast_to(np.asarray(reinvest_rate, dtype=float), (rows, 1))[:, 0]
+    life = np.broadcast_to(np.asarray(life), (rows, 1))[:, 0].astype(int)
+    out = np.empty(rows)
+    for n in np.unique(life):
+        sel = life == n
+        out[sel] = np.atleast_1d(finance.mirr(flows[sel, : n + 1], fin[sel], rei[sel]))
+    return out.reshape(-1, 1)
+
+
+def _level_payment(rate, n, principal) -> np.ndarray:
+    return np.asarray(loan.level_payment(rate, n, principal), dtype=float)
+
+
+def _annuity_factor(rate, n) -> np.ndarray:
+    return np.asarray(finance.annuity_factor(rate, n), dtype=float)
+
+
+METHODS: dict[str, MethodDef] = {
+    m.name: m for m in (
+        MethodDef("irr", "Internal rate of return: the one rate at which the flows' NPV is zero; undefined "
+                  "(not a number) where no rate or more than one rate does.", _irr,
+                  source="polynomial root with uniqueness by Descartes' rule of signs and root counting "
+                         "(tea.methods.finance.irr)"),
+        MethodDef("mirr", "Modified IRR over years 0..stand life, at the finance and reinvestment rates.", _mirr,
+                  source="MIRR, as numpy-financial and spreadsheets define it"),
+        MethodDef("level_payment", "Level end-of-year payment repaying a principal over n years: "
+                  "P r / (1 - (1 + r)^-n), or P / n at r = 0.", _level_payment, linear=(2,),
+                  source="annuity formula (spreadsheet PMT)"),
+        MethodDef("annuity_factor", "Present value of 1 a year for n years: (1 - (1 + r)^-n) / r, or n at r = 0.",
+                  _annuity_factor, source="annuity formula"),
+    )
+}
