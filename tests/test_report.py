@@ -31,7 +31,8 @@ import pytest
 from lxml import etree
 
 import tea
-from tea.outputs import charts, display, report, terminal
+from tea.inputs import display
+from tea.outputs import charts, report, terminal
 from tea.core.errors import OutputError
 from tea.core.texts import CAUTIONS
 

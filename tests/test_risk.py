@@ -36,6 +36,7 @@ from tea.model.evaluate import evaluate
 from tea.inputs import riskspec
 from tea.analysis import risk, screen
 from tea.cli.main import main
+from tea.outputs import analysis_charts, analysis_text
 from tea.core.errors import CaseError
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -290,9 +291,9 @@ class TestRun:
 
     def test_chart_and_text(self, demo, tmp_path):
         _, res = demo
-        risk.histogram_chart(res, tmp_path / "h.png")
+        analysis_charts.histogram_chart(res, tmp_path / "h.png")
         assert (tmp_path / "h.png").read_bytes()[:4] == b"\x89PNG"
-        text = risk.summary_text(res)
+        text = analysis_text.risk_text(res)
         assert "P(NPV < 0)" in text and "Cumulative cash flow by year" in text and "Planning estimates" in text
 
 

@@ -26,6 +26,7 @@ from tea import build_ledger, load_case, load_text, summarise
 from tea.inputs import riskspec
 from tea.analysis import sensitivity
 from tea.cli.main import main
+from tea.outputs import analysis_charts, analysis_text
 from tea.core.errors import CaseError
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -203,12 +204,12 @@ class TestViews:
         assert len(table) == 9
 
     def test_tornado_chart(self, clay_run, tmp_path):
-        fig = sensitivity.tornado_chart(clay_run, tmp_path / "t.png")
+        fig = analysis_charts.tornado_chart(clay_run, tmp_path / "t.png")
         assert len(fig.axes[0].patches) == 2 * len(clay_run.moved)
         assert (tmp_path / "t.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
     def test_surface_chart(self, clay_run, tmp_path):
-        sensitivity.surface_chart(clay_run, tmp_path / "s.png")
+        analysis_charts.surface_chart(clay_run, tmp_path / "s.png")
         assert (tmp_path / "s.png").stat().st_size > 1000
 
     def test_json_is_strict(self, clay_run):
@@ -218,7 +219,7 @@ class TestViews:
         assert data["surface"]["npv_zero_contour"]
 
     def test_summary_text(self, clay_run):
-        text = sensitivity.summary_text(clay_run)
+        text = analysis_text.sensitivity_text(clay_run)
         assert "Biomass price" in text and "Break-even surface" in text and "Planning estimates" in text
 
 

@@ -37,7 +37,7 @@ import pytest
 import tea
 import tea.inputs.schema
 import tea.inputs.units
-from tea.outputs import display
+from tea.inputs import display
 from tea.methods import finance
 from tea.model import ledger
 from tea.model.evaluate import evaluate

@@ -50,7 +50,7 @@ from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
 from tea.core.texts import CAUTIONS
-from tea.outputs.terminal import json_header
+from tea.inputs.case import case_header as json_header
 
 PERCENTILES = (5, 10, 50, 90, 95)
 #: figures drawn per draw
@@ -380,96 +380,3 @@ def to_dict(res: RiskResult) -> dict[str, Any]:
         "notes": list(res.notes),
         "cautions": list(CAUTIONS),
     }
-
-
-def summary_text(res: RiskResult) -> str:
-    """Terminal view: percentiles, probabilities, the cash-flow band and a text histogram."""
-    from tea.outputs import display
-
-    c = res.case
-    per = "acre" if c.unit_system == "us_customary" else "ha"
-    scale = 0.40468564224 if per == "acre" else 1.0
-    head = f"Monte Carlo of {c.name}" + ("   [DEMO DATA]" if c["case.demo"] else "")
-    out = [head, "=" * len(head)]
-    names = ", ".join(riskspec.label(p) for p in res.spec.get("inputs", {})) or "none"
-    out.append(f"{res.draws:,} draws, seed {res.seed}; inputs drawn: {names}"
-               + (f"; establishment failed in {res.failure_share:.1%} of draws" if res.failure_share is not None else ""))
-    out.append("")
-    rows = [("NPV", "npv", "money"), ("NPV vs current use", "npv_vs_current_use", "money"),
-            ("EAV", "eav", "money"), ("EAV vs current use", "eav_vs_current_use", "money"), ("IRR", "irr", "pct")]
-    if "min_dscr" in res.stats:
-        rows.append(("Lowest DSCR", "min_dscr", "ratio"))
-    heads = ["", *(f"P{q}" for q in PERCENTILES), "mean", "+/- s.e."]
-    table = []
-    for label, name, kind in rows:
-        s = res.stats[name]
-        fmt = {"money": lambda v: display.money(v * scale, digits=0), "pct": lambda v: display.percent(v),
-               "ratio": lambda v: f"{v:.2f}" if v == v else "–"}[kind]
-        unit = {"money": f" ({c.currency}/{per}" + ("/yr)" if name.startswith("eav") else ")"), "pct": "", "ratio": ""}[kind]
-        table.append([label + unit, *(fmt(s.percentiles[q]) for q in PERCENTILES), fmt(s.mean), fmt(s.se)])
-    widths = [max(len(h), *(len(r[j]) for r in table)) for j, h in enumerate(heads)]
-    out.append("  ".join(h.ljust(widths[0]) if j == 0 else h.rjust(widths[j]) for j, h in enumerate(heads)))
-    for r in table:
-        out.append("  ".join(v.ljust(widths[0]) if j == 0 else v.rjust(widths[j]) for j, v in enumerate(r)))
-    out.append("")
-    pr = res.prob_npv_negative
-    out.append(f"P(NPV < 0) = {pr.value:.1%} (s.e. {pr.se:.1%})")
-    pr = res.prob_npv_vs_current_use_negative
-    out.append(f"P(NPV vs current use < 0) = {pr.value:.1%} (s.e. {pr.se:.1%})")
-    if res.prob_dscr_below_covenant is not None:
-        pr = res.prob_dscr_below_covenant
-        out.append(f"P(lowest DSCR < covenant {res.covenant:.2f}) = {pr.value:.1%} (s.e. {pr.se:.1%})")
-    for note in res.notes:
-        out.append(f"note: {note}")
-    out.append("")
-    out.append(f"Cumulative cash flow by year ({c.currency}/{per}):")
-    heads = ["year", *(f"P{q}" for q in PERCENTILES)]
-    rows_b = [[str(int(y)), *(display.money(res.band[q][i] * scale, digits=0) for q in PERCENTILES)]
-              for i, y in enumerate(res.band_years)]
-    widths = [max(len(h), *(len(r[j]) for r in rows_b)) for j, h in enumerate(heads)]
-    out.append("  ".join(h.rjust(w) for h, w in zip(heads, widths)))
-    out.extend("  ".join(v.rjust(w) for v, w in zip(r, widths)) for r in rows_b)
-    out.append("")
-    out.append(f"NPV histogram ({c.currency}/{per}, {res.draws:,} draws):")
-    counts, edges = res.histogram
-    top = max(int(counts.max()), 1)
-    for k, count in enumerate(counts):
-        left, right = edges[k] * scale, edges[k + 1] * scale
-        bar = "#" * int(round(40 * count / top))
-        out.append(f"  {display.money(left, digits=0):>9} .. {display.money(right, digits=0):>9}  {bar} {count}")
-    out.append("")
-    out.append("Cautions:")
-    out.extend(f"  - {x}" for x in CAUTIONS)
-    return "\n".join(out)
-
-
-def histogram_chart(res: RiskResult, path=None):
-    """A two-panel chart: NPV histogram, and the P5-P95 band of the cumulative cash flow."""
-    from matplotlib.figure import Figure
-
-    c = res.case
-    per = "acre" if c.unit_system == "us_customary" else "ha"
-    scale = 0.40468564224 if per == "acre" else 1.0
-    fig = Figure(figsize=(9.0, 3.8))
-    ax1, ax2 = fig.subplots(1, 2)
-    npv = res.figures["npv"] * scale
-    ax1.hist(npv, bins=40, color="#4575b4")
-    ax1.axvline(0.0, color="black", linewidth=0.8)
-    ax1.set_xlabel(f"NPV [{c.currency}/{per}]", fontsize=8)
-    ax1.set_ylabel("draws", fontsize=8)
-    ax1.set_title(f"P(NPV < 0) = {res.prob_npv_negative.value:.1%}", fontsize=9)
-    years = res.band_years
-    ax2.fill_between(years, res.band[5] * scale, res.band[95] * scale, color="#abd9e9", label="P5-P95")
-    ax2.fill_between(years, res.band[10] * scale, res.band[90] * scale, color="#74add1", label="P10-P90")
-    ax2.plot(years, res.band[50] * scale, color="#313695", label="P50")
-    ax2.axhline(0.0, color="black", linewidth=0.8)
-    ax2.set_xlabel("year", fontsize=8)
-    ax2.set_ylabel(f"cumulative cash flow [{c.currency}/{per}]", fontsize=8)
-    ax2.legend(fontsize=7)
-    for ax in (ax1, ax2):
-        ax.tick_params(labelsize=7)
-    fig.suptitle(f"{c.name}: {res.draws:,} draws, seed {res.seed}", fontsize=9)
-    fig.tight_layout()
-    if path is not None:
-        fig.savefig(path)
-    return fig

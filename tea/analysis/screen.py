@@ -498,7 +498,7 @@ def _rename_with_units(table, case: Case):
     customary units is named ``short_ton_dm``; break-even prices end in the
     price's unit. Carbon stays in metric tonnes, money in the case's currency.
     """
-    from tea.outputs import display
+    from tea.inputs import display
 
     if not len(table.columns):
         return table
@@ -678,7 +678,7 @@ def metadata_lines(result: ScreenResult) -> list[str]:
 
 def summary_text(result: ScreenResult, top: int = 10) -> str:
     """The terminal view: counts, the best-ranked fields, the cautions."""
-    from tea.outputs import display
+    from tea.inputs import display
 
     case = result.case
     out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]

@@ -26,12 +26,11 @@ import numpy as np
 
 from tea import __version__
 from tea.inputs import riskspec, units
-from tea.analysis import screen
 from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
 from tea.core.texts import CAUTIONS
-from tea.outputs.terminal import json_header
+from tea.inputs.case import case_header as json_header
 
 #: the figures recomputed for each variant
 FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use")
@@ -56,7 +55,7 @@ class Moved:
 
     def range_text(self, case: Case) -> str:
         """``low / high unit`` as shown to people (whole years, percentages for rates)."""
-        from tea.outputs import display
+        from tea.inputs import display
 
         f = self.display_factor(case)
         unit = self.unit_text(case)
@@ -299,62 +298,6 @@ def sensitivity_table(case: Case | Sensitivity):
     return frame
 
 
-def tornado_chart(case: Case | Sensitivity, path=None, figure: str = "npv", ax=None):
-    """A tornado chart of the sensitivity of NPV (or ``figure``) to each input.
-
-    Parameters
-    ----------
-    case : Case or Sensitivity
-        A case (run here) or a finished run.
-    path : str or Path, optional
-        Also save the chart there (the format follows the suffix: .png, .svg, .pdf).
-    figure : str
-        ``"npv"``, ``"eav"``, ``"npv_vs_current_use"`` or ``"eav_vs_current_use"``.
-    ax : matplotlib Axes, optional
-        Draw into these axes instead of a new figure.
-
-    Returns
-    -------
-    matplotlib.figure.Figure
-    """
-    if ax is None:
-        from matplotlib.figure import Figure
-
-        fig = Figure(figsize=(7.5, 5.7))
-        ax = fig.add_subplot(1, 1, 1)
-    else:
-        fig = ax.figure
-    res = case if isinstance(case, Sensitivity) else run(case, with_surface=False)
-    c = res.case
-    order = res.order(figure)[::-1]
-    base = res.base[figure]
-    per = "acre" if c.unit_system == "us_customary" else "ha"
-    scale = units.HA_PER_ACRE if per == "acre" else 1.0
-    labels = []
-    for pos, i in enumerate(order):
-        m = res.moved[i]
-        lo, hi = res.low[figure][i] * scale, res.high[figure][i] * scale
-        ax.barh(pos, lo - base * scale, left=base * scale, color="#b2182b", height=0.6)
-        ax.barh(pos, hi - base * scale, left=base * scale, color="#2166ac", height=0.6)
-        f = m.display_factor(c)
-        unit = m.unit_text(c)
-        labels.append(f"{m.label}\n{m.low * f:g} / {m.high * f:g} {unit}".strip())
-    ax.set_yticks(range(len(order)))
-    ax.set_yticklabels(labels, fontsize=7)
-    ax.axvline(base * scale, color="black", linewidth=0.8)
-    name = {"npv": "NPV", "eav": "Equivalent annual value", "npv_vs_current_use": "NPV vs current use",
-            "eav_vs_current_use": "EAV vs current use"}[figure]
-    unit = f"{c.currency}/{per}" + ("/yr" if figure.startswith("eav") else "")
-    ax.set_xlabel(f"{name} [{unit}]  (red: input at its low value, blue: at its high value)", fontsize=8)
-    ax.set_title(f"{c.name}: what moves {name}", fontsize=9)
-    ax.tick_params(axis="x", labelsize=7)
-    fig.tight_layout()
-    if path is not None:
-        fig.savefig(path, metadata={"Date": None} if str(path).endswith((".svg", ".pdf")) else None)
-    return fig
-
-
-# ----------------------------------------------------------------------------- break-even surface
 @dataclass
 class Surface:
     """NPV over a grid of two inputs, and where it crosses zero."""
@@ -425,37 +368,6 @@ def surface(case: Case) -> Surface:
     return Surface(x, y, xs, ys, npv, contour)
 
 
-def surface_chart(case: Case | Sensitivity | Surface, path=None, ax=None, case_for_labels: Case | None = None):
-    """A filled contour chart of NPV over the surface grid, with the NPV = 0 line."""
-    from matplotlib.figure import Figure
-
-    if isinstance(case, Sensitivity):
-        c, surf = case.case, case.surface or surface(case.case)
-    elif isinstance(case, Surface):
-        c, surf = case_for_labels, case
-    else:
-        c, surf = case, surface(case)
-    if ax is None:
-        fig = Figure(figsize=(6.5, 4.8))
-        ax = fig.add_subplot(1, 1, 1)
-    else:
-        fig = ax.figure
-    fx = _display_factor(c, surf.x)
-    fy = _display_factor(c, surf.y)
-    X, Y = np.meshgrid(surf.x_values * fx, surf.y_values * fy)
-    filled = ax.contourf(X, Y, surf.npv, levels=12, cmap="RdBu")
-    fig.colorbar(filled, ax=ax, label=f"NPV [{c.currency if c else ''}/ha]")
-    if surf.npv.min() < 0 < surf.npv.max():
-        ax.contour(X, Y, surf.npv, levels=[0.0], colors="black", linewidths=1.2)
-    ax.set_xlabel(f"{riskspec.label(surf.x)} [{_unit(c, surf.x)}]")
-    ax.set_ylabel(f"{riskspec.label(surf.y)} [{_unit(c, surf.y)}]")
-    ax.set_title("Break-even surface: NPV = 0 on the black line", fontsize=9)
-    fig.tight_layout()
-    if path is not None:
-        fig.savefig(path)
-    return fig
-
-
 def _display_factor(case: Case | None, path: str) -> float:
     inp, _ = riskspec.resolve(path)
     if case is None or inp is None or inp.key is None:
@@ -496,106 +408,3 @@ def to_dict(res: Sensitivity) -> dict[str, Any]:
 def _num(v: float) -> float | None:
     v = float(v)
     return v if math.isfinite(v) else None
-
-
-def summary_text(res: Sensitivity, figure: str = "npv") -> str:
-    """Terminal view: the ranked table, a text tornado and the break-even surface."""
-    from tea.outputs import display
-
-    c = res.case
-    per = "acre" if c.unit_system == "us_customary" else "ha"
-    scale = units.HA_PER_ACRE if per == "acre" else 1.0
-    money = lambda v: display.money(v * scale, digits=0)  # noqa: E731
-    head = f"Sensitivity of {c.name}" + ("   [DEMO DATA]" if c["case.demo"] else "")
-    out = [head, "=" * len(head)]
-    out.append(f"Base NPV {display.money(res.base['npv'] * scale, c.currency)}/{per}; "
-               f"EAV {display.money(res.base['eav'] * scale, c.currency)}/{per}/yr; NPV vs current use "
-               f"{display.money(res.base['npv_vs_current_use'] * scale, c.currency)}/{per}.")
-    out.append(f"Each input moved alone, the others at their base values; ranked by the swing of "
-               f"{'NPV vs current use' if figure.endswith('vs_current_use') else 'NPV'} ({c.currency}/{per}).")
-    out.append("")
-    rows = []
-    for rank, i in enumerate(res.order(figure), start=1):
-        m = res.moved[i]
-        eav = "eav_vs_current_use" if figure.endswith("vs_current_use") else "eav"
-        rows.append([str(rank), m.label, m.range_text(c),
-                     money(res.low[figure][i]), money(res.high[figure][i]), money(abs(res.high[figure][i] - res.low[figure][i])),
-                     money(res.low[eav][i]), money(res.high[eav][i]), "declared" if m.declared else m.note])
-    name = "NPV vs now" if figure.endswith("vs_current_use") else "NPV"
-    heads = ["#", "input", "low / high", f"{name} low", f"{name} high", "swing", "EAV low", "EAV high", "range"]
-    widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(heads)] if rows else [len(h) for h in heads]
-    align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 8) else s.rjust(widths[j])  # noqa: E731
-    out.append("  ".join(align(j, h) for j, h in enumerate(heads)))
-    out.extend("  ".join(align(j, s) for j, s in enumerate(r)) for r in rows)
-    only_vs = [res.moved[i].label for i in range(len(res.moved))
-               if res.low["npv"][i] == res.high["npv"][i] and res.low["npv_vs_current_use"][i] != res.high["npv_vs_current_use"][i]]
-    if only_vs and figure == "npv":
-        out.append(f"{', '.join(only_vs)}: changes only the comparison with today's use "
-                   "(NPV vs current use), not the stand's own NPV; see --figure npv_vs_current_use.")
-    out.append("")
-    out.append(f"Tornado ({figure.upper() if figure == 'npv' else figure}, {c.currency}/{per}; '<' input low, '>' input high, "
-               "| base):")
-    out.extend(_text_tornado(res, figure, scale))
-    if res.surface is not None:
-        out.append("")
-        out.extend(_surface_text(res.surface, c))
-    out.append("")
-    out.append("Cautions:")
-    out.extend(f"  - {x}" for x in CAUTIONS)
-    return "\n".join(out)
-
-
-def _text_tornado(res: Sensitivity, figure: str, scale: float, width: int = 48) -> list[str]:
-    base = res.base[figure] * scale
-    order = res.order(figure)
-    lo = res.low[figure] * scale
-    hi = res.high[figure] * scale
-    extent = max(np.max(np.abs(lo - base)), np.max(np.abs(hi - base)), 1e-12)
-    half = width // 2
-    label_w = max(len(m.label) for m in res.moved)
-    lines = []
-    for i in order:
-        cells = [" "] * width
-        for value, mark in ((lo[i], "<"), (hi[i], ">")):
-            k = int(round((value - base) / extent * half))
-            if k < 0:
-                for j in range(half + k, half):
-                    cells[j] = mark
-            elif k > 0:
-                for j in range(half, half + k):
-                    cells[j] = mark
-        cells.insert(half, "|")
-        lines.append(f"  {res.moved[i].label.ljust(label_w)} {''.join(cells)}")
-    return lines
-
-
-def _surface_text(s: Surface, c: Case) -> list[str]:
-    from tea.outputs import display
-
-    per = "acre" if c.unit_system == "us_customary" else "ha"
-    scale = units.HA_PER_ACRE if per == "acre" else 1.0
-    fx, fy = _display_factor(c, s.x), _display_factor(c, s.y)
-    out = [f"Break-even surface: NPV ({c.currency}/{per}) by {riskspec.label(s.x)} [{_unit(c, s.x)}] (columns) "
-           f"and {riskspec.label(s.y)} [{_unit(c, s.y)}] (rows); '*' marks a cell next to NPV = 0"]
-    xs = [display.number(v * fx) for v in s.x_values]
-    cells = [[display.money(v * scale, digits=0) for v in row] for row in s.npv]
-    sign = np.sign(s.npv)
-    marked = np.zeros_like(s.npv, dtype=bool)
-    marked[:-1] |= sign[:-1] != sign[1:]
-    marked[1:] |= sign[:-1] != sign[1:]
-    marked[:, :-1] |= sign[:, :-1] != sign[:, 1:]
-    marked[:, 1:] |= sign[:, :-1] != sign[:, 1:]
-    cells = [[v + ("*" if marked[i, j] else " ") for j, v in enumerate(row)] for i, row in enumerate(cells)]
-    ys = [display.number(v * fy) for v in s.y_values]
-    w = max(len(v) for row in cells for v in row)
-    w = max(w, *(len(v) + 1 for v in xs))
-    yw = max(len(v) for v in ys)
-    out.append(" " * (yw + 2) + "".join(v.rjust(w) + " " for v in xs))
-    for i in range(len(ys) - 1, -1, -1):
-        out.append(ys[i].rjust(yw) + "  " + "".join(v.rjust(w + 1) for v in cells[i]))
-    if s.contour:
-        pts = "; ".join(f"{display.number(a * fx)} -> {display.number(b * fy)}" for a, b in s.contour)
-        out.append(f"NPV = 0 ({riskspec.label(s.x)} -> {riskspec.label(s.y)}): {pts}")
-    else:
-        out.append("NPV does not cross zero on this grid.")
-    return out

@@ -66,6 +66,7 @@ def _check_figure_paths(paths, force: bool) -> None:
 # ----------------------------------------------------------------------------- sensitivity
 def _cmd_sensitivity(args: argparse.Namespace) -> int:
     from tea.analysis import sensitivity
+    from tea.outputs import analysis_charts, analysis_text
     from tea.inputs.case import load_case
 
     case = load_case(args.case)
@@ -75,17 +76,18 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
     else:
-        print(sensitivity.summary_text(res, figure=args.figure))
+        print(analysis_text.sensitivity_text(res, figure=args.figure))
     if args.plot:
-        _save_figure(sensitivity.tornado_chart(res, figure=args.figure), args.plot, args.force)
+        _save_figure(analysis_charts.tornado_chart(res, figure=args.figure), args.plot, args.force)
     if args.surface_plot:
-        _save_figure(sensitivity.surface_chart(res), args.surface_plot, args.force)
+        _save_figure(analysis_charts.surface_chart(res), args.surface_plot, args.force)
     return 0
 
 
 # ----------------------------------------------------------------------------- risk
 def _cmd_risk(args: argparse.Namespace) -> int:
     from tea.analysis import risk
+    from tea.outputs import analysis_charts, analysis_text
     from tea.inputs.case import load_case
 
     case = load_case(args.case)
@@ -95,9 +97,9 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
     else:
-        print(risk.summary_text(res))
+        print(analysis_text.risk_text(res))
     if args.plot:
-        _save_figure(risk.histogram_chart(res), args.plot, args.force)
+        _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
     return 0
 
 

@@ -16,6 +16,7 @@ from typing import Sequence
 
 from tea import __version__
 from tea.cli import analysis as analysis_cli
+from tea.cli import explain as explain_cli
 from tea.cli.common import check_outputs as _check_outputs, load_all as _load_all
 from tea.core.errors import CaseError, OutputError, TeaError
 
@@ -137,6 +138,7 @@ def build_parser() -> argparse.ArgumentParser:
     presets.set_defaults(func=_cmd_presets)
 
     analysis_cli.add_commands(sub)
+    explain_cli.add_commands(sub)
     return parser
 
 

@@ -20,16 +20,14 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
-from typing import Any, Iterable, Mapping
+from typing import Any, Mapping
 
 from tea.methods import finance
 from tea.inputs import published
 from tea.inputs import schema, units
 from tea.core.errors import CaseError, Problem
 
-#: physical ceiling on a harvested yield [t DM ha⁻¹ yr⁻¹]: from memory, the
-#: most that the maximum efficiency of solar energy conversion allows any crop
-YIELD_CEILING_T_DM_PER_HA = 100.0
+YIELD_CEILING_T_DM_PER_HA = schema.YIELD_CEILING_T_DM_PER_HA
 
 #: a numeric guard, not a model coefficient: no case number means anything
 #: beyond 10^12 in size (money per ha, units per ha, years), and below it every
@@ -177,6 +175,20 @@ class Case:
         return out
 
 
+def case_header(case: Case) -> dict[str, Any]:
+    """The keys every JSON output of a case opens with (tying it to its inputs)."""
+    from tea import __version__
+
+    return {
+        "case": case.name,
+        "case_hash": case.hash,
+        "tool_version": __version__,
+        "currency": case.currency,
+        "per": "ha",
+        "demo_data": bool(case["case.demo"]),
+    }
+
+
 def _nest(flat: Mapping[str, Any]) -> dict[str, dict[str, Any]]:
     out: dict[str, dict[str, Any]] = {}
     for path, value in flat.items():
@@ -233,25 +245,8 @@ def _quote_line(text: str, message: str) -> str:
     return f": {json.dumps(line[:80])}" if line else ""
 
 
-@lru_cache(maxsize=None)
-def _spelling_index() -> dict[str, dict[str, tuple[schema.Key, float]]]:
-    """section -> accepted spelling -> (key, factor to canonical)."""
-    index: dict[str, dict[str, tuple[schema.Key, float]]] = {}
-    for k in schema.KEYS:
-        for spelling, factor in k.spellings().items():
-            index.setdefault(k.section, {})[spelling] = (k, factor)
-    return index
-
-
-@lru_cache(maxsize=None)
-def _alias_index() -> dict[str, dict[str, tuple[schema.Key, float]]]:
-    """section -> alias spelling (e.g. a fresh-yield key) -> (key, factor)."""
-    index: dict[str, dict[str, tuple[schema.Key, float]]] = {}
-    for k in schema.KEYS:
-        for alias in k.aliases:
-            for spelling, factor in units.spellings(alias).items():
-                index.setdefault(k.section, {})[spelling] = (k, factor)
-    return index
+_spelling_index = schema.spelling_index
+_alias_index = schema.alias_index
 
 
 def _scale(value: Any, factor: float) -> Any:
@@ -270,9 +265,7 @@ def _key_text(name: str) -> str:
     return name if re.fullmatch(r"[A-Za-z0-9_-]+", name) else json.dumps(name)
 
 
-def _suggest(word: str, candidates: Iterable[str]) -> str:
-    close = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.5)
-    return f"; did you mean {close[0]!r}?" if close else ""
+_suggest = schema.suggest
 
 
 def _suggest_key(word: str, section: str) -> str:

@@ -165,7 +165,7 @@ class InputKey:
         k = self.key
         if k.path == "yield.mature_t_dm_per_ha":
             # no schema bound, but a physical ceiling the loader enforces for every crop
-            from tea.inputs.case import YIELD_CEILING_T_DM_PER_HA
+            from tea.inputs.schema import YIELD_CEILING_T_DM_PER_HA
 
             return k.lo, YIELD_CEILING_T_DM_PER_HA, k.lo_open, False
         return k.lo, k.hi, k.lo_open, k.hi_open
@@ -187,15 +187,11 @@ class InputKey:
 
 
 def _spelling_index():
-    from tea.inputs.case import _spelling_index
-
-    return _spelling_index()
+    return schema.spelling_index()
 
 
 def _suggest(word: str, candidates) -> str:
-    from tea.inputs.case import _suggest as suggest
-
-    return suggest(word, candidates)
+    return schema.suggest(word, candidates)
 
 
 def resolve(name: str) -> tuple[InputKey | None, str | None]:

@@ -20,8 +20,10 @@ Default kinds
 
 from __future__ import annotations
 
+import difflib
+import functools
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Iterable
 
 from tea.inputs import units
 
@@ -282,3 +284,35 @@ BY_PATH: dict[str, Key] = {k.path: k for k in KEYS}
 
 def keys_in(section: str) -> list[Key]:
     return [k for k in KEYS if k.section == section]
+
+
+#: physical ceiling on a harvested yield [t DM ha⁻¹ yr⁻¹]: from memory, the
+#: most that the maximum efficiency of solar energy conversion allows any crop
+YIELD_CEILING_T_DM_PER_HA = 100.0
+
+
+# ----------------------------------------------------------------------------- spellings
+@functools.lru_cache(maxsize=None)
+def spelling_index() -> dict[str, dict[str, tuple[Key, float]]]:
+    """section -> accepted spelling -> (key, factor to canonical)."""
+    index: dict[str, dict[str, tuple[Key, float]]] = {}
+    for k in KEYS:
+        for spelling, factor in k.spellings().items():
+            index.setdefault(k.section, {})[spelling] = (k, factor)
+    return index
+
+
+@functools.lru_cache(maxsize=None)
+def alias_index() -> dict[str, dict[str, tuple[Key, float]]]:
+    """section -> alias spelling (e.g. a fresh-yield key) -> (key, factor)."""
+    index: dict[str, dict[str, tuple[Key, float]]] = {}
+    for k in KEYS:
+        for alias in k.aliases:
+            for spelling, factor in units.spellings(alias).items():
+                index.setdefault(k.section, {})[spelling] = (k, factor)
+    return index
+
+
+def suggest(word: str, candidates: Iterable[str]) -> str:
+    close = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.5)
+    return f"; did you mean {close[0]!r}?" if close else ""

@@ -614,15 +614,19 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
             raise ValueError(f"{path}: {cols[path].shape[0]} rows in a batch of {n}")
     if chunk_rows is None:
         chunk_rows = max(1, CACHE_ELEMENTS // max(years, 1))
-    out = Evaluated({name: np.empty(n) for name in figures}, {name: np.empty((n, years)) for name in lines})
+    out = Evaluated({}, {})
     for start in range(0, n, chunk_rows):
         stop = min(start + chunk_rows, n)
         sub = {path: (c[start:stop] if path in per_row else c) for path, c in cols.items()}
         got = p.run(sub, years, stop - start)
-        for name in figures:
-            out.figures[name][start:stop] = np.broadcast_to(D(got[("figure", name)]), (stop - start, 1))[:, 0]
-        for name in lines:
-            out.lines[name][start:stop] = np.broadcast_to(D(got[("line", name)]), (stop - start, years))
+        for space, names, shape in (("figure", figures, (stop - start, 1)), ("line", lines, (stop - start, years))):
+            target = out.figures if space == "figure" else out.lines
+            for name in names:
+                v = np.broadcast_to(D(got[(space, name)]), shape)
+                if name not in target:  # allocated with the first chunk's kind of value (numbers or labels)
+                    full = (n,) if space == "figure" else (n, years)
+                    target[name] = np.empty(full, dtype=float if v.dtype.kind in "fiub" else object)
+                target[name][start:stop] = v[:, 0] if space == "figure" else v
         if progress is not None:
             progress(stop - start)
     return out

@@ -9,7 +9,7 @@ arguments the method is linear in, so the model's slopes pass through it.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 
@@ -21,8 +21,37 @@ class MethodDef:
     name: str
     doc: str
     numpy: Callable[..., np.ndarray]
+    sheet: Callable[[Any, Any], str]  # (renderer, method node) -> spreadsheet formula
     linear: tuple[int, ...] = ()  # argument positions the result is linear in (others held fixed)
     source: str = ""
+
+
+def _kw(node) -> dict:
+    return dict(node.sheet)
+
+
+def _irr_sheet(r, n) -> str:
+    """IRR over years 0..stand life where the flows change sign once or an odd number of times (Descartes)."""
+    kw = _kw(n)
+    changes = r.render(kw["changes"], None)
+    flows = r.years_to(n.args[0], kw["life"])
+    return f"IF(OR({changes}=0,ISEVEN({changes})),NA(),IRR({flows},{r.render(kw['guess'], None)}))"
+
+
+def _mirr_sheet(r, n) -> str:
+    flows = r.years_to(n.args[0], n.args[3])
+    fin, rei = r.render(n.args[1], None), r.render(n.args[2], None)
+    return f'IF(AND(COUNTIF({flows},">0")>0,COUNTIF({flows},"<0")>0),MIRR({flows},{fin},{rei}),NA())'
+
+
+def _level_payment_sheet(r, n) -> str:
+    rate, years, principal = (r.render(a, None) for a in n.args)
+    return f"-PMT({rate},{years},{principal})"
+
+
+def _annuity_factor_sheet(r, n) -> str:
+    rate, years = (r.render(a, None) for a in n.args)
+    return f"PV({rate},{years},-1)"
 
 
 def _column(x) -> np.ndarray:
@@ -57,15 +86,16 @@ def _annuity_factor(rate, n) -> np.ndarray:
 METHODS: dict[str, MethodDef] = {
     m.name: m for m in (
         MethodDef("irr", "Internal rate of return: the one rate at which the flows' NPV is zero; undefined "
-                  "(not a number) where no rate or more than one rate does.", _irr,
+                  "(not a number) where no rate or more than one rate does.", _irr, _irr_sheet,
                   source="polynomial root with uniqueness by Descartes' rule of signs and root counting "
                          "(tea.methods.finance.irr)"),
         MethodDef("mirr", "Modified IRR over years 0..stand life, at the finance and reinvestment rates.", _mirr,
+                  _mirr_sheet,
                   source="MIRR, as numpy-financial and spreadsheets define it"),
         MethodDef("level_payment", "Level end-of-year payment repaying a principal over n years: "
-                  "P r / (1 - (1 + r)^-n), or P / n at r = 0.", _level_payment, linear=(2,),
+                  "P r / (1 - (1 + r)^-n), or P / n at r = 0.", _level_payment, _level_payment_sheet, linear=(2,),
                   source="annuity formula (spreadsheet PMT)"),
         MethodDef("annuity_factor", "Present value of 1 a year for n years: (1 - (1 + r)^-n) / r, or n at r = 0.",
-                  _annuity_factor, source="annuity formula"),
+                  _annuity_factor, _annuity_factor_sheet, source="annuity formula"),
     )
 }

@@ -1,7 +1,7 @@
 """Charts of the printed summary: matplotlib figures returned as inline SVG.
 
 Every chart function takes plain numbers already in the units the page shows
-(the report converts them with :func:`tea.outputs.display.convert`) and returns a
+(the report converts them with :func:`tea.inputs.display.convert`) and returns a
 :class:`Chart`, whose ``svg`` is markup ready to sit inside an HTML page:
 
 * no XML prolog, DOCTYPE or metadata block (nothing refers outside the page);

@@ -7,7 +7,7 @@ PDF through WeasyPrint, an HTML-to-PDF engine (fonts embedded). The format
 follows the file name: ``.pdf`` or ``.html``.
 
 The page only renders: every figure comes from :class:`tea.model.results.Results`
-and the ledger, formatted by :mod:`tea.outputs.terminal` and :mod:`tea.outputs.display` exactly
+and the ledger, formatted by :mod:`tea.outputs.terminal` and :mod:`tea.inputs.display` exactly
 as the terminal shows it, in the case's units and currency.
 
 Safety and reproducibility
@@ -49,7 +49,8 @@ from markupsafe import Markup
 import tea
 
 from tea import __version__
-from tea.outputs import charts, display, terminal
+from tea.inputs import display
+from tea.outputs import charts, terminal
 from tea.inputs.case import Case
 from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target

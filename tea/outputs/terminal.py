@@ -7,8 +7,8 @@ from typing import Any
 import pandas as pd
 
 from tea import __version__
-from tea.outputs import display
-from tea.inputs.case import Case, load_preset, preset_names
+from tea.inputs import display
+from tea.inputs.case import Case, case_header, load_preset, preset_names
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
 from tea.core.texts import CAUTIONS
@@ -223,14 +223,7 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
 
 def json_header(case: Case) -> dict[str, Any]:
     """The keys every JSON output of a case opens with (tying it to its inputs)."""
-    return {
-        "case": case.name,
-        "case_hash": case.hash,
-        "tool_version": __version__,
-        "currency": case.currency,
-        "per": "ha",
-        "demo_data": bool(case["case.demo"]),
-    }
+    return case_header(case)
 
 
 def _json_number(v: float) -> float | None:

@@ -64,7 +64,7 @@ from typing import Any, Iterable, Mapping, Sequence
 from tea import __version__
 from tea.methods import carbon
 from tea.inputs import published
-from tea.outputs import display
+from tea.inputs import display
 from tea.inputs import schema, units
 from tea.inputs.case import EXTENSION_SECTIONS, Case
 from tea.inputs.workbook_reader import INPUT_COLUMNS, INPUT_HEAD_ROW, INPUTS, KEPT_HEADER, col_letter, read_case_mapping

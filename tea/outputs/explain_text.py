@@ -1,0 +1,56 @@
+"""`tea explain` in the terminal: a figure or line, its formula, its inputs and the tree it rests on."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from tea.model.explain import Explanation, Node
+from tea.inputs import display
+
+WIDTH = 100
+
+
+def _value(v: Any, unit: str, currency: str) -> str:
+    if isinstance(v, np.ndarray):
+        shown = ", ".join(_value(x, "", currency) for x in v[:8])
+        return f"[{shown}{', ...' if v.size > 8 else ''}] {unit.replace('money', currency)} in years 0, 1, ..."
+    if isinstance(v, str):
+        return v
+    if v is None or (isinstance(v, float) and not np.isfinite(v)):
+        return "no value"
+    text = display.number(float(v)) if abs(float(v)) >= 1e-3 or v == 0 else f"{float(v):.3g}"
+    return f"{text} {unit.replace('money', currency)}".strip()
+
+
+def _node(n: Node, currency: str, indent: str, out: list[str]) -> None:
+    what = "figure" if n.kind == "figure" else ("parameter" if n.kind == "param" else "line")
+    out.append(f"{indent}{n.name} ({what}, {n.unit.replace('money', currency)}) = {_value(n.value, n.unit, currency)}")
+    out.append(f"{indent}  {n.label}: {n.meaning}")
+    out.append(f"{indent}  formula:  {n.symbols}")
+    out.append(f"{indent}  in words: {n.words}")
+    if n.source:
+        out.append(f"{indent}  method:   {n.source}")
+    if n.inputs:
+        out.append(f"{indent}  inputs:   {', '.join(n.inputs)}")
+    for c in n.children:
+        _node(c, currency, indent + "    ", out)
+    if n.more:
+        out.append(f"{indent}    ... {n.more} more below (raise --depth to see them)")
+
+
+def explain_text(ex: Explanation, currency: str) -> str:
+    out = [f"{ex.case} (case hash {ex.case_hash})" + (f", year {ex.year}" if ex.year is not None else ""), ""]
+    _node(ex.root, currency, "", out)
+    out += ["", "Case inputs it uses (a 1 % change, or a step for a whole number or a choice, moves it):"]
+    for u in ex.inputs:
+        value = u.value if not isinstance(u.value, list) else ", ".join(f"{x:g}" for x in u.value)
+        out.append(f"  {u.path} = {value} {u.unit}  [{u.origin}] {u.source}".rstrip())
+    if ex.constants:
+        out += ["", "Constants:"]
+        out += [f"  {c['name']} = {c['value']:.10g} {c['unit']}: {c['source']}" for c in ex.constants]
+    if ex.unused_inputs:
+        out += ["", "In the formulas, but no effect in this case (a branch not taken, a zero factor):",
+                "  " + ", ".join(ex.unused_inputs)]
+    return "\n".join(out)
