@@ -549,7 +549,8 @@ def progress_bar(total: int, what: str, enabled: bool | None, unit: str = "rows"
     By default it is shown when stderr is a terminal (and only once the run
     has lasted 0.5 s), or, sparsely, for a long run logged to a file.
     """
-    terminal = sys.stderr.isatty()
+    stream = getattr(sys.stderr, "raw", sys.stderr)  # the bar's own carriage returns pass the terminal filter
+    terminal = stream.isatty()
     if enabled is None:
         enabled = terminal or total >= LONG_RUN
     if not enabled:
@@ -557,8 +558,8 @@ def progress_bar(total: int, what: str, enabled: bool | None, unit: str = "rows"
     from tqdm import tqdm
 
     if terminal:
-        return tqdm(total=total, desc=what, unit=unit, file=sys.stderr, delay=0.5, leave=False)
-    return tqdm(total=total, desc=what, unit=unit, file=sys.stderr, mininterval=30.0, ascii=True)
+        return tqdm(total=total, desc=what, unit=unit, file=stream, delay=0.5, leave=False)
+    return tqdm(total=total, desc=what, unit=unit, file=stream, mininterval=30.0, ascii=True)
 
 
 # ============================================================================= writing

@@ -8,17 +8,48 @@ from typing import Sequence
 from tea.core.errors import CaseError, OutputError
 
 
-def check_outputs(paths: Sequence[str], force: bool) -> None:
-    """Refuse, before any work, to overwrite files or write into missing folders."""
+def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bool) -> None:
+    """Refuse, before any work, output files that cannot be written as asked.
+
+    ``targets`` pairs each output path (None: not asked for) with the suffixes
+    it may have. Checked together: each suffix, no two outputs naming one file,
+    no file overwritten without ``force``, the folder there and writable, no
+    folder where the file should go. Usage problems raise one
+    :class:`OutputError` listing them all (exit 2); a folder in the way or an
+    unwritable folder raises :class:`WriteError` (exit 1).
+    """
+    from tea.core.files import check_target
+
     problems = []
-    for p in paths:
+    seen: dict[Path, str] = {}
+    given = [(p, suffixes) for p, suffixes in targets if p]
+    for p, suffixes in given:
         path = Path(p)
-        if path.exists() and not force:
-            problems.append(f"{p}: exists; pass --force to overwrite it")
-        elif not path.parent.exists():
-            problems.append(f"{p}: folder {path.parent} does not exist")
+        suffix = path.suffix.lower()
+        if path.is_dir():
+            continue  # check_target names it below
+        if suffix not in suffixes:
+            old = " (the old binary format; tea writes .xlsx)" if suffix == ".xls" else ""
+            problems.append(f"{brief_path(p)}: unknown output type {suffix or '(none)'}{old}; "
+                            f"expected {' or '.join(suffixes)}")
+        where = path.resolve()
+        if where in seen:
+            problems.append(f"{brief_path(p)}: also given as {brief_path(seen[where])}; give each output its own file")
+        seen[where] = p
+    for p, _ in given:
+        try:
+            check_target(p, force)
+        except OutputError as exc:
+            problems.append(str(exc))
     if problems:
-        raise OutputError("\n".join(problems))
+        raise OutputError("\n".join(dict.fromkeys(problems)))
+
+
+def brief_path(p: str | Path) -> str:
+    """A path as an error line names it: at most about 80 characters."""
+    from tea.core.safe_text import SHOWN_LIMIT, clip
+
+    return clip(str(p), SHOWN_LIMIT)
 
 
 def load_all(paths: Sequence[str], on_loaded=None) -> list:
@@ -39,3 +70,22 @@ def load_all(paths: Sequence[str], on_loaded=None) -> list:
     if problems:
         raise CaseError(problems)
     return cases
+
+
+class SafeStream:
+    """A text stream (stdout, stderr) whose every write shows control and direction-override characters
+    escaped (:func:`tea.core.safe_text.terminal`): case text can neither drive the terminal nor reorder a line.
+
+    ``raw`` is the stream underneath, for the progress bar's own carriage returns.
+    """
+
+    def __init__(self, raw):
+        self.raw = raw
+
+    def write(self, text: str) -> int:
+        from tea.core.safe_text import terminal
+
+        return self.raw.write(terminal(text))
+
+    def __getattr__(self, name: str):
+        return getattr(self.raw, name)

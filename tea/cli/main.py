@@ -1,8 +1,11 @@
 """The `tea` command line: parse arguments, call the library, print. No arithmetic here.
 
-Exit status: 0 done; 2 bad input or usage (every problem printed, one line each,
-no traceback); 1 an unexpected internal error (one line; set TEA_DEBUG=1 for the
-traceback).
+Exit status, from one table (:data:`EXIT_STATUS`): 0 done; 2 bad input or usage
+(every problem printed, one line each, no traceback); 1 the machine refused
+(no permission, disk full, a folder where a file should go, not enough memory:
+one line naming the file); 1 also for an unexpected internal error (one line;
+set TEA_DEBUG=1 for the traceback). Everything printed goes through
+:func:`tea.core.safe_text.terminal`, so no case text can drive the terminal.
 """
 
 from __future__ import annotations
@@ -17,8 +20,20 @@ from typing import Sequence
 from tea import __version__
 from tea.cli import analysis as analysis_cli
 from tea.cli import explain as explain_cli
-from tea.cli.common import check_outputs as _check_outputs, load_all as _load_all
-from tea.core.errors import CaseError, OutputError, TeaError
+from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
+from tea.core.errors import CaseError, OutputError, TeaError, WriteError
+
+#: each exception class the command line expects, and its exit status (the first match wins)
+EXIT_STATUS: tuple[tuple[type[BaseException], int], ...] = (
+    (CaseError, 2),  # bad input: a case, a field table, a workbook read back
+    (OutputError, 2),  # an output asked for wrongly: exists, unknown type, two outputs in one file
+    (WriteError, 1),  # the machine refused an output: permission, disk full, a folder in the way
+    (TeaError, 2),
+    (MemoryError, 1),
+    (OSError, 1),
+)
+#: what is printed of one error line at most (an offending value itself is cut to ~80 characters where it is quoted)
+ERROR_LINE_LIMIT = 1000
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
@@ -28,8 +43,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
     cases = _load_all(args.cases)
     ledgers, results = [], []
-    outputs = [p for p in (args.xlsx, args.pdf, args.html) if p]
-    _check_outputs(outputs, args.force)
+    _check_outputs([(args.xlsx, (".xlsx",)), (args.pdf, (".pdf",)), (args.html, (".html", ".htm"))], args.force)
     sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
     for case in cases:
         for w in case.warnings:
@@ -80,7 +94,7 @@ def _cmd_new(args: argparse.Namespace) -> int:
 
     name = args.name if args.name.endswith(".toml") else args.name + ".toml"
     path = Path(name)
-    _check_outputs([name], args.force)
+    _check_outputs([(name, (".toml",))], args.force)
     text = starter_case(Path(name).stem, args.crop, args.units, args.currency)
     from tea.core.files import atomic_write_text
 
@@ -129,7 +143,7 @@ def build_parser() -> argparse.ArgumentParser:
     new.add_argument("name", metavar="NAME", help="file to write (.toml is added if missing)")
     new.add_argument("--crop", required=True, choices=preset_names(), help="crop preset")
     new.add_argument("--units", default="metric", choices=("metric", "us_customary"), help="unit system of the keys")
-    new.add_argument("--currency", default="EUR", help="ISO 4217 currency code (default EUR)")
+    new.add_argument("--currency", default="EUR", type=_currency, help="ISO 4217 currency code (default EUR)")
     new.add_argument("--force", action="store_true", help="overwrite an existing file")
     new.set_defaults(func=_cmd_new)
 
@@ -142,29 +156,65 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _currency(text: str) -> str:
+    """An argparse type: a three-letter ISO 4217 code."""
+    from tea.inputs.case import currency_problem
+
+    why = currency_problem(text)
+    if why:
+        raise argparse.ArgumentTypeError(why)
+    return text
+
+
+def _error_lines(exc: BaseException) -> list[str]:
+    """The one-line messages of an expected error."""
+    from tea.core.safe_text import clip
+
+    if isinstance(exc, CaseError):
+        lines = [str(p) for p in exc.problems]
+    elif isinstance(exc, MemoryError):
+        lines = ["not enough memory for this run; ask for less (fewer draws, rows or cases)"]
+    elif isinstance(exc, OSError) and not isinstance(exc, BrokenPipeError):
+        from tea.core.files import write_refused
+
+        lines = [str(write_refused(exc.filename or "output", exc))]
+    else:
+        lines = str(exc).splitlines() or [exc.__class__.__name__]
+    return [clip(line, ERROR_LINE_LIMIT) for line in lines]
+
+
 def main(argv: Sequence[str] | None = None) -> int:
+    streams = sys.stdout, sys.stderr
+    sys.stdout, sys.stderr = SafeStream(sys.stdout), SafeStream(sys.stderr)
+    try:
+        return _main(argv)
+    finally:
+        sys.stdout, sys.stderr = streams
+
+
+def _main(argv: Sequence[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         return args.func(args)
-    except CaseError as exc:
-        for problem in exc.problems:
-            print(f"error: {problem}", file=sys.stderr)
-        return 2
-    except (OutputError, TeaError) as exc:
-        for line in str(exc).splitlines():
-            print(f"error: {line}", file=sys.stderr)
-        return 2
     except KeyboardInterrupt:
         print("interrupted; no output file was left half-written", file=sys.stderr)
         return 130
     except BrokenPipeError:
         return 0
-    except Exception as exc:  # a bug: one line, and the traceback only on request
-        if os.environ.get("TEA_DEBUG"):
-            raise
-        print(f"tea: internal error: {exc.__class__.__name__}: {exc} (set TEA_DEBUG=1 for details)", file=sys.stderr)
-        return 1
+    except Exception as exc:
+        status = next((code for kind, code in EXIT_STATUS if isinstance(exc, kind)), None)
+        if status is None:  # a bug: one line, and the traceback only on request
+            if os.environ.get("TEA_DEBUG"):
+                raise
+            from tea.core.safe_text import clip
+
+            print(f"tea: internal error: {exc.__class__.__name__}: {clip(str(exc), ERROR_LINE_LIMIT)} "
+                  "(set TEA_DEBUG=1 for details)", file=sys.stderr)
+            return 1
+        for line in _error_lines(exc):
+            print(f"error: {line}", file=sys.stderr)
+        return status
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -3,7 +3,11 @@
 ``TeaError`` is the root. ``CaseError`` means the input is wrong (a case file,
 a workbook read back as a case, a field table): it carries every problem found,
 each naming the file, the key path and what was expected. ``OutputError`` means
-an output file could not be written as asked (it exists, or its folder does not).
+an output file was asked for wrongly (it exists, its folder does not, its
+type is unknown, two outputs name one file). ``WriteError`` means the machine
+would not let a well-asked output be written (no permission, disk full, a
+folder where the file should go). The command line maps each class to its
+exit status in one table (:mod:`tea.cli.main`).
 """
 
 from __future__ import annotations
@@ -43,3 +47,7 @@ class CaseError(TeaError):
 
 class OutputError(TeaError):
     """An output file that cannot be written as asked."""
+
+
+class WriteError(TeaError):
+    """An output the machine would not let `tea` write: no permission, disk full, a folder in the way."""

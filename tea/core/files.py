@@ -1,27 +1,94 @@
 """Writing output files atomically: a temporary file in the same folder, then a rename.
 
 An interrupted run never leaves a half-written output; an existing file is
-replaced only when the caller allows it.
+replaced only when the caller allows it. The temporary file is hidden and
+named after the target and the writing process, ``.NAME.PID.RANDOM.part``;
+a run killed outright (``kill -9``, a power cut) can leave one behind, and
+the next write of the same target removes those whose process is gone.
+A write the machine refuses (no permission, disk full, a folder in the way)
+raises :class:`~tea.core.errors.WriteError` naming the target.
 """
 
 from __future__ import annotations
 
+import errno
 import os
+import re
 import tempfile
 from pathlib import Path
 from typing import Callable
 
-from tea.core.errors import OutputError
+from tea.core.errors import OutputError, WriteError
+
+_REASONS = {
+    errno.ENOSPC: "the disk is full",
+    errno.EFBIG: "the file is too large for this disk or its quota",
+    errno.EDQUOT: "the disk quota is used up",
+    errno.EACCES: "permission denied",
+    errno.EPERM: "permission denied",
+    errno.EROFS: "the disk is read-only",
+    errno.EISDIR: "it is a folder",
+    errno.ENOTDIR: "a part of its path is not a folder",
+    errno.ENAMETOOLONG: "its name is too long",
+}
+
+
+def write_refused(path: str | Path, exc: OSError) -> WriteError:
+    """A :class:`WriteError` naming ``path`` and why the machine refused it, in one line."""
+    reason = _REASONS.get(exc.errno) or (exc.strerror or exc.__class__.__name__).lower()
+    return WriteError(f"{path}: cannot write the file: {reason}")
 
 
 def check_target(path: str | Path, force: bool) -> Path:
-    """Refuse an existing file (unless ``force``) or a missing folder."""
+    """Refuse an existing file (unless ``force``), a folder in the way, or a missing or unwritable folder."""
     path = Path(path)
+    if path.is_dir():
+        raise WriteError(f"{path}: is a folder; give a file name")
     if path.exists() and not force:
         raise OutputError(f"{path}: exists; pass --force (force=True) to overwrite it")
-    if not path.parent.exists():
-        raise OutputError(f"{path}: folder {path.parent} does not exist")
+    parent = path.parent
+    if not parent.exists():
+        raise OutputError(f"{path}: folder {parent} does not exist")
+    if not parent.is_dir():
+        raise WriteError(f"{path}: {parent} is not a folder")
+    if not os.access(parent, os.W_OK | os.X_OK):
+        raise WriteError(f"{path}: cannot write the file: permission denied in folder {parent}")
     return path
+
+
+def _alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:  # someone else's process: alive
+        return True
+    return True
+
+
+def remove_stale_parts(path: str | Path) -> list[Path]:
+    """Remove the hidden ``.NAME.PID.RANDOM.part`` files of ``path`` left by processes that have ended.
+
+    Only files of this exact pattern are touched; returns those removed.
+    """
+    path = Path(path)
+    pattern = re.compile(re.escape(f".{path.name}.") + r"(\d+)\.[A-Za-z0-9_]+\.part")
+    removed = []
+    try:
+        entries = list(os.scandir(path.parent))
+    except OSError:
+        return removed
+    for entry in entries:
+        m = pattern.fullmatch(entry.name)
+        if m and entry.is_file(follow_symlinks=False) and not _alive(int(m.group(1))):
+            try:
+                os.unlink(entry.path)
+                removed.append(Path(entry.path))
+            except OSError:
+                pass
+    return removed
 
 
 def atomic_write(path: str | Path, write: Callable[[Path], None], force: bool = True) -> Path:
@@ -30,13 +97,20 @@ def atomic_write(path: str | Path, write: Callable[[Path], None], force: bool = 
     If ``write`` fails, the temporary file is removed and ``path`` is untouched.
     """
     path = check_target(path, force)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    remove_stale_parts(path)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.{os.getpid()}.", suffix=".part", dir=path.parent)
+    except OSError as exc:
+        raise write_refused(path, exc) from None
     os.close(fd)
     tmp_path = Path(tmp)
     try:
         write(tmp_path)
         os.chmod(tmp_path, 0o644)
         os.replace(tmp_path, path)
+    except OSError as exc:
+        tmp_path.unlink(missing_ok=True)
+        raise write_refused(path, exc) from None
     except BaseException:
         tmp_path.unlink(missing_ok=True)
         raise

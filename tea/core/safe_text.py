@@ -1,0 +1,134 @@
+"""Text that came from a user, made safe for the place it is written to.
+
+One routine per kind of destination, used by every writer:
+
+* :func:`csv_cell` — a CSV text cell that a spreadsheet program opens as
+  text, never as a formula: a cell starting with ``=``, ``+``, ``-``, ``@``,
+  a tab or a carriage return gets a leading single quote (the usual
+  spreadsheet-injection advice; a plain number is left alone, it cannot be a
+  formula), then RFC 4180 quoting.
+* :func:`xlsx_text` — the content of an xlsx string cell (``<t>``): XML
+  escaped, characters XML cannot hold written as the format's ``_xHHHH_``
+  escapes so that they read back unchanged, cut to the 32,767 characters a
+  cell holds with a visible mark. The caller writes it as a string cell,
+  so it can never become a formula.
+* :func:`terminal` — text for a terminal: control characters (ESC, BEL, NUL,
+  backspace, DEL, C1) and bidirectional overrides shown as visible escapes.
+* :func:`brief` — an offending value quoted in an error line: at most about
+  80 characters of it.
+* :func:`clip` — any text cut to a length with a visible mark.
+"""
+
+from __future__ import annotations
+
+import re
+
+#: characters a spreadsheet cell holds (Excel's limit; LibreOffice's is the same for xlsx)
+CELL_LIMIT = 32_767
+#: characters of a page header or footer, codes included (Excel's limit)
+HEADER_LIMIT = 255
+#: characters of an offending value quoted in an error line
+SHOWN_LIMIT = 80
+
+#: first characters that make a spreadsheet read a cell as a formula
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+_PLAIN_NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
+
+#: bidirectional embedding, override and isolate controls, and the invisible direction marks
+BIDI = "\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069"
+_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f" + BIDI + "\u2028\u2029]")
+_UNSAFE_ONE_LINE = re.compile("[\x00-\x1f\x7f-\x9f" + BIDI + "\u2028\u2029]")
+#: characters XML 1.0 cannot hold, and text that looks like the format's own escape
+_XML_ILLEGAL = re.compile("[^\u0009\u000a\u000d\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
+_OOXML_ESCAPE = re.compile(r"_x[0-9A-Fa-f]{4}_")
+
+
+def clip(text: str, limit: int) -> str:
+    """``text`` cut to ``limit`` characters, the cut shown.
+
+    >>> clip("abcdefghij" * 10, 40)
+    'abcdefghijabcdefg… [cut: 100 characters]'
+    >>> clip("short", 40)
+    'short'
+    """
+    if len(text) <= limit:
+        return text
+    mark = f"… [cut: {len(text):,} characters]"
+    return text[: max(0, limit - len(mark))] + mark
+
+
+def _escape_char(m: re.Match) -> str:
+    code = ord(m.group(0))
+    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+
+
+def terminal(text: str, one_line: bool = False) -> str:
+    """Text for a terminal with every control and direction-override character shown escaped.
+
+    Line breaks and tabs are kept unless ``one_line``.
+
+    >>> terminal("name\\x1b]0;owned\\x07 \\u202eevil")
+    'name\\\\x1b]0;owned\\\\x07 \\\\u202eevil'
+    >>> terminal("two\\nlines"), terminal("two\\nlines", one_line=True)
+    ('two\\nlines', 'two\\\\x0alines')
+    """
+    return (_UNSAFE_ONE_LINE if one_line else _UNSAFE).sub(_escape_char, text)
+
+
+def brief(value: object, limit: int = SHOWN_LIMIT) -> str:
+    """An offending value as an error line quotes it: its repr, at most ``limit`` characters.
+
+    >>> brief("EUR")
+    "'EUR'"
+    >>> brief("X" * 10_000)
+    "'XXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXX… [cut: 10,002 characters]"
+    """
+    return clip(repr(value), limit)
+
+
+def csv_cell(text: str) -> str:
+    """A CSV text cell: formula starts neutralised with a leading quote, then quoted where needed.
+
+    >>> csv_cell('=HYPERLINK("http://x.invalid","click")')
+    '"\\'=HYPERLINK(""http://x.invalid"",""click"")"'
+    >>> csv_cell("@SUM(1+1)"), csv_cell("-12.5"), csv_cell("A, east")
+    ("'@SUM(1+1)", '-12.5', '"A, east"')
+    """
+    if text.startswith(FORMULA_STARTS) and not _PLAIN_NUMBER.fullmatch(text):
+        text = "'" + text
+    if any(ch in text for ch in ',;"\r\n\t'):
+        return '"' + text.replace('"', '""') + '"'
+    return text
+
+
+def csv_row(cells) -> str:
+    """One CSV line of text cells (no line end)."""
+    return ",".join(csv_cell(str(c)) for c in cells)
+
+
+def _ooxml_escape(m: re.Match) -> str:
+    return f"_x{ord(m.group(0)):04X}_"
+
+
+def xlsx_text(text: str, limit: int = CELL_LIMIT) -> str:
+    """Text as the XML content of an xlsx string cell, read back unchanged by spreadsheet programs and openpyxl.
+
+    >>> xlsx_text("a<b & \\x1b[2J")
+    'a&lt;b &amp; _x001B_[2J'
+    >>> xlsx_text("_x0041_")
+    '_x005F_x0041_'
+    """
+    text = clip(text, limit)
+    text = _OOXML_ESCAPE.sub(lambda m: "_x005F" + m.group(0), text)
+    text = _XML_ILLEGAL.sub(_ooxml_escape, text)
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace('"', "&quot;")
+
+
+def xlsx_unescape(text: str) -> str:
+    """The text an xlsx string cell holds, its ``_xHHHH_`` escapes decoded (the inverse of :func:`xlsx_text`
+    once the XML parser has decoded the entities).
+
+    >>> xlsx_unescape("_x001B_[2J _x005F_x0041_")
+    '\\x1b[2J _x0041_'
+    """
+    return _OOXML_ESCAPE.sub(lambda m: chr(int(m.group(0)[2:6], 16)), text) if "_x" in text else text
