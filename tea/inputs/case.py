@@ -26,6 +26,7 @@ from tea.methods import finance
 from tea.inputs import published
 from tea.inputs import schema, units
 from tea.core.errors import CaseError, Problem
+from tea.core.safe_text import SHOWN_LIMIT, brief, clip
 
 YIELD_CEILING_T_DM_PER_HA = schema.YIELD_CEILING_T_DM_PER_HA
 
@@ -63,7 +64,7 @@ def preset_names() -> list[str]:
 def load_preset(name: str) -> Preset:
     """Read a packaged preset. Raises KeyError naming the valid presets."""
     if name not in preset_names():
-        raise KeyError(f"unknown crop preset {name!r}; valid presets: {', '.join(preset_names())}")
+        raise KeyError(f"unknown crop preset {brief(name)}; valid presets: {', '.join(preset_names())}")
     text = resources.files("tea.inputs.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8")
     data = tomllib.loads(text)
     head = data.pop("preset")
@@ -225,10 +226,14 @@ def load_case(path: str | Path) -> Case:
 
 def load_text(text: str, source: str = "<case>") -> Case:
     """Load and validate a case from TOML text."""
+    text = text.removeprefix("\ufeff")  # a byte-order mark some editors put first
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise CaseError([Problem(source, "", f"malformed TOML: {exc}{_quote_line(text, str(exc))}")]) from None
+    except RecursionError:
+        raise CaseError([Problem(source, "", "malformed TOML: arrays or tables nested too deeply "
+                                 "(a case needs at most a few levels)")]) from None
     return load_mapping(data, source=source)
 
 
@@ -262,7 +267,7 @@ def _key_text(name: str) -> str:
 
     Keeps each problem on one line whatever the name holds (newlines, control characters, nothing).
     """
-    return name if re.fullmatch(r"[A-Za-z0-9_-]+", name) else json.dumps(name)
+    return name if re.fullmatch(r"[A-Za-z0-9_-]{1,80}", name) else clip(json.dumps(name), SHOWN_LIMIT)
 
 
 _suggest = schema.suggest
@@ -296,36 +301,36 @@ def _expected(k: schema.Key, system: str = "metric", currency: str = "") -> str:
 def _type_error(k: schema.Key, value: Any) -> str | None:
     """Why ``value`` has the wrong type for ``k``, or None."""
     is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
-    too_big = f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {value!r}"
+    too_big = f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
     if k.kind == "float":
         if not is_num:
-            return f"expected {_expected(k)}, got {value!r}"
+            return f"expected {_expected(k)}, got {brief(value)}"
         if isinstance(value, float) and not math.isfinite(value):
-            return f"expected a finite number, got {value!r}"
+            return f"expected a finite number, got {brief(value)}"
         if abs(value) > MAGNITUDE_LIMIT:  # exact for any int: no conversion to float
             return too_big
     elif k.kind == "int":
         if isinstance(value, float) and value.is_integer():
             return too_big if abs(value) > MAGNITUDE_LIMIT else None
         if not (isinstance(value, int) and not isinstance(value, bool)):
-            return f"expected a whole number, got {value!r}"
+            return f"expected a whole number, got {brief(value)}"
         if abs(value) > MAGNITUDE_LIMIT:
             return too_big
     elif k.kind in ("str", "enum"):
         if not isinstance(value, str):
-            return f"expected {_expected(k)}, got {value!r}"
+            return f"expected {_expected(k)}, got {brief(value)}"
         if k.kind == "enum" and value not in k.choices:
-            return f"expected one of {', '.join(k.choices)}, got {value!r}" + _suggest(value, k.choices)
+            return f"expected one of {', '.join(k.choices)}, got {brief(value)}" + _suggest(value, k.choices)
     elif k.kind == "bool":
         if not isinstance(value, bool):
-            return f"expected true or false, got {value!r}"
+            return f"expected true or false, got {brief(value)}"
     elif k.kind == "list":
         if not isinstance(value, list) or not value:
-            return f"expected a non-empty list of numbers, got {value!r}"
+            return f"expected a non-empty list of numbers, got {brief(value)}"
         for v in value:
             if isinstance(v, bool) or not isinstance(v, (int, float)) or \
                     (isinstance(v, float) and not math.isfinite(v)) or abs(v) > MAGNITUDE_LIMIT:
-                return f"expected a list of finite numbers, got {value!r}"
+                return f"expected a list of finite numbers, got {brief(value)}"
     return None
 
 
@@ -390,7 +395,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 misplaced.update(k.path for k in schema.keys_in(close[0]))
             continue
         if not isinstance(table, Mapping):
-            bad(section, f"expected a [{section}] table of keys, got {table!r}")
+            bad(section, f"expected a [{section}] table of keys, got {brief(table)}")
             rejected.update({k.path: k.name for k in schema.keys_in(section)})
             continue
         for key, value in table.items():
@@ -433,8 +438,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             preset = load_preset(preset_name)
         except KeyError:
             hint = PRESET_HINTS.get(preset_name.strip().lower())
-            bad("crop.preset", f"unknown crop preset {preset_name!r}; expected one of {', '.join(preset_names())}"
-                + (f"; for {preset_name} use {hint!r}" if hint else _suggest(preset_name, preset_names())))
+            bad("crop.preset", f"unknown crop preset {brief(preset_name)}; expected one of {', '.join(preset_names())}"
+                + (f"; for {preset_name} use {brief(hint)}" if hint else _suggest(preset_name, preset_names())))
     if preset is not None:
         for path, value in preset.values.items():
             if path not in values:
@@ -572,6 +577,52 @@ def _derive(values, origin, notes, problems, source) -> None:
             problems.append(Problem(source, k.path, f"missing value: expected {_expected(k)}"))
 
 
+def currency_problem(code: str) -> str | None:
+    """Why ``code`` is not a currency code (three capital letters, as ISO 4217 writes them), or None.
+
+    >>> currency_problem("EUR") is None, currency_problem("eur\\n")
+    (True, "expected a three-letter ISO 4217 code such as EUR or USD, got 'eur\\\\n'")
+    """
+    if _CURRENCY_RE.fullmatch(code):
+        return None
+    return f"expected a three-letter ISO 4217 code such as EUR or USD, got {brief(code)}"
+
+
+def harvest_energy_problem(heating_value, moisture):
+    """Rows where fuel at the harvest moisture would hold no net energy, and the reason for one row.
+
+    The model's relation (:func:`tea.methods.agronomy.delivered_heating_value`):
+    q = q_dry - 2.443 M / (1 - M) GJ per t DM. At q <= 0 the water to evaporate
+    takes all the heat the dry matter gives: energy sold, a per-GJ price and
+    revenue would turn negative, so such an input is refused.
+
+    Returns ``(bad, why)``: ``bad`` a boolean array shaped like the inputs,
+    ``why(i)`` the message of element ``i`` (flat index).
+
+    >>> bad, why = harvest_energy_problem(18.5, 0.9)
+    >>> bool(bad), why(0)[:57]
+    (True, 'at 0.9 moisture the net heating value is -3.49 GJ/t DM: t')
+    """
+    import numpy as np
+
+    from tea.methods.agronomy import delivered_heating_value
+
+    q_dry = np.asarray(heating_value, dtype=float)
+    m = np.asarray(moisture, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        q = np.where(m < 1.0, delivered_heating_value(q_dry, np.minimum(m, 0.999)), -np.inf)
+    q = np.broadcast_to(q, np.broadcast(q_dry, m).shape)
+    bad = ~(q > 0)
+
+    def why(i: int) -> str:
+        qi, mi = float(q.flat[i]), float(np.broadcast_to(m, q.shape).flat[i])
+        dry = float(np.broadcast_to(q_dry, q.shape).flat[i])
+        return (f"at {mi:g} moisture the net heating value is {qi:.3g} GJ/t DM: the water takes all the heat "
+                f"the dry matter gives ({dry:g} GJ/t DM dry, q = q_dry - 2.443 M/(1 - M)); expected a moisture "
+                f"below {dry / (dry + 2.443):.3g} at harvest, or a higher heating value")
+    return bad, why
+
+
 def _cross_checks(values, problems, warnings, source, spelled, rejected=frozenset()) -> None:
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
@@ -583,8 +634,9 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     values = {p: v for p, v in values.items() if p not in rejected}  # a refused value ties nothing
     currency = values.get("case.currency")
     if isinstance(currency, str) and "case.currency" not in bad_keys:
-        if not _CURRENCY_RE.match(currency):
-            bad("case.currency", f"expected a three-letter ISO 4217 code such as EUR or USD, got {currency!r}")
+        why = currency_problem(currency)
+        if why:
+            bad("case.currency", why)
         elif currency not in COMMON_CURRENCIES:
             warn("case.currency", f"{currency} is not a common ISO 4217 code; check it")
 
@@ -593,6 +645,14 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
         bad("revenue.price_per_gj", "give one price, price_per_t_dm or price_per_gj, not both")
     elif not has_t and not has_gj and "revenue.price_per_t_dm" not in bad_keys and "revenue.price_per_gj" not in bad_keys:
         bad("revenue.price_per_t_dm", "missing value: expected a biomass price per t of dry matter (or price_per_gj)")
+
+    timing = values.get("harvest.timing")
+    moisture_key = "harvest.moisture_late_winter" if timing == "late_winter" else "harvest.moisture_autumn"
+    hv, moisture = values.get("revenue.heating_value_gj_per_t_dm"), values.get(moisture_key)
+    if timing in ("autumn", "late_winter") and isinstance(hv, (int, float)) and isinstance(moisture, (int, float)):
+        low, why = harvest_energy_problem(hv, moisture)
+        if low:
+            bad(f"{moisture_key.partition('.')[0]}.{spelled.get(moisture_key, moisture_key.partition('.')[2])}", why(0))
 
     y, rec = values.get("yield.mature_t_dm_per_ha"), values.get("yield.record_t_dm_per_ha")
     if isinstance(y, (int, float)) and isinstance(rec, (int, float)) and y > 0 and rec > 0:
