@@ -24,6 +24,7 @@ from tea.methods import finance
 from tea.model.definition import MODEL
 from tea.model.evaluate import evaluate
 from tea.analysis import screen
+from tea.outputs import screen_files
 from tea.cli.main import main
 from tea.core.errors import CaseError, OutputError
 
@@ -308,7 +309,7 @@ class TestBadRows:
         assert any("haul_km" in w for w in result.warnings)
 
     def test_error_file(self, result, tmp_path):
-        out = screen.write_errors(result, tmp_path / "err.csv")
+        out = screen_files.write_errors(result, tmp_path / "err.csv")
         rows = list(csv.DictReader(out.open()))
         assert {int(r["line"]) for r in rows} == {5, 6, 7, 8, 9, 10, 11, 12, 13}
         assert set(rows[0]) == {"line", "row", "column", "value", "reason"}
@@ -322,7 +323,7 @@ class TestBadRows:
 
 class TestOutputs:
     def test_csv_carries_cautions_and_reads_back(self, demo_screen, tmp_path):
-        out = screen.write_table(demo_screen, tmp_path / "ranked.csv")
+        out = screen_files.write_table(demo_screen, tmp_path / "ranked.csv")
         text = out.read_text()
         assert "# Planning estimates only" in text and "hash" in text.splitlines()[0]
         back = pd.read_csv(out, comment="#")
@@ -332,22 +333,22 @@ class TestOutputs:
     def test_xlsx_has_a_notes_sheet(self, demo_screen, tmp_path):
         import openpyxl
 
-        out = screen.write_table(demo_screen, tmp_path / "ranked.xlsx")
+        out = screen_files.write_table(demo_screen, tmp_path / "ranked.xlsx")
         wb = openpyxl.load_workbook(out, read_only=True)
         assert wb.sheetnames == ["ranked fields", "notes"]
 
     def test_parquet_needs_pyarrow(self, demo_screen, tmp_path):
-        if screen.parquet_available():
-            out = screen.write_table(demo_screen, tmp_path / "ranked.parquet")
+        if screen_files.parquet_available():
+            out = screen_files.write_table(demo_screen, tmp_path / "ranked.parquet")
             assert len(pd.read_parquet(out)) == len(demo_screen.table)
         else:
             with pytest.raises(OutputError, match="pyarrow"):
-                screen.write_table(demo_screen, tmp_path / "ranked.parquet")
+                screen_files.write_table(demo_screen, tmp_path / "ranked.parquet")
 
     def test_refuses_to_overwrite(self, demo_screen, tmp_path):
-        out = screen.write_table(demo_screen, tmp_path / "ranked.csv")
+        out = screen_files.write_table(demo_screen, tmp_path / "ranked.csv")
         with pytest.raises(OutputError, match="exists"):
-            screen.write_table(demo_screen, out)
+            screen_files.write_table(demo_screen, out)
 
 
 class TestCommand:

@@ -44,23 +44,30 @@ def _warn(case) -> None:
         print(f"warning: {w}", file=sys.stderr)
 
 
+#: chart files a command writes
+FIGURE_SUFFIXES = (".png", ".svg", ".pdf")
+
+
 def _save_figure(fig, path: str, force: bool) -> None:
+    """Write a chart with the same bytes for the same chart: no date, fixed SVG ids."""
+    import matplotlib
+
     from tea.core.files import atomic_write
 
     suffix = Path(path).suffix.lower().lstrip(".") or "png"
-    atomic_write(path, lambda tmp: fig.savefig(tmp, format=suffix), force=force)
+    metadata = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None}}.get(suffix)
+
+    def write(tmp: Path) -> None:
+        with matplotlib.rc_context({"svg.hashsalt": "tea-chart"}):
+            fig.savefig(tmp, format=suffix, metadata=metadata)
+    atomic_write(path, write, force=force)
     print(f"wrote {path}", file=sys.stderr)
 
 
 def _check_figure_paths(paths, force: bool) -> None:
-    from tea.cli.common import check_outputs as _check_outputs
-    from tea.core.errors import OutputError
+    from tea.cli.common import check_outputs
 
-    given = [p for p in paths if p]
-    for p in given:
-        if Path(p).suffix.lower() not in (".png", ".svg", ".pdf"):
-            raise OutputError(f"{p}: unknown chart type; expected .png, .svg or .pdf")
-    _check_outputs(given, force)
+    check_outputs([(p, FIGURE_SUFFIXES) for p in paths], force)
 
 
 # ----------------------------------------------------------------------------- sensitivity
@@ -106,29 +113,28 @@ def _cmd_risk(args: argparse.Namespace) -> int:
 # ----------------------------------------------------------------------------- screen
 def _cmd_screen(args: argparse.Namespace) -> int:
     from tea.analysis import screen
+    from tea.cli.common import check_outputs
     from tea.inputs.case import load_case
+    from tea.outputs import screen_files
 
     case = load_case(args.case)
     out = args.out or f"{Path(args.fields).stem}.screened.csv"
     errors = args.errors or str(Path(out).with_name(Path(out).stem + ".errors.csv"))
-    screen.check_output(out, args.force)
-    if Path(errors).resolve() == Path(out).resolve():
-        raise CaseError([Problem("command line", "--errors", "must differ from --out")])
-    from tea.core.files import check_target
-
-    check_target(errors, args.force)
-    if not Path(args.fields).exists():
-        raise CaseError([Problem(args.fields, "", "file not found")])
+    check_outputs([(out, screen_files.TABLE_SUFFIXES), (errors, screen_files.ERRORS_SUFFIXES)], args.force)
+    screen_files.check_parquet(out)
+    if not Path(args.fields).is_file():
+        raise CaseError([Problem(args.fields, "", "is a folder, not a field table" if Path(args.fields).is_dir()
+                                 else "file not found")])
     _warn(case)
     result = screen.screen(args.fields, case, rank_by=args.rank_by, ascending=args.ascending,
                            chunk_rows=args.chunk_rows, progress=_progress(args))
     for w in result.warnings:
         print(f"warning: {w}", file=sys.stderr)
-    screen.write_table(result, out, force=args.force)
+    screen_files.write_table(result, out, force=args.force)
     print(screen.summary_text(result, top=args.top))
     print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
     if result.bad:
-        screen.write_errors(result, errors, force=args.force)
+        screen_files.write_errors(result, errors, force=args.force)
         print(f"skipped {result.rows_skipped} of {result.rows_read} rows; "
               f"{len(result.bad)} problems listed in {errors}", file=sys.stderr)
         for b in result.bad[:5]:

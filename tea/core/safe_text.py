@@ -101,6 +101,20 @@ def csv_cell(text: str) -> str:
     return text
 
 
+_AFTER_DELIMITER = re.compile(r"([,;\t]\s*)(?=[=+\-@\r])")
+
+
+def csv_comment(text: str) -> str:
+    """A ``# ...`` comment line of a CSV file, safe in a spreadsheet that splits it into cells.
+
+    Every piece a comma, semicolon or tab would start is neutralised like a cell.
+
+    >>> csv_comment("screen of a.csv over 'x,=HYPERLINK(1)'")
+    "# screen of a.csv over 'x,'=HYPERLINK(1)'"
+    """
+    return "# " + _AFTER_DELIMITER.sub(r"\1'", text.replace("\r", " ").replace("\n", " "))
+
+
 def csv_row(cells) -> str:
     """One CSV line of text cells (no line end)."""
     return ",".join(csv_cell(str(c)) for c in cells)

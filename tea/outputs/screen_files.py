@@ -1,0 +1,118 @@
+"""The files a screen writes: the ranked table (.csv, .xlsx or .parquet) and the list of skipped rows.
+
+Field ids, names and every other cell read from a field table are user text:
+CSV cells go through :func:`tea.core.safe_text.csv_cell` (a leading ``=``,
+``+``, ``-``, ``@``, tab or carriage return is neutralised), xlsx cells are
+string cells (:mod:`tea.outputs.table_book`). The same screen gives the same
+bytes: no file carries a time.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from tea import __version__
+from tea.analysis.screen import ScreenResult
+from tea.core.errors import OutputError
+from tea.core.files import atomic_write, atomic_write_text, check_target
+from tea.core.safe_text import csv_cell, csv_comment, csv_row
+from tea.core.texts import CAUTIONS
+
+#: what the ranked table may be written as
+TABLE_SUFFIXES = (".csv", ".xlsx", ".parquet")
+#: what the list of skipped rows is written as
+ERRORS_SUFFIXES = (".csv",)
+ERROR_COLUMNS = ("line", "row", "column", "value", "reason")
+
+
+def parquet_available() -> bool:
+    try:
+        import pyarrow  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+def check_parquet(out: str | Path) -> None:
+    """Refuse, before any work, a .parquet output without the library that writes it."""
+    if Path(out).suffix.lower() == ".parquet" and not parquet_available():
+        raise OutputError(f"{out}: Parquet output needs the pyarrow package (pip install pyarrow); "
+                          "write .csv or .xlsx instead")
+
+
+def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> Path:
+    """Write the ranked table: .csv (with # comment lines on top), .xlsx (with a notes sheet) or .parquet."""
+    out = Path(out)
+    check_target(out, force)
+    suffix = out.suffix.lower()
+    meta = metadata_lines(result)
+    if suffix == ".csv":
+        head = "".join(csv_comment(line) + "\n" for line in meta)
+        return atomic_write_text(out, head + csv_text(result.table), force=True)
+    if suffix == ".xlsx":
+        from tea.outputs.table_book import MAX_ROWS, write_book
+
+        table = result.table
+        if len(table) >= MAX_ROWS:
+            raise OutputError(f"{out}: {len(table):,} fields do not fit a worksheet ({MAX_ROWS - 1:,} rows); "
+                              "write .csv")
+        columns = [table[c].tolist() for c in table.columns]
+        sheets = [("ranked fields", [str(c) for c in table.columns], zip(*columns)),
+                  ("notes", ["notes"], ([line] for line in meta))]
+        return atomic_write(out, lambda tmp: write_book(tmp, sheets), force=True)
+    if suffix == ".parquet":
+        check_parquet(out)
+
+        def write_pq(tmp: Path) -> None:
+            table = result.table.copy()
+            table.attrs = {"notes": "\n".join(meta)}
+            table.to_parquet(tmp, index=False)
+        return atomic_write(out, write_pq, force=True)
+    raise OutputError(f"{out}: unknown output type {suffix or '(none)'}; expected {', '.join(TABLE_SUFFIXES)}")
+
+
+def csv_text(table) -> str:
+    """A DataFrame as CSV text: numbers to 10 significant digits, NaN as an empty cell, text made safe.
+
+    Formats column by column (faster than ``DataFrame.to_csv`` with a float format).
+
+    >>> import pandas as pd
+    >>> print(csv_text(pd.DataFrame({"field_id": ["A, east", "=1+1"], "npv": [1234.56789012345, float("nan")]})), end="")
+    field_id,npv
+    "A, east",1234.56789
+    '=1+1,
+    """
+    cols = []
+    for name in table.columns:
+        values = table[name].to_numpy()
+        if values.dtype.kind == "f":
+            cols.append(["" if v != v else "%.10g" % v for v in values.tolist()])
+        elif values.dtype.kind in "iub":
+            cols.append([str(v) for v in values.tolist()])
+        else:
+            cols.append([csv_cell(str(v)) for v in values.tolist()])
+    lines = [csv_row(table.columns)]
+    lines.extend(",".join(row) for row in zip(*cols))
+    return "\n".join(lines) + "\n"
+
+
+def write_errors(result: ScreenResult, out: str | Path, force: bool = True) -> Path:
+    """Write the skipped rows' problems as CSV: line, row, column, value, reason."""
+    lines = [csv_row(ERROR_COLUMNS)]
+    lines.extend(csv_row((b.line, b.row, b.column, b.value, b.reason)) for b in result.bad)
+    return atomic_write_text(out, "\n".join(lines) + "\n", force=force)
+
+
+def metadata_lines(result: ScreenResult) -> list[str]:
+    """What the table is: the tool, the base case, the counts, the units, demo data, the cautions."""
+    case = result.case
+    lines = [
+        f"tea {__version__} screen of {result.source} over base case {case.name!r} ({case.source}, hash {case.hash})",
+        f"{result.rows_evaluated} fields evaluated, {result.rows_skipped} rows skipped; ranked by {result.rank_by}"
+        + (" (smallest first)" if result.ascending else " (largest first)"),
+        result.units_note,
+    ]
+    if case["case.demo"]:
+        lines.append("DEMO DATA: the base case is invented demo data")
+    lines.extend(CAUTIONS)
+    return lines
