@@ -4,17 +4,30 @@
 for :func:`tea.inputs.case.load_mapping` to validate like a TOML file. The
 sheet's layout constants live here, below the writer that lays the sheet out
 (:mod:`tea.outputs.workbook`), which imports them.
-"""
 
+A workbook handed back is untrusted input, so it is read with bounds and no
+spreadsheet library: the file's size and every part's unpacked size are
+checked before anything is unpacked (:data:`MAX_FILE_BYTES`,
+:data:`MAX_PART_BYTES`); only the parts that locate the inputs sheet, the
+shared strings and that sheet are parsed, with defusedxml (no DTD, no
+entities, no external references) on expat, whose time grows linearly with
+the input. Every value the sheet holds is its saved value; a cell holding a
+formula without a saved value, a key given twice or a kept section nested too
+deeply is a clear error, never a silent fallback.
+"""
 from __future__ import annotations
 
 import json
 import math
+import posixpath
 import re
+import zipfile
+import zlib
 from pathlib import Path
-from typing import Any
+from typing import Any, Sequence
 
 from tea.core.errors import CaseError, Problem
+from tea.core.safe_text import brief, xlsx_unescape
 from tea.inputs import schema
 
 #: title of the inputs sheet (a portfolio prefixes "C01 " etc.)
@@ -39,6 +52,28 @@ def col_letter(col: int) -> str:
     return _COLS[col - 1]
 
 
+#: size of a workbook file accepted for reading (a tea workbook of one case is well under 1 MB)
+MAX_FILE_BYTES = 64 << 20
+#: unpacked size of one part read (the inputs sheet, shared strings, the workbook's index)
+MAX_PART_BYTES = 32 << 20
+#: parts of a zip accepted
+MAX_PARTS = 10_000
+#: the largest row and column a worksheet has
+MAX_ROW, MAX_COL = 1_048_576, 16_384
+
+_REL_TYPES = "/relationships/"
+
+
+class _Formula:
+    """A cell holding a formula and no saved result."""
+
+    def __init__(self, text: str):
+        self.text = text
+
+    def __repr__(self) -> str:
+        return f"={self.text}"
+
+
 def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
     """The case-file mapping held by the inputs sheet of a workbook written by `tea`.
 
@@ -54,44 +89,256 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
     CaseError
         naming the file and the cell or key when the workbook cannot be read.
     """
-    from openpyxl import load_workbook
-
     source = str(path)
     p = Path(path)
     if not p.exists():
         raise CaseError([Problem(source, "", "file not found")])
+    book = _Book(p, source)
     try:
-        wb = load_workbook(p, read_only=True, data_only=True)
-    except Exception as exc:  # noqa: BLE001 - any unreadable file is a bad input
-        raise CaseError([Problem(source, "", f"cannot read the workbook ({exc.__class__.__name__}: {exc})")]) from None
-    try:
-        titles = [t for t in wb.sheetnames if t == INPUTS or t.endswith(" " + INPUTS)]
+        sheets = book.sheets()
+        titles = [t for t in sheets if t == INPUTS or t.endswith(" " + INPUTS)]
         if not titles:
             raise CaseError([Problem(source, "", f"no {INPUTS!r} sheet: not a workbook written by tea")])
         if len(titles) > 1:
-            raise CaseError([Problem(source, "", f"holds {len(titles)} cases ({', '.join(titles)}); "
+            raise CaseError([Problem(source, "", f"holds {len(titles)} cases ({brief(', '.join(titles))}); "
                                      "read one case's workbook instead")])
-        ws = wb[titles[0]]
-        rows = list(ws.iter_rows(min_row=1, values_only=True))
+        grid = book.grid(sheets[titles[0]], titles[0])
     finally:
-        wb.close()
+        book.close()
+    last = max(grid, default=-1)
+    width = len(INPUT_COLUMNS)  # the columns read; any further ones are not the reader's
+    rows = [(grid.get(i, [])[:width] + [None] * width)[:width] for i in range(last + 1)]
+    return _mapping(rows, titles[0], source)
+
+
+class _Book:
+    """The zip of an xlsx file, its parts read with bounds and parsed without entities."""
+
+    def __init__(self, path: Path, source: str):
+        self.source = source
+        try:
+            size = path.stat().st_size
+        except OSError as exc:
+            raise self.error(f"cannot read the file ({exc.strerror or exc})") from None
+        if size > MAX_FILE_BYTES:
+            raise self.error(f"{size:,} bytes: larger than a workbook written by tea can be "
+                             f"({MAX_FILE_BYTES:,} bytes at most)")
+        try:
+            self.zip = zipfile.ZipFile(path)
+        except (zipfile.BadZipFile, OSError, ValueError, EOFError) as exc:
+            raise self.error(f"cannot read the workbook: not an xlsx file ({exc.__class__.__name__}: "
+                             f"{brief(str(exc))})") from None
+        if len(self.zip.infolist()) > MAX_PARTS:
+            self.close()
+            raise self.error(f"holds {len(self.zip.infolist()):,} parts: not a workbook written by tea")
+        self.names = {info.filename for info in self.zip.infolist()}
+
+    def error(self, message: str, key: str = "") -> CaseError:
+        return CaseError([Problem(self.source, key, message)])
+
+    def close(self) -> None:
+        if hasattr(self, "zip"):
+            self.zip.close()
+
+    def read(self, name: str, required: bool = True) -> bytes | None:
+        """A part's bytes, refused before unpacking when it is larger than MAX_PART_BYTES."""
+        if name not in self.names:
+            if not required:
+                return None
+            raise self.error(f"cannot read the workbook: part {brief(name)} is missing")
+        info = self.zip.getinfo(name)
+        if info.file_size > MAX_PART_BYTES:
+            raise self.error(f"cannot read the workbook: part {brief(name)} unpacks to {info.file_size:,} bytes "
+                             f"(at most {MAX_PART_BYTES:,})")
+        try:
+            with self.zip.open(info) as f:
+                data = f.read(MAX_PART_BYTES + 1)
+        except (zipfile.BadZipFile, zlib.error, OSError, EOFError, RuntimeError, NotImplementedError, ValueError) as exc:
+            raise self.error(f"cannot read the workbook: part {brief(name)} is damaged "
+                             f"({exc.__class__.__name__}: {brief(str(exc))})") from None
+        if len(data) > MAX_PART_BYTES:
+            raise self.error(f"cannot read the workbook: part {brief(name)} unpacks to more than "
+                             f"{MAX_PART_BYTES:,} bytes")
+        return data
+
+    def xml(self, name: str, required: bool = True):
+        """A part parsed: no DTD, no entities, no external references."""
+        from defusedxml import DefusedXmlException
+        from defusedxml.ElementTree import ParseError, fromstring
+
+        data = self.read(name, required)
+        if data is None:
+            return None
+        try:
+            return fromstring(data, forbid_dtd=True, forbid_entities=True, forbid_external=True)
+        except DefusedXmlException as exc:
+            raise self.error(f"cannot read the workbook: part {brief(name)} declares a DTD or entities, which a "
+                             f"workbook does not need ({exc.__class__.__name__})") from None
+        except (ParseError, ValueError, RecursionError) as exc:
+            raise self.error(f"cannot read the workbook: part {brief(name)} is not well-formed XML "
+                             f"({brief(str(exc))})") from None
+
+    def _targets(self, part: str) -> dict[str, str]:
+        """Relationship id -> target part name, of a part's relationships."""
+        folder, _, base = part.rpartition("/")
+        rels = self.xml(f"{folder}/_rels/{base}.rels", required=False)
+        out = {}
+        for rel in [] if rels is None else rels:
+            target, rid = rel.get("Target") or "", rel.get("Id") or ""
+            if rel.get("TargetMode") == "External":
+                continue
+            out[rid] = target.lstrip("/") if target.startswith("/") else posixpath.normpath(f"{folder}/{target}")
+        return out
+
+    def sheets(self) -> dict[str, str]:
+        """Sheet title -> its part name."""
+        root = self.xml("xl/workbook.xml")
+        targets = self._targets("xl/workbook.xml")
+        out = {}
+        for el in root.iter():
+            if _local(el.tag) == "sheet":
+                rid = next((v for k, v in el.attrib.items() if _local(k) == "id"), None)
+                title = el.get("name") or ""
+                if rid in targets:
+                    out[xlsx_unescape(title)] = targets[rid]
+        return out
+
+    def shared_strings(self) -> list[str]:
+        targets = self._targets("xl/workbook.xml")
+        name = next((t for t in targets.values() if t.endswith("sharedStrings.xml")), "xl/sharedStrings.xml")
+        root = self.xml(name, required=False)
+        if root is None:
+            return []
+        return [_text_of(si) for si in root if _local(si.tag) == "si"]
+
+    def grid(self, part: str, title: str) -> dict[int, list[Any]]:
+        """The sheet's saved values: row index (0-based) -> cells (None where empty)."""
+        root = self.xml(part)
+        strings = None
+        grid: dict[int, list[Any]] = {}
+        row_no = 0
+        for row in root.iter():
+            if _local(row.tag) != "row":
+                continue
+            row_no = _index(row.get("r"), row_no + 1, MAX_ROW, self, title)
+            cells: list[Any] = []
+            col_no = 0
+            for c in row:
+                if _local(c.tag) != "c":
+                    continue
+                ref = c.get("r")
+                col_no = _index(_letters_to_col(ref) if ref else None, col_no + 1, MAX_COL, self, title)
+                kind = c.get("t", "n")
+                if kind == "s" and strings is None:
+                    strings = self.shared_strings()
+                value = _cell_value(c, kind, strings or [])
+                if value is _BAD:
+                    raise self.error(f"cell holds a value its type ({brief(kind)}) cannot have",
+                                     f"{title}!{ref or col_letter(col_no)}")
+                if value is None:
+                    continue
+                cells.extend([None] * (col_no - len(cells)))
+                cells[col_no - 1] = value
+            if cells:
+                grid.setdefault(row_no - 1, cells)
+        return grid
+
+
+_BAD = object()
+
+
+def _local(tag: str) -> str:
+    return tag.rpartition("}")[2]
+
+
+def _text_of(el) -> str:
+    """The text of a string item (<si> or <is>): its <t>, or its runs' <t>, phonetic runs left out."""
+    parts = []
+    for child in el:
+        name = _local(child.tag)
+        if name == "t":
+            parts.append(child.text or "")
+        elif name == "r":
+            parts.extend(t.text or "" for t in child if _local(t.tag) == "t")
+    return xlsx_unescape("".join(parts))
+
+
+def _letters_to_col(ref: str) -> int | None:
+    m = re.match(r"([A-Za-z]{1,3})\d*$", ref)
+    if not m:
+        return -1
+    n = 0
+    for ch in m.group(1).upper():
+        n = n * 26 + ord(ch) - 64
+    return n
+
+
+def _index(given: Any, default: int, limit: int, book: _Book, title: str) -> int:
+    if given is None:
+        return default
+    try:
+        n = int(given)
+    except (TypeError, ValueError):
+        raise book.error(f"a row or cell reference {brief(given)} is not one", title) from None
+    if not 1 <= n <= limit:
+        raise book.error(f"a row or cell reference {brief(given)} lies outside a worksheet", title)
+    return n
+
+
+def _number(text: str) -> Any:
+    """A saved number as openpyxl gives it: int when written without a point or exponent."""
+    if "." in text or "e" in text or "E" in text:
+        return float(text)
+    return int(text)
+
+
+def _cell_value(c, kind: str, strings: list[str]) -> Any:
+    v = f = inline = None
+    for child in c:
+        name = _local(child.tag)
+        if name == "v":
+            v = child.text
+        elif name == "f":
+            f = child.text or ""
+        elif name == "is":
+            inline = child
+    if kind == "inlineStr":
+        return _text_of(inline) if inline is not None else None
+    if v is None or v == "":
+        return _Formula(f) if f is not None else None
+    try:
+        if kind == "s":
+            return strings[int(v)]
+        if kind == "b":
+            return v.strip() in ("1", "true")
+        if kind in ("str", "e", "d"):
+            return xlsx_unescape(v)
+        value = _number(v.strip())
+    except (ValueError, IndexError, OverflowError):
+        return _BAD
+    return value
+
+
+def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, dict[str, Any]]:
+    """The case mapping of the inputs sheet's rows."""
     head = None
     for i, row in enumerate(rows):
         if row and tuple(row[: len(INPUT_COLUMNS)]) == INPUT_COLUMNS:
             head = i
             break
     if head is None:
-        raise CaseError([Problem(source, f"{titles[0]}!A{INPUT_HEAD_ROW}",
+        raise CaseError([Problem(source, f"{title}!A{INPUT_HEAD_ROW}",
                                  f"header row {', '.join(INPUT_COLUMNS)} not found")])
     col = {name: j for j, name in enumerate(INPUT_COLUMNS)}
     problems: list[Problem] = []
     lists: dict[tuple[str, str], list[tuple[int, Any, Any, str, int]]] = {}
     out: dict[str, dict[str, Any]] = {}
     current_origin: dict[tuple[str, str], str] = {}
+    seen: dict[tuple[str, str], int] = {}
     index = _key_index()
 
     def cell(j: int, r: int) -> str:
-        return f"{titles[0]}!{col_letter(j + 1)}{r}"
+        return f"{title}!{col_letter(j + 1)}{r}"
 
     i = head
     for i in range(head + 1, len(rows)):
@@ -103,8 +350,20 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
         if not isinstance(section, str) or not isinstance(key, str):
             problems.append(Problem(source, cell(col["Key"], r), "expected a section and a key in text"))
             continue
+        if (section, key) in seen:
+            problems.append(Problem(source, f"{brief(section)}.{brief(key)} ({cell(col['Key'], r)})",
+                                    f"given twice (also on row {seen[(section, key)]}); keep one row"))
+            continue
+        seen[(section, key)] = r
         value, written = row[col["Value"]], row[col["As written"]]
         origin = row[col["Origin"]]
+        if isinstance(value, _Formula):
+            problems.append(Problem(source, f"{brief(section)}.{brief(key)} ({cell(col['Value'], r)})",
+                                    f"holds a formula ({brief(repr(value))}) with no saved result; open the workbook "
+                                    "in a spreadsheet program and save it, or type the value"))
+            continue
+        if isinstance(written, _Formula):
+            written = None
         m = re.fullmatch(r"(\w+)\[(\d+)\]", key)
         base = m.group(1) if m else key
         k = index.get((section, base))
@@ -113,7 +372,7 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
             continue
         if isinstance(origin, str):
             current_origin[(section, base)] = origin
-        where = f"{section}.{key} ({cell(col['Value'], r)})"
+        where = f"{section}.{brief(key) if len(key) > 60 else key} ({cell(col['Value'], r)})"
         if k.kind == "list":
             lists.setdefault((section, base), []).append((int(m.group(2)) if m else 1, value, written, where, r))
             continue
@@ -130,7 +389,7 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
         bad = False
         for _, value, w, where, _ in items:
             if value is not None and not _is_number(value):
-                problems.append(Problem(source, where, f"expected a number or a blank cell, got {value!r}"))
+                problems.append(Problem(source, where, f"expected a number or a blank cell, got {brief(value)}"))
                 bad = True
             values.append(value)
             written.append(w)
@@ -154,12 +413,20 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
             section, chunk = rows[j][0], rows[j][1]
             if section is None:
                 break
+            if not isinstance(section, str) or not isinstance(chunk, (str, type(None))):
+                problems.append(Problem(source, f"{title}!A{j + 1}", "expected a section name and its JSON text, "
+                                        f"got {brief(section)} and {brief(chunk)}"))
+                continue
             kept[section] = kept.get(section, "") + (chunk or "")
     for section, text in kept.items():
+        where = f"{brief(section) if len(section) > 60 else section} ({title}!B{start + 2})"
         try:
             out[section] = json.loads(text)
         except ValueError as exc:
-            problems.append(Problem(source, f"{section} ({titles[0]}!B{start + 2})", f"malformed JSON: {exc}"))
+            problems.append(Problem(source, where, f"malformed JSON: {brief(str(exc))}"))
+        except RecursionError:
+            problems.append(Problem(source, where, "malformed JSON: nested too deeply (a kept section needs "
+                                    "a few levels)"))
     if problems:
         raise CaseError(problems)
     return out
@@ -189,11 +456,11 @@ def _cell_type_error(k: schema.Key, value: Any) -> str | None:
     if value is None or value == "":
         return None
     if isinstance(value, str) and value.startswith("#"):
-        return f"the cell holds an error value {value!r}"
+        return f"the cell holds an error value {brief(value)}"
     if k.kind in ("float", "int") and not _is_number(value):
-        return f"expected a number [{k.unit_text()}], got {value!r}"
+        return f"expected a number [{k.unit_text()}], got {brief(value)}"
     if k.kind == "bool" and not isinstance(value, bool):
-        return f"expected TRUE or FALSE, got {value!r}"
+        return f"expected TRUE or FALSE, got {brief(value)}"
     if k.kind in ("str", "enum") and not isinstance(value, str):
-        return f"expected text, got {value!r}"
+        return f"expected text, got {brief(value)}"
     return None
