@@ -19,7 +19,6 @@ UTF-8 byte-order mark is accepted.
 
 from __future__ import annotations
 
-import csv
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, BinaryIO, Iterator
@@ -167,25 +166,57 @@ def _decode(data: bytes) -> tuple[str, str]:
 
 
 def split_line(text: str, delimiter: str) -> tuple[list[str], str]:
-    """(cells, problem) of one line; cells stripped of surrounding spaces.
+    """(cells, problem) of one line, quoted the CSV way (RFC 4180); cells stripped of surrounding spaces.
 
-    >>> split_line('F1,"North, upper",5', ",")
+    A quoted cell ends on its own line; inside it a quote is written as two.
+    A quote inside an unquoted cell, or text after a closing quote, is
+    malformed quoting, reported rather than guessed at.
+
+    >>> split_line('F1, "North, upper" ,5', ",")
     (['F1', 'North, upper', '5'], '')
     >>> split_line('F1,"North,5', ",")[1]
     'malformed quoting: a quoted cell is not closed on its line'
+    >>> split_line('F1,No"rth,5', ",")[1]
+    'malformed quoting: a quote inside an unquoted cell (cell 2); quote the whole cell and write the quote as two'
     """
     if "\x00" in text:
         return [], "holds a NUL character: not a text line"
     if '"' not in text:
         return [c.strip() for c in text.split(delimiter)], ""
-    try:
-        cells = next(csv.reader([text], delimiter=delimiter, strict=True), [])
-    except csv.Error as exc:
-        if "unexpected end of data" in str(exc):
-            return [], "malformed quoting: a quoted cell is not closed on its line"
-        return [], (f"malformed quoting: text after a closing quote ({exc}); inside a quoted cell write "
-                    'a quote as two quotes ("")')
-    return [c.strip() for c in cells], ""
+    cells: list[str] = []
+    i, n = 0, len(text)
+    while True:
+        j = i
+        while j < n and text[j] in " \t" and text[j] != delimiter:
+            j += 1
+        if j < n and text[j] == '"':
+            parts, k = [], j + 1
+            while True:
+                q = text.find('"', k)
+                if q < 0:
+                    return [], "malformed quoting: a quoted cell is not closed on its line"
+                parts.append(text[k:q])
+                if text.startswith('"', q + 1):
+                    parts.append('"')
+                    k = q + 2
+                    continue
+                break
+            end = text.find(delimiter, q + 1)
+            rest = text[q + 1:] if end < 0 else text[q + 1:end]
+            if rest.strip():
+                return [], (f"malformed quoting: text after a closing quote in cell {len(cells) + 1}; inside a "
+                            'quoted cell write a quote as two ("")')
+            cells.append("".join(parts).strip())
+        else:
+            end = text.find(delimiter, i)
+            cell = text[i:] if end < 0 else text[i:end]
+            if '"' in cell:
+                return [], (f"malformed quoting: a quote inside an unquoted cell (cell {len(cells) + 1}); quote the "
+                            "whole cell and write the quote as two")
+            cells.append(cell.strip())
+        if end < 0:
+            return cells, ""
+        i = end + 1
 
 
 def sniff_delimiter(header: str) -> str:

@@ -27,7 +27,7 @@ from pathlib import Path
 from typing import Any, Sequence
 
 from tea.core.errors import CaseError, Problem
-from tea.core.safe_text import brief, xlsx_unescape
+from tea.core.safe_text import SHOWN_LIMIT, brief, clip, xlsx_unescape
 from tea.inputs import schema
 
 #: title of the inputs sheet (a portfolio prefixes "C01 " etc.)
@@ -351,15 +351,15 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
             problems.append(Problem(source, cell(col["Key"], r), "expected a section and a key in text"))
             continue
         if (section, key) in seen:
-            problems.append(Problem(source, f"{brief(section)}.{brief(key)} ({cell(col['Key'], r)})",
+            problems.append(Problem(source, f"{_name(section)}.{_name(key)} ({cell(col['Key'], r)})",
                                     f"given twice (also on row {seen[(section, key)]}); keep one row"))
             continue
         seen[(section, key)] = r
         value, written = row[col["Value"]], row[col["As written"]]
         origin = row[col["Origin"]]
         if isinstance(value, _Formula):
-            problems.append(Problem(source, f"{brief(section)}.{brief(key)} ({cell(col['Value'], r)})",
-                                    f"holds a formula ({brief(repr(value))}) with no saved result; open the workbook "
+            problems.append(Problem(source, f"{_name(section)}.{_name(key)} ({cell(col['Value'], r)})",
+                                    f"holds a formula ({clip(repr(value), SHOWN_LIMIT)}) with no saved result; open the workbook "
                                     "in a spreadsheet program and save it, or type the value"))
             continue
         if isinstance(written, _Formula):
@@ -372,7 +372,7 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
             continue
         if isinstance(origin, str):
             current_origin[(section, base)] = origin
-        where = f"{section}.{brief(key) if len(key) > 60 else key} ({cell(col['Value'], r)})"
+        where = f"{_name(section)}.{_name(key)} ({cell(col['Value'], r)})"
         if k.kind == "list":
             lists.setdefault((section, base), []).append((int(m.group(2)) if m else 1, value, written, where, r))
             continue
@@ -419,7 +419,7 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
                 continue
             kept[section] = kept.get(section, "") + (chunk or "")
     for section, text in kept.items():
-        where = f"{brief(section) if len(section) > 60 else section} ({title}!B{start + 2})"
+        where = f"{_name(section)} ({title}!B{start + 2})"
         try:
             out[section] = json.loads(text)
         except ValueError as exc:
@@ -430,6 +430,11 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
     if problems:
         raise CaseError(problems)
     return out
+
+
+def _name(text: str) -> str:
+    """A section or key name as an error line shows it: bare when it is a plain name, else quoted and short."""
+    return text if re.fullmatch(r"[\w\[\]]{1,60}", text) else brief(text)
 
 
 def _key_index() -> dict[tuple[str, str], schema.Key]:

@@ -229,8 +229,22 @@ def _environment():
         trim_blocks=True,
         lstrip_blocks=True,
         keep_trailing_newline=True,
+        finalize=_shown,  # every value a template prints: control and direction-override characters escaped
     )
     return env
+
+
+def _shown(value: Any) -> Any:
+    """A value as a page shows it: text with control and bidirectional-override characters made visible
+    (:func:`tea.core.safe_text.terminal`), so case text cannot reorder or hide the text around it;
+    markup made here (the charts) as it is."""
+    from markupsafe import Markup
+
+    from tea.core.safe_text import terminal
+
+    if isinstance(value, str) and not isinstance(value, Markup):
+        return terminal(value)
+    return value
 
 
 def _render(template: str, **context: Any) -> str:

@@ -23,7 +23,7 @@ MAX_ROWS = 1_048_576
 #: characters of a sheet title
 MAX_TITLE = 31
 #: rows formatted together before they are written to the zip
-BLOCK_ROWS = 4096
+BLOCK_ROWS = 1024
 #: the date every zip entry carries (the zip format's earliest)
 ZIP_TIME = (1980, 1, 1, 0, 0, 0)
 

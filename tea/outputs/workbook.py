@@ -70,6 +70,7 @@ from tea.inputs.case import EXTENSION_SECTIONS, Case
 from tea.inputs.workbook_reader import INPUT_COLUMNS, INPUT_HEAD_ROW, INPUTS, KEPT_HEADER, col_letter, read_case_mapping
 from tea.core.errors import CaseError, Problem
 from tea.core.files import atomic_write, check_target
+from tea.core.safe_text import HEADER_LIMIT, clip, xlsx_text
 from tea.model.ledger import BY_NAME as LINE_BY_NAME
 from tea.model.ledger import LINE_NAMES, LINES
 from tea.model.results import FIGURE_BY_NAME, FIGURES, Results
@@ -733,7 +734,7 @@ class _Sheet:
         if value == "":
             return
         self._put(row, col, f'<c r="{col_letter(col)}{row}" s="{style}" t="inlineStr"><is><t xml:space="preserve">'
-                            f"{_esc(str(value))}</t></is></c>")
+                            f"{xlsx_text(str(value))}</t></is></c>")
 
     def number(self, row: int, col: int, value: float, style: int) -> None:
         self._put(row, col, f'<c r="{col_letter(col)}{row}" s="{style}"><v>{_num(value)}</v></c>')
@@ -1681,9 +1682,13 @@ def _rels(items: Iterable[tuple[str, str, str]]) -> str:
             f'<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">{body}</Relationships>')
 
 
-def _header_text(text: str) -> str:
-    """Case text for a page header or footer: '&' starts a code there, so it is doubled."""
-    return text.replace("&", "&&")
+def _header_text(text: str, room: int) -> str:
+    """Case text for a page header or footer, in ``room`` characters: '&' starts a code there, so it is doubled;
+    text too long for the header's 255 characters is cut with a visible mark."""
+    limit = room
+    while len(shown := clip(text, limit).replace("&", "&&")) > room:
+        limit -= 1
+    return shown
 
 
 def _package(sheets: Sequence[_Sheet], styles: _Styles, names: Mapping[str, str], title: str,
@@ -1696,7 +1701,8 @@ def _package(sheets: Sequence[_Sheet], styles: _Styles, names: Mapping[str, str]
                  ("/docProps/app.xml", f"{_CT}.extended-properties+xml")]
     sheet_entries, wb_rels, defined = [], [], []
     chart_no = drawing_no = 0
-    header = f"&L&\"-,Bold\"{_header_text(title)}&R&A"
+    header = f"&L&\"-,Bold\"{{}}&R&A"
+    header = header.format(_header_text(title, HEADER_LIMIT - len(header) + 2))
     footer = f"&Ltea {__version__}, planning estimates only&RPage &P of &N"
     sheet_parts = []
     for i, sh in enumerate(sheets, start=1):
