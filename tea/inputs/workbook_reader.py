@@ -23,6 +23,7 @@ import posixpath
 import re
 import zipfile
 import zlib
+from functools import lru_cache
 from pathlib import Path
 from typing import Any, Sequence
 
@@ -102,12 +103,12 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
         if len(titles) > 1:
             raise CaseError([Problem(source, "", f"holds {len(titles)} cases ({brief(', '.join(titles))}); "
                                      "read one case's workbook instead")])
-        grid = book.grid(sheets[titles[0]], titles[0])
+        width = len(INPUT_COLUMNS)  # the columns read; any further ones are not the reader's
+        grid = book.grid(sheets[titles[0]], titles[0], width)
     finally:
         book.close()
-    last = max(grid, default=-1)
-    width = len(INPUT_COLUMNS)  # the columns read; any further ones are not the reader's
-    rows = [(grid.get(i, [])[:width] + [None] * width)[:width] for i in range(last + 1)]
+    empty = [None] * width
+    rows = [grid.get(i, empty) for i in range(max(grid, default=-1) + 1)]
     return _mapping(rows, titles[0], source)
 
 
@@ -211,23 +212,26 @@ class _Book:
             return []
         return [_text_of(si) for si in root if _local(si.tag) == "si"]
 
-    def grid(self, part: str, title: str) -> dict[int, list[Any]]:
-        """The sheet's saved values: row index (0-based) -> cells (None where empty)."""
+    def grid(self, part: str, title: str, width: int) -> dict[int, list[Any]]:
+        """The saved values of a sheet's first ``width`` columns: row index (0-based) -> cells (None where empty)."""
         root = self.xml(part)
+        data = next((el for el in root if _local(el.tag) == "sheetData"), ())
         strings = None
         grid: dict[int, list[Any]] = {}
         row_no = 0
-        for row in root.iter():
+        for row in data:
             if _local(row.tag) != "row":
                 continue
             row_no = _index(row.get("r"), row_no + 1, MAX_ROW, self, title)
-            cells: list[Any] = []
+            cells: list[Any] = [None] * width
             col_no = 0
             for c in row:
                 if _local(c.tag) != "c":
                     continue
                 ref = c.get("r")
                 col_no = _index(_letters_to_col(ref) if ref else None, col_no + 1, MAX_COL, self, title)
+                if col_no > width:
+                    continue
                 kind = c.get("t", "n")
                 if kind == "s" and strings is None:
                     strings = self.shared_strings()
@@ -235,11 +239,8 @@ class _Book:
                 if value is _BAD:
                     raise self.error(f"cell holds a value its type ({brief(kind)}) cannot have",
                                      f"{title}!{ref or col_letter(col_no)}")
-                if value is None:
-                    continue
-                cells.extend([None] * (col_no - len(cells)))
                 cells[col_no - 1] = value
-            if cells:
+            if any(v is not None for v in cells):
                 grid.setdefault(row_no - 1, cells)
         return grid
 
@@ -264,13 +265,16 @@ def _text_of(el) -> str:
 
 
 def _letters_to_col(ref: str) -> int | None:
-    m = re.match(r"([A-Za-z]{1,3})\d*$", ref)
-    if not m:
-        return -1
+    """The column number of a cell reference (``C12`` -> 3); -1 when it is not one."""
     n = 0
-    for ch in m.group(1).upper():
-        n = n * 26 + ord(ch) - 64
-    return n
+    for i, ch in enumerate(ref):
+        if "A" <= ch <= "Z":
+            n = n * 26 + ord(ch) - 64
+        elif "a" <= ch <= "z":
+            n = n * 26 + ord(ch) - 96
+        else:
+            return n if i and ref[i:].isdigit() and i <= 3 else -1
+    return n if 0 < len(ref) <= 3 else -1
 
 
 def _index(given: Any, default: int, limit: int, book: _Book, title: str) -> int:
@@ -437,6 +441,7 @@ def _name(text: str) -> str:
     return text if re.fullmatch(r"[\w\[\]]{1,60}", text) else brief(text)
 
 
+@lru_cache(maxsize=None)
 def _key_index() -> dict[tuple[str, str], schema.Key]:
     index = {}
     for k in schema.KEYS:
