@@ -328,6 +328,17 @@ def test_hole_07_output_paths_cross_checked(tmp_path, args, message):
     assert result.out == "" and not list(tmp_path.iterdir())  # nothing computed, nothing written
 
 
+def test_hole_07_an_output_never_overwrites_an_input(tmp_path):
+    table = _table(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\n")
+    before = table.read_bytes()
+    result = run_cli(["screen", table, "--case", BASE, "--out", table, "--force"])
+    assert result.code == 2 and "is an input of this run" in result.err and table.read_bytes() == before
+    case = tmp_path / "case.toml"
+    case.write_bytes(BASE.read_bytes())
+    result = run_cli(["run", case, "--html", tmp_path / "case.toml", "--force"])
+    assert result.code == 2 and "is an input of this run" in result.err
+
+
 def test_hole_07_screen_outputs_cross_checked(tmp_path):
     table = _table(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\n")
     result = run_cli(["screen", table, "--case", BASE, "--out", tmp_path / "a.csv", "--errors", tmp_path / "a.csv"])

@@ -64,10 +64,10 @@ def _save_figure(fig, path: str, force: bool) -> None:
     print(f"wrote {path}", file=sys.stderr)
 
 
-def _check_figure_paths(paths, force: bool) -> None:
+def _check_figure_paths(paths, force: bool, case: str) -> None:
     from tea.cli.common import check_outputs
 
-    check_outputs([(p, FIGURE_SUFFIXES) for p in paths], force)
+    check_outputs([(p, FIGURE_SUFFIXES) for p in paths], force, inputs=[case])
 
 
 # ----------------------------------------------------------------------------- sensitivity
@@ -77,7 +77,7 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
     from tea.inputs.case import load_case
 
     case = load_case(args.case)
-    _check_figure_paths([args.plot, args.surface_plot], args.force)
+    _check_figure_paths([args.plot, args.surface_plot], args.force, args.case)
     _warn(case)
     res = sensitivity.run(case, with_surface=not args.no_surface)
     if args.json:
@@ -98,7 +98,7 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     from tea.inputs.case import load_case
 
     case = load_case(args.case)
-    _check_figure_paths([args.plot], args.force)
+    _check_figure_paths([args.plot], args.force, args.case)
     _warn(case)
     res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
     if args.json:
@@ -120,7 +120,8 @@ def _cmd_screen(args: argparse.Namespace) -> int:
     case = load_case(args.case)
     out = args.out or f"{Path(args.fields).stem}.screened.csv"
     errors = args.errors or str(Path(out).with_name(Path(out).stem + ".errors.csv"))
-    check_outputs([(out, screen_files.TABLE_SUFFIXES), (errors, screen_files.ERRORS_SUFFIXES)], args.force)
+    check_outputs([(out, screen_files.TABLE_SUFFIXES), (errors, screen_files.ERRORS_SUFFIXES)], args.force,
+                  inputs=[args.fields, args.case])
     screen_files.check_parquet(out)
     if not Path(args.fields).is_file():
         raise CaseError([Problem(args.fields, "", "is a folder, not a field table" if Path(args.fields).is_dir()

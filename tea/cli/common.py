@@ -8,11 +8,12 @@ from typing import Sequence
 from tea.core.errors import CaseError, OutputError
 
 
-def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bool) -> None:
+def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bool,
+                  inputs: Sequence[str] = ()) -> None:
     """Refuse, before any work, output files that cannot be written as asked.
 
     ``targets`` pairs each output path (None: not asked for) with the suffixes
-    it may have. Checked together: each suffix, no two outputs naming one file,
+    it may have. Checked together: each suffix, no two outputs naming one file, no output naming an input,
     no file overwritten without ``force``, the folder there and writable, no
     folder where the file should go. Usage problems raise one
     :class:`OutputError` listing them all (exit 2); a folder in the way or an
@@ -22,6 +23,7 @@ def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bo
 
     problems = []
     seen: dict[Path, str] = {}
+    read = {Path(p).resolve(): p for p in inputs}
     given = [(p, suffixes) for p, suffixes in targets if p]
     for p, suffixes in given:
         path = Path(p)
@@ -33,6 +35,8 @@ def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bo
             problems.append(f"{brief_path(p)}: unknown output type {suffix or '(none)'}{old}; "
                             f"expected {' or '.join(suffixes)}")
         where = path.resolve()
+        if where in read:
+            problems.append(f"{brief_path(p)}: is an input of this run; give the output another name")
         if where in seen:
             problems.append(f"{brief_path(p)}: also given as {brief_path(seen[where])}; give each output its own file")
         seen[where] = p

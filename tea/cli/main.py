@@ -43,7 +43,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
     cases = _load_all(args.cases)
     ledgers, results = [], []
-    _check_outputs([(args.xlsx, (".xlsx",)), (args.pdf, (".pdf",)), (args.html, (".html", ".htm"))], args.force)
+    _check_outputs([(args.xlsx, (".xlsx",)), (args.pdf, (".pdf",)), (args.html, (".html", ".htm"))], args.force,
+                   inputs=args.cases)
     sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
     for case in cases:
         for w in case.warnings:

@@ -23,6 +23,8 @@ TABLE_SUFFIXES = (".csv", ".xlsx", ".parquet")
 #: what the list of skipped rows is written as
 ERRORS_SUFFIXES = (".csv",)
 ERROR_COLUMNS = ("line", "row", "column", "value", "reason")
+#: rows formatted together when a table is written
+BLOCK_ROWS = 4096
 
 
 def parquet_available() -> bool:
@@ -47,8 +49,14 @@ def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> P
     suffix = out.suffix.lower()
     meta = metadata_lines(result)
     if suffix == ".csv":
-        head = "".join(csv_comment(line) + "\n" for line in meta)
-        return atomic_write_text(out, head + csv_text(result.table), force=True)
+        def write_csv(tmp: Path) -> None:
+            table = result.table
+            with tmp.open("w", encoding="utf-8", newline="") as f:
+                f.write("".join(csv_comment(line) + "\n" for line in meta))
+                f.write(csv_row(table.columns) + "\n")
+                for start in range(0, len(table), BLOCK_ROWS):  # a block at a time: bounded memory
+                    f.write(csv_text(table.iloc[start:start + BLOCK_ROWS], header=False))
+        return atomic_write(out, write_csv, force=True)
     if suffix == ".xlsx":
         from tea.outputs.table_book import MAX_ROWS, write_book
 
@@ -56,8 +64,7 @@ def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> P
         if len(table) >= MAX_ROWS:
             raise OutputError(f"{out}: {len(table):,} fields do not fit a worksheet ({MAX_ROWS - 1:,} rows); "
                               "write .csv")
-        columns = [table[c].tolist() for c in table.columns]
-        sheets = [("ranked fields", [str(c) for c in table.columns], zip(*columns)),
+        sheets = [("ranked fields", [str(c) for c in table.columns], _rows(table)),
                   ("notes", ["notes"], ([line] for line in meta))]
         return atomic_write(out, lambda tmp: write_book(tmp, sheets), force=True)
     if suffix == ".parquet":
@@ -71,7 +78,14 @@ def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> P
     raise OutputError(f"{out}: unknown output type {suffix or '(none)'}; expected {', '.join(TABLE_SUFFIXES)}")
 
 
-def csv_text(table) -> str:
+def _rows(table):
+    """The rows of a DataFrame as lists of Python values, a block at a time (bounded memory)."""
+    for start in range(0, len(table), BLOCK_ROWS):
+        part = table.iloc[start:start + BLOCK_ROWS]
+        yield from zip(*(part[c].tolist() for c in part.columns))
+
+
+def csv_text(table, header: bool = True) -> str:
     """A DataFrame as CSV text: numbers to 10 significant digits, NaN as an empty cell, text made safe.
 
     Formats column by column (faster than ``DataFrame.to_csv`` with a float format).
@@ -91,9 +105,9 @@ def csv_text(table) -> str:
             cols.append([str(v) for v in values.tolist()])
         else:
             cols.append([csv_cell(str(v)) for v in values.tolist()])
-    lines = [csv_row(table.columns)]
+    lines = [csv_row(table.columns)] if header else []
     lines.extend(",".join(row) for row in zip(*cols))
-    return "\n".join(lines) + "\n"
+    return "\n".join(lines) + "\n" if lines else ""
 
 
 def write_errors(result: ScreenResult, out: str | Path, force: bool = True) -> Path:
