@@ -183,11 +183,15 @@ def test_generated_field_tables(tmp_path_factory, monkeypatch, table):
 # ============================================================================= tampered workbooks
 @pytest.fixture(scope="module")
 def small_book(tmp_path_factory) -> dict[str, bytes]:
+    return small_book_parts(tmp_path_factory.mktemp("book"))
+
+
+def small_book_parts(folder: Path) -> dict[str, bytes]:
     """The parts of a workbook written by tea, its inputs sheet cut to the rows the case file gave and the
     sections kept whole (the rows a reader takes; the others it derives again): a small sheet to tamper with."""
     case = _base()
     ledger = tea.build_ledger(case)
-    path = tmp_path_factory.mktemp("book") / "book.xlsx"
+    path = folder / "book.xlsx"
     tea.write_workbook(case, ledger, tea.summarise(case, ledger), path, sensitivity=False)
     with zipfile.ZipFile(path) as zf:
         parts = {n: zf.read(n) for n in ("[Content_Types].xml", "_rels/.rels", "xl/workbook.xml",

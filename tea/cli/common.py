@@ -24,7 +24,9 @@ def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bo
     problems = []
     seen: dict[Path, str] = {}
     read = {Path(p).resolve(): p for p in inputs}
-    given = [(p, suffixes) for p, suffixes in targets if p]
+    given = [(p, suffixes) for p, suffixes in targets if p is not None]
+    if any(not str(p).strip() for p, _ in given):
+        raise OutputError("an output file name is empty; give a file name")
     for p, suffixes in given:
         path = Path(p)
         suffix = path.suffix.lower()
