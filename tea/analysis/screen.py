@@ -22,8 +22,7 @@ from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
 from tea.core.safe_text import brief
-from tea.inputs.fieldtable import ID_COLUMN, BadRow, FieldTable, Record, count_rows
-from tea.core.texts import CAUTIONS
+from tea.inputs.fieldtable import BadRow, FieldTable, Record, count_rows
 
 #: rows read, checked and evaluated together from a field table
 TABLE_CHUNK_ROWS = 65536
@@ -60,8 +59,9 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
         CSV file: a header row naming case keys (``area_ha``, ``costs.haul_distance_km``,
         ``site_factor``, ``climate``, ...; any spelling the case file accepts, with or
         without the section), an optional ``field_id`` column, then one row per
-        field. Empty cells keep the base case's value. Lines starting with ``#``
-        are comments.
+        field. Empty cells keep the base case's value, except an empty area
+        (a bad row). Lines starting with ``#`` are comments; commas,
+        semicolons or tabs separate the cells (:mod:`tea.inputs.fieldtable`).
     case : Case
         The base case.
     rank_by : str
@@ -232,47 +232,3 @@ def progress_bar(total: int, what: str, enabled: bool | None, unit: str = "rows"
     if terminal:
         return tqdm(total=total, desc=what, unit=unit, file=stream, delay=0.5, leave=False)
     return tqdm(total=total, desc=what, unit=unit, file=stream, mininterval=30.0, ascii=True)
-
-
-# ============================================================================= the terminal view
-def summary_text(result: ScreenResult, top: int = 10) -> str:
-    """The terminal view: counts, the best-ranked fields, the cautions."""
-    from tea.inputs import display
-
-    case = result.case
-    out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]
-    out.append("=" * len(out[0]))
-    out.append(f"{result.rows_read} rows read; {result.rows_evaluated} fields evaluated; "
-               f"{result.rows_skipped} rows skipped" + (" (see the error file)" if result.rows_skipped else ""))
-    out.append(result.units_note)
-    table = result.table
-    if len(table):
-        per = "acre" if case.unit_system == "us_customary" else "ha"
-        label = next((c for c in (ID_COLUMN, "field.name", "name") if c in table), "line")
-        cols = [("rank", "rank"), (label, "field"), (f"eav_vs_current_use_per_{per}", f"EAV vs now /{per}/yr"),
-                (f"npv_vs_current_use_per_{per}", f"NPV vs now /{per}"), ("npv_vs_current_use_field", "NPV vs now, field"),
-                ("irr", "IRR"), ("payback_year", "payback yr"), (f"soc_gain_t_co2e_per_{per}", f"SOC t CO2e/{per}")]
-        cols = [(c, h) for c, h in cols if c in table]
-        head = table.head(top)
-        cells = []
-        for c, h in cols:
-            vals = []
-            for v in head[c].tolist():
-                if c == "irr":
-                    vals.append(display.percent(float(v)) if v == v else "–")
-                elif c == "payback_year":
-                    vals.append(f"{v:.0f}" if v == v else "none")
-                elif isinstance(v, float):
-                    vals.append(display.number(v) if v == v else "–")
-                else:
-                    vals.append(str(v))
-            cells.append((h, vals))
-        widths = [max(len(h), *(len(v) for v in vals)) for h, vals in cells]
-        out.append("")
-        out.append(f"Top {len(head)} by {result.rank_by} ({case.currency}):")
-        out.append("  ".join(h.rjust(w) for (h, _), w in zip(cells, widths)))
-        for i in range(len(head)):
-            out.append("  ".join(vals[i].rjust(w) for (_, vals), w in zip(cells, widths)))
-    out.append("Cautions:")
-    out.extend(f"  - {c}" for c in CAUTIONS)
-    return "\n".join(out)

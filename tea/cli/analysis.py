@@ -132,7 +132,7 @@ def _cmd_screen(args: argparse.Namespace) -> int:
     for w in result.warnings:
         print(f"warning: {w}", file=sys.stderr)
     screen_files.write_table(result, out, force=args.force)
-    print(screen.summary_text(result, top=args.top))
+    print(screen_files.summary_text(result, top=args.top))
     print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
     if result.bad:
         screen_files.write_errors(result, errors, force=args.force)

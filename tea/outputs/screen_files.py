@@ -1,4 +1,4 @@
-"""The files a screen writes: the ranked table (.csv, .xlsx or .parquet) and the list of skipped rows.
+"""What a screen shows: the ranked table (.csv, .xlsx or .parquet), the list of skipped rows, the terminal view.
 
 Field ids, names and every other cell read from a field table are user text:
 CSV cells go through :func:`tea.core.safe_text.csv_cell` (a leading ``=``,
@@ -13,6 +13,7 @@ from pathlib import Path
 
 from tea import __version__
 from tea.analysis.screen import ScreenResult
+from tea.inputs.fieldtable import ID_COLUMN
 from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.core.safe_text import csv_cell, csv_comment, csv_row
@@ -130,3 +131,46 @@ def metadata_lines(result: ScreenResult) -> list[str]:
         lines.append("DEMO DATA: the base case is invented demo data")
     lines.extend(CAUTIONS)
     return lines
+
+
+def summary_text(result: ScreenResult, top: int = 10) -> str:
+    """The terminal view: counts, the best-ranked fields, the cautions."""
+    from tea.inputs import display
+
+    case = result.case
+    out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]
+    out.append("=" * len(out[0]))
+    out.append(f"{result.rows_read} rows read; {result.rows_evaluated} fields evaluated; "
+               f"{result.rows_skipped} rows skipped" + (" (see the error file)" if result.rows_skipped else ""))
+    out.append(result.units_note)
+    table = result.table
+    if len(table):
+        per = "acre" if case.unit_system == "us_customary" else "ha"
+        label = next((c for c in (ID_COLUMN, "field.name", "name") if c in table), "line")
+        cols = [("rank", "rank"), (label, "field"), (f"eav_vs_current_use_per_{per}", f"EAV vs now /{per}/yr"),
+                (f"npv_vs_current_use_per_{per}", f"NPV vs now /{per}"), ("npv_vs_current_use_field", "NPV vs now, field"),
+                ("irr", "IRR"), ("payback_year", "payback yr"), (f"soc_gain_t_co2e_per_{per}", f"SOC t CO2e/{per}")]
+        cols = [(c, h) for c, h in cols if c in table]
+        head = table.head(top)
+        cells = []
+        for c, h in cols:
+            vals = []
+            for v in head[c].tolist():
+                if c == "irr":
+                    vals.append(display.percent(float(v)) if v == v else "–")
+                elif c == "payback_year":
+                    vals.append(f"{v:.0f}" if v == v else "none")
+                elif isinstance(v, float):
+                    vals.append(display.number(v) if v == v else "–")
+                else:
+                    vals.append(str(v))
+            cells.append((h, vals))
+        widths = [max(len(h), *(len(v) for v in vals)) for h, vals in cells]
+        out.append("")
+        out.append(f"Top {len(head)} by {result.rank_by} ({case.currency}):")
+        out.append("  ".join(h.rjust(w) for (h, _), w in zip(cells, widths)))
+        for i in range(len(head)):
+            out.append("  ".join(vals[i].rjust(w) for (_, vals), w in zip(cells, widths)))
+    out.append("Cautions:")
+    out.extend(f"  - {c}" for c in CAUTIONS)
+    return "\n".join(out)
