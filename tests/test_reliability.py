@@ -253,6 +253,18 @@ def test_hole_06_deeply_nested_json_in_a_kept_section(tmp_path):
     _one_line_errors(result)
 
 
+@pytest.mark.parametrize("text, message", [
+    ("[case]\nname = " + "9" * 5000 + "\n", "malformed TOML: a number too long to read"),
+    ("[field]\narea_ha = " + "9" * 4000 + "\n", "got a whole number of about 4,000 digits"),
+])
+def test_hole_06_a_number_of_thousands_of_digits(tmp_path, text, message):
+    path = tmp_path / "digits.toml"
+    path.write_text(text, encoding="utf-8")
+    result = run_cli(["check", path])
+    assert result.code == 2 and message in result.err
+    _one_line_errors(result)
+
+
 @pytest.mark.parametrize("doctype", [
     b'<!DOCTYPE x [<!ENTITY a "aaaa">]>',
     b'<!DOCTYPE x [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]>',

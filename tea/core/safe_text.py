@@ -83,6 +83,8 @@ def brief(value: object, limit: int = SHOWN_LIMIT) -> str:
     >>> brief("X" * 10_000)
     "'XXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXX… [cut: 10,002 characters]"
     """
+    if isinstance(value, int) and value.bit_length() > 4 * limit:  # too long to write out, and to convert
+        return f"a whole number of about {int(value.bit_length() * 0.30103):,} digits"
     return clip(repr(value), limit)
 
 

@@ -234,6 +234,9 @@ def load_text(text: str, source: str = "<case>") -> Case:
     except RecursionError:
         raise CaseError([Problem(source, "", "malformed TOML: arrays or tables nested too deeply "
                                  "(a case needs at most a few levels)")]) from None
+    except ValueError:  # a whole number of thousands of digits, past Python's conversion limit
+        raise CaseError([Problem(source, "", "malformed TOML: a number too long to read (thousands of digits)")]) \
+            from None
     return load_mapping(data, source=source)
 
 
