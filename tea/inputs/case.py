@@ -506,6 +506,12 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                                 f"(expected {lo}..{hi}{f' [{unit}]' if unit else ''}); check it")
 
     # 6. rules that tie keys together
+    rate = values.get("loan.rate")
+    if isinstance(rate, float) and rate != 0.0 and 1.0 + rate == 1.0 and "loan.rate" not in rejected:
+        # the annuity and the interest lines cannot tell it from 0, but would divide by it
+        values["loan.rate"] = 0.0
+        warnings.append(f"{source}: loan.rate: {rate:g} is too small to change any payment (1 + rate rounds to 1); "
+                        "taken as 0, an interest-free loan")
     _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced)
 
     if problems:

@@ -38,21 +38,6 @@ def level_payment(rate, n_periods, principal):
     return principal / annuity
 
 
-def effective_rate(rate):
-    """The interest rate as the schedule uses it: a rate so small that 1 + r rounds to 1 is 0.
-
-    Below about 1.1e-16 a year the interest on any amount a case can lend
-    (at most 10^12) is below a ten-thousandth of a cent, while the
-    division by such a rate in the annuity overflows; the loan is then an
-    interest-free loan repaid in equal parts.
-
-    >>> effective_rate(np.array([5e-324, 1e-17, 1e-9, 0.05])).tolist()
-    [0.0, 0.0, 1e-09, 0.05]
-    """
-    r = np.asarray(rate, dtype=float)
-    return np.where(1.0 + r == 1.0, 0.0, r)
-
-
 def schedule(principal, rate, term_years, grace_years, capitalised, n_years):
     """Yearly loan lines for all cases.
 
@@ -77,7 +62,7 @@ def schedule(principal, rate, term_years, grace_years, capitalised, n_years):
     """
     t = np.arange(n_years)[None, :]
     P = np.asarray(principal, dtype=float)
-    r = effective_rate(rate)
+    r = np.asarray(rate, dtype=float)
     g = np.asarray(grace_years)
     n = np.asarray(term_years)
     cap = np.asarray(capitalised, dtype=bool)
@@ -118,7 +103,7 @@ def dscr(cash_available, debt_service):
     >>> dscr(np.array([[0.0, 120.0, 90.0]]), np.array([[0.0, 100.0, 100.0]])).tolist()
     [[nan, 1.2, 0.9]]
     """
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(debt_service > 0, cash_available / np.where(debt_service > 0, debt_service, 1.0), np.nan)
 
 
