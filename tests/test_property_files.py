@@ -210,6 +210,8 @@ def small_book_parts(folder: Path) -> dict[str, bytes]:
     sheet = re.sub(r"<sheetData>.*</sheetData>", lambda m: "<sheetData>" + "".join(new) + "</sheetData>", sheet,
                    flags=re.S)
     parts["xl/worksheets/sheet1.xml"] = sheet.encode()
+    # the defined names point into sheets left out here; the reader does not read them
+    parts["xl/workbook.xml"] = re.sub(rb"<definedNames>.*</definedNames>", b"", parts["xl/workbook.xml"], flags=re.S)
     return _Parts(parts)
 
 

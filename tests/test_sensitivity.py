@@ -288,4 +288,4 @@ class TestCommand:
 
     def test_bad_chart_type_exits_2(self, tmp_path, capsys):
         assert main(["sensitivity", str(CLAY), "--plot", str(tmp_path / "t.txt")]) == 2
-        assert "unknown chart type" in capsys.readouterr().err
+        assert "unknown output type .txt; expected .png, .svg or .pdf" in capsys.readouterr().err

@@ -34,8 +34,8 @@ def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bo
             continue  # check_target names it below
         if suffix not in suffixes:
             old = " (the old binary format; tea writes .xlsx)" if suffix == ".xls" else ""
-            problems.append(f"{brief_path(p)}: unknown output type {suffix or '(none)'}{old}; "
-                            f"expected {' or '.join(suffixes)}")
+            expected = ", ".join(suffixes[:-1]) + " or " + suffixes[-1] if len(suffixes) > 1 else suffixes[0]
+            problems.append(f"{brief_path(p)}: unknown output type {suffix or '(none)'}{old}; expected {expected}")
         where = path.resolve()
         if where in read:
             problems.append(f"{brief_path(p)}: is an input of this run; give the output another name")

@@ -14,6 +14,7 @@ import argparse
 import json
 import os
 import sys
+from functools import lru_cache
 from pathlib import Path
 from typing import Sequence
 
@@ -193,8 +194,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stdout, sys.stderr = streams
 
 
+@lru_cache(maxsize=1)
+def _parser() -> argparse.ArgumentParser:
+    """The parser, built once a process (tea called in-process, as tests do, parses many times)."""
+    return build_parser()
+
+
 def _main(argv: Sequence[str] | None) -> int:
-    parser = build_parser()
+    parser = _parser()
     args = parser.parse_args(argv)
     try:
         return args.func(args)

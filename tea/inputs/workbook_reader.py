@@ -133,6 +133,7 @@ class _Book:
             self.close()
             raise self.error(f"holds {len(self.zip.infolist()):,} parts: not a workbook written by tea")
         self.names = {info.filename for info in self.zip.infolist()}
+        self._rels: dict[str, dict[str, str]] = {}
 
     def error(self, message: str, key: str = "") -> CaseError:
         return CaseError([Problem(self.source, key, message)])
@@ -181,6 +182,11 @@ class _Book:
 
     def _targets(self, part: str) -> dict[str, str]:
         """Relationship id -> target part name, of a part's relationships."""
+        if part not in self._rels:
+            self._rels[part] = self._read_targets(part)
+        return self._rels[part]
+
+    def _read_targets(self, part: str) -> dict[str, str]:
         folder, _, base = part.rpartition("/")
         rels = self.xml(f"{folder}/_rels/{base}.rels", required=False)
         out = {}
