@@ -48,6 +48,13 @@ def _screen(tmp_path: Path, table: Path, *extra: str, out: str = "ranked.csv"):
     return run_cli(["screen", table, "--case", BASE, "--out", tmp_path / out, "--no-progress", *extra])
 
 
+def _screen_ids(tmp_path: Path, text: str | bytes) -> tuple:
+    """Screen a table given as text; the run and the ids of the fields evaluated, sorted."""
+    result = _screen(tmp_path, _table(tmp_path, text))
+    assert result.code == 0, result.err
+    return result, sorted(_ranked(tmp_path)["field_id"])
+
+
 def _ranked(tmp_path: Path, out: str = "ranked.csv") -> pd.DataFrame:
     return pd.read_csv(tmp_path / out, comment="#", dtype={"field_id": str})
 
@@ -112,10 +119,8 @@ def test_hole_01_area_with_an_empty_cell(tmp_path):
 
 
 def test_hole_01_an_empty_area_is_a_bad_row_not_the_base_area(tmp_path):
-    table = _table(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\nF2,,1.0\nF3,7,1.1\n")
-    result = _screen(tmp_path, table)
-    assert result.code == 0, result.err
-    assert sorted(_ranked(tmp_path)["field_id"]) == ["F1", "F3"]
+    result, ids = _screen_ids(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\nF2,,1.0\nF3,7,1.1\n")
+    assert ids == ["F1", "F3"]
     assert "line 3 (row 2): area_ha: no area given" in result.err
 
 
@@ -184,10 +189,8 @@ def test_hole_04_negative_energy_is_refused(tmp_path):
 
 
 def test_hole_04_negative_energy_row_is_skipped(tmp_path):
-    table = _table(tmp_path, "field_id,area_ha,moisture_late_winter\nF1,5,0.3\nF2,6,0.95\nF3,7,0.2\n")
-    result = _screen(tmp_path, table)
-    assert result.code == 0, result.err
-    assert sorted(_ranked(tmp_path)["field_id"]) == ["F1", "F3"]
+    result, ids = _screen_ids(tmp_path, "field_id,area_ha,moisture_late_winter\nF1,5,0.3\nF2,6,0.95\nF3,7,0.2\n")
+    assert ids == ["F1", "F3"]
     assert "line 3 (row 2): harvest.moisture_late_winter: at 0.95 moisture the net heating value" in result.err
 
 
@@ -365,26 +368,20 @@ def test_hole_08_semicolon_and_tab_tables(tmp_path, sep):
 
 
 def test_hole_08_an_unterminated_quote_skips_its_row_only(tmp_path):
-    table = _table(tmp_path, 'field_id,area_ha,site_factor\nF1,5,0.9\n"F2,6,1.0\nF3,7,1.1\n')
-    result = _screen(tmp_path, table)
-    assert result.code == 0, result.err
-    assert sorted(_ranked(tmp_path)["field_id"]) == ["F1", "F3"]
+    result, ids = _screen_ids(tmp_path, 'field_id,area_ha,site_factor\nF1,5,0.9\n"F2,6,1.0\nF3,7,1.1\n')
+    assert ids == ["F1", "F3"]
     assert "line 3 (row 2): malformed quoting: a quoted cell is not closed on its line" in result.err
 
 
 def test_hole_08_a_decoding_error_at_its_line(tmp_path):
-    table = _table(tmp_path, b"field_id,area_ha,site_factor\nF1,5,0.9\nF2,6,1.0\nF\xe93,7,1.1\nF4,8,1.2\n")
-    result = _screen(tmp_path, table)
-    assert result.code == 0, result.err
-    assert sorted(_ranked(tmp_path)["field_id"]) == ["F1", "F2", "F4"]
+    result, ids = _screen_ids(tmp_path, b"field_id,area_ha,site_factor\nF1,5,0.9\nF2,6,1.0\nF\xe93,7,1.1\nF4,8,1.2\n")
+    assert ids == ["F1", "F2", "F4"]
     assert "line 4 (row 3): not UTF-8 text (byte 0xe9 at byte 2 of the line)" in result.err
 
 
 def test_hole_08_one_huge_cell_refuses_its_row_only(tmp_path):
-    table = _table(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\nF2," + "9" * 1_000_000 + ",1.0\nF3,7,1.1\n")
-    result = _screen(tmp_path, table)
-    assert result.code == 0, result.err
-    assert sorted(_ranked(tmp_path)["field_id"]) == ["F1", "F3"]
+    result, ids = _screen_ids(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\nF2," + "9" * 1_000_000 + ",1.0\nF3,7,1.1\n")
+    assert ids == ["F1", "F3"]
     assert f"line 3 (row 2): cell 2 holds 1,000,000 characters; a field-table cell holds at most {MAX_CELL_CHARS:,}" \
         in result.err
 
