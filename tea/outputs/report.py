@@ -643,6 +643,11 @@ def _charts(case: Case, frame: pd.DataFrame, res: Results, anchor: str, density:
     ]
 
 
+def page_charts(case: Case, frame: pd.DataFrame, res: Results, anchor: str) -> list[charts.Chart]:
+    """The charts of a case's page: running total of cash, yield by stand age, soil carbon."""
+    return _charts(case, frame, res, anchor, 0)
+
+
 def _chart_view(chart: charts.Chart) -> dict[str, Any]:
     return {"title": chart.title, "alt": chart.alt, "svg": Markup(chart.svg)}
 
