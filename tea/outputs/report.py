@@ -51,6 +51,7 @@ import tea
 from tea import __version__
 from tea.inputs import display
 from tea.outputs import charts, terminal
+from tea.outputs.headline import headline
 from tea.inputs.case import Case
 from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
@@ -750,7 +751,7 @@ def _case_page(case: Case, frame: pd.DataFrame, res: Results, anchor: str, densi
     """Everything one case's page shows, as plain values for the template."""
     per = _per(case)
     area_v, area_u = display.area(case.area_ha, case.unit_system)
-    diff = _value(res, "eav_vs_current_use") or 0.0
+    head = headline(case, res)
     rows, condensed = _cash_rows(case, frame)
     chunks = _chunks(rows)
     dm_unit = display.convert(1.0, "t DM/ha", case.unit_system)[1]
@@ -762,10 +763,9 @@ def _case_page(case: Case, frame: pd.DataFrame, res: Results, anchor: str, densi
         "title": case.name,
         "field_line": f"{case.values.get('field.name', '')} · {display.number(area_v)} {area_u} · {case.preset.title}",
         "notes": case.values.get("case.notes") or "",
-        "verdict": ("Earns more than the field's current use" if diff >= 0
-                    else "Earns less than the field's current use"),
-        "verdict_tone": "good" if diff >= 0 else "bad",
-        "sentence": terminal.decision_sentence(case, res),
+        "verdict": head.verdict,
+        "verdict_tone": head.tone,
+        "sentence": head.sentence,
         "basis": (f"Figures per {per} unless marked whole field · money in {case.currency}, in today's money · "
                   f"discount rate {_rate_text(res)} · stand life {case.stand_life} years"),
         "tiles": _tiles(case, res),
@@ -820,8 +820,8 @@ def _overview(cases: Sequence[Case], ledgers: Sequence[pd.DataFrame], results: S
             "field": f"{case.values.get('field.name', '')}, {display.number(area_v)} {area_u}",
             "crop": case.preset.title,
             "demo": bool(case.values.get("case.demo")),
-            "sentence": terminal.decision_sentence(case, res),
-            "verdict_tone": "good" if (_value(res, "eav_vs_current_use") or 0.0) >= 0 else "bad",
+            "sentence": headline(case, res).sentence,
+            "verdict_tone": headline(case, res).tone,
             "basis": f"per {_per(case)}, {case.currency}, {_rate_text(res)}, {case.stand_life} years",
             "hash": res.case_hash,
         })

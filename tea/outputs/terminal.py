@@ -9,6 +9,7 @@ import pandas as pd
 from tea import __version__
 from tea.inputs import display
 from tea.inputs.case import Case, case_header, load_preset, preset_names
+from tea.outputs.headline import headline
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
 from tea.core.texts import CAUTIONS
@@ -139,7 +140,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         rate += f" (from {display.percent(res.discount_rate_given, 2)} nominal, {display.percent(res.inflation, 2)} inflation, Fisher)"
     out.append(f"Stand life {case.stand_life} years; discount rate {rate}; money in {case.currency}; case hash {case.hash}")
     out.append("")
-    out.append(decision_sentence(case, res))
+    head = headline(case, res)
+    out.append(head.verdict.upper() + ".")
+    out.append(head.sentence)
     out.append("")
     width = max(len(v) for v in LABELS.values()) + 2
     for title, names in SUMMARY_ROWS:
@@ -170,17 +173,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
 
 
 def decision_sentence(case: Case, res: Results) -> str:
-    """The decision in one plain sentence, with the numbers."""
-    per = "acre" if case.unit_system == "us_customary" else "ha"
-    diff, _ = display.convert(res["eav_vs_current_use"], "money/ha", case.unit_system)
-    word = "more" if diff >= 0 else "less"
-    rate = display.percent(res.discount_rate_real, 1)
-    text = (f"Over {case.stand_life} years at {rate} (real), the stand earns "
-            f"{display.money(abs(diff), case.currency)} per {per} per year {word} than the field's current use")
-    pay = res["payback_year"]
-    text += f", and its cash flow pays back in year {pay:.0f}." if pay is not None else \
-        ", and its cash flow does not pay back within the stand life."
-    return text
+    """The decision in one plain sentence, with the numbers (see :mod:`tea.outputs.headline`)."""
+    return headline(case, res).sentence
 
 
 def yearly_table(case: Case, frame: pd.DataFrame) -> str:
