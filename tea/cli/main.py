@@ -17,7 +17,8 @@ from typing import Sequence
 from tea import __version__
 from tea.cli import analysis as analysis_cli
 from tea.cli import explain as explain_cli
-from tea.cli.common import check_outputs as _check_outputs, load_all as _load_all
+from tea.cli.common import check_outputs as _check_outputs, check_suffixes as _check_suffixes, load_all as _load_all
+from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say
 from tea.core.errors import CaseError, OutputError, TeaError
 
 
@@ -26,6 +27,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
     from tea.model.ledger import build_ledger
     from tea.model.results import summarise
 
+    _check_suffixes([(args.xlsx, (".xlsx",), "the workbook (Excel 2007 and later; tea does not write .xls)"),
+                     (args.pdf, (".pdf",), "the printed summary"), (args.html, (".html",), "the HTML summary")])
     cases = _load_all(args.cases)
     ledgers, results = [], []
     outputs = [p for p in (args.xlsx, args.pdf, args.html) if p]
@@ -37,12 +40,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         frame = build_ledger(case)
         ledgers.append(frame)
         results.append(summarise(case, frame))
-    if args.json:
-        payload = [terminal.json_payload(c, f, r) for c, f, r in zip(cases, ledgers, results)]
-        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2, allow_nan=False))
-    else:
-        for c, f, r in zip(cases, ledgers, results):
-            print(terminal.summary_text(c, f, r, yearly=not args.brief))
+    # every file first: a reader that stops reading stdout early cannot cost an output
     if args.xlsx:
         from tea.outputs.workbook import write_portfolio, write_workbook
 
@@ -62,6 +60,12 @@ def _cmd_run(args: argparse.Namespace) -> int:
                 render_comparison(cases, ledgers, results, out, force=args.force, page_size=args.page_size,
                                   sensitivity=sensitivity)
             print(f"wrote {out}", file=sys.stderr)
+    if args.json:
+        payload = [terminal.json_payload(c, f, r) for c, f, r in zip(cases, ledgers, results)]
+        _say(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2, allow_nan=False))
+    else:
+        for c, f, r in zip(cases, ledgers, results):
+            _say(terminal.summary_text(c, f, r, yearly=not args.brief))
     return 0
 
 
@@ -69,7 +73,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
     def report(path: str, case) -> None:
         for w in case.warnings:
             print(f"warning: {w}", file=sys.stderr)
-        print(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
+        _say(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
 
     _load_all(args.cases, report)
     return 0
@@ -85,14 +89,14 @@ def _cmd_new(args: argparse.Namespace) -> int:
     from tea.core.files import atomic_write_text
 
     atomic_write_text(path, text)
-    print(f"wrote {path}: a starter case for preset {args.crop}; edit it, then `tea check {path}`")
+    _say(f"wrote {path}: a starter case for preset {args.crop}; edit it, then `tea check {path}`")
     return 0
 
 
 def _cmd_presets(args: argparse.Namespace) -> int:
     from tea.outputs import terminal
 
-    print(terminal.presets_text(verbose=args.verbose))
+    _say(terminal.presets_text(verbose=args.verbose))
     return 0
 
 
@@ -158,7 +162,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted; no output file was left half-written", file=sys.stderr)
         return 130
-    except BrokenPipeError:
+    except BrokenPipeError:  # a reader that went away: no more printing, and not an error
+        _quiet_stdout()
         return 0
     except Exception as exc:  # a bug: one line, and the traceback only on request
         if os.environ.get("TEA_DEBUG"):

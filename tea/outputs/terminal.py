@@ -163,8 +163,6 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         out.append(f"Yearly ledger (per {per}; {case.currency}; `tea run --json` gives every line)")
         out.append(yearly_table(case, frame))
         out.append("")
-    for w in case.warnings:
-        out.append(f"warning: {w}")
     if case.preset.non_native_warning:
         out.append("note: this crop is non-native in many regions: the planting-rules caution below applies.")
     out.append("Cautions:")
