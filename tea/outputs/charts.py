@@ -20,6 +20,7 @@ mathematical markup.
 
 from __future__ import annotations
 
+import base64
 import io
 import math
 import os
@@ -97,6 +98,11 @@ class Chart:
     svg: str
     alt: str
     ticks: tuple[tuple[str, float, str], ...] = ()
+
+    @property
+    def data_uri(self) -> str:
+        """The SVG as a ``data:`` URL (the PDF engine draws it as an image: the same picture, laid out faster)."""
+        return "data:image/svg+xml;base64," + base64.b64encode(self.svg.encode("utf-8")).decode("ascii")
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -487,6 +493,19 @@ def tornado(
     title : str, optional
         Heading above the chart; default "What moves the <figure>".
     """
+    fig = tornado_figure(labels, low, high, base, unit_label, figure=figure, width_in=width_in, row_in=row_in,
+                         scale=scale)
+    top = max(range(len(labels)), key=lambda i: abs(high[i] - low[i]))
+    alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
+           f"largest swing first; base {_num(base)}; the largest swing, {' '.join(labels[top].split())}: "
+           f"from {_num(low[top])} to {_num(high[top])}.")
+    return _finish(fig, name, title or f"What moves the {figure}", alt)
+
+
+def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[float], base: float, unit_label: str,
+                   *, figure: str = "NPV", width_in: float = 7.2, row_in: float = TORNADO_ROW_IN,
+                   scale: float = 1.0) -> Figure:
+    """The figure of :func:`tornado` (its arguments), before it becomes SVG; also saved by ``--plot``."""
     n = len(labels)
     if not (n == len(low) == len(high)) or n == 0:
         raise ValueError("tornado: expected one low and one high value per label (at least one)")
@@ -535,11 +554,7 @@ def tornado(
         fig.tight_layout(pad=0.3)
         # room to spare on the left: the page's text engine may set the labels a little wider than matplotlib
         fig.subplots_adjust(left=fig.subplotpars.left + TORNADO_LABEL_SLACK_IN / width_in)
-    top = max(range(n), key=lambda i: abs(high[i] - low[i]))
-    alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
-           f"largest swing first; base {_num(base)}; the largest swing, {' '.join(labels[top].split())}: "
-           f"from {_num(low[top])} to {_num(high[top])}.")
-    return _finish(fig, name, title or f"What moves the {figure}", alt)
+    return fig
 
 
 def finite(values: Sequence[float]) -> list[float]:
