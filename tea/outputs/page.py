@@ -21,6 +21,7 @@ from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.outputs import charts, display, terminal
+from tea.outputs.advice import grower_warnings, source_text
 from tea.outputs.headline import headline
 
 #: densest type size; a page with the tornado chart of NPV has one step more, BESIDE
@@ -94,14 +95,8 @@ def rate_text(res: Results) -> str:
 
 
 def _source(case: Case, path: str) -> str:
-    """Where a value came from, in plain words."""
-    note = case.notes.get(path, "") or case.origin.get(path, "")
-    if note.startswith("preset "):
-        name, _, rest = note[len("preset "):].partition(": ")
-        return f"crop preset ({_words(name)}): {rest}"
-    if note == "default":
-        return "tea default"
-    return note
+    """Where a value came from, as the grower's page names it (see :mod:`tea.outputs.advice`)."""
+    return source_text(case, path)
 
 
 # ----------------------------------------------------------------------------- a case page
@@ -270,7 +265,7 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
                   f"climate, {_words(v['field.soil'])} soil", _source(case, "field.area_ha")),
         ("Current use", f"{_words(v['field.current_use'])}, earning {fig_text(case, res, 'current_margin')}",
          _source(case, "field.current_margin_per_ha")),
-        ("Crop", case.preset.title, f"crop preset ({_words(case.preset.name)})"),
+        ("Crop", case.preset.title, f"crop preset {_words(case.preset.name)}"),
         ("Stand life", f"{case.stand_life} years", _source(case, "finance.stand_life_years")),
         ("Mature yield", f"{_quantity(case, v['yield.mature_t_dm_per_ha'], 't DM/ha/yr')} "
                          f"× site factor {v['yield.site_factor']:.2f}", _source(case, "yield.mature_t_dm_per_ha")),
@@ -393,7 +388,7 @@ class CasePage:
                 "condensed": condensed,
             },
             "assumptions": _assumptions(case, res),
-            "warnings": [print_minus(w) for w in case.warnings],
+            "warnings": [print_minus(w) for w in grower_warnings(case)],
             "cautions": list(CAUTIONS),
             "footer": {"version": res.version, "hash": res.case_hash, "source": Path(case.source).name,
                        "demo": bool(case.values.get("case.demo")), "page": ""},
