@@ -49,9 +49,20 @@ class Preset:
     name: str
     title: str
     kind: str
-    non_native_warning: bool
     values: Mapping[str, Any]
     sources: Mapping[str, str]
+    aliases: tuple[str, ...] = ()
+    native_regions: tuple[str, ...] = ()
+    non_native_regions: tuple[str, ...] = ()
+    region_sources: Mapping[str, str] = field(default_factory=dict)
+
+    def non_native_in(self, region: str | None) -> bool | None:
+        """Whether the crop is non-native in a region (True/False), or None where the preset does not say."""
+        if region in self.non_native_regions:
+            return True
+        if region in self.native_regions:
+            return False
+        return None
 
 
 def preset_names() -> list[str]:
@@ -78,19 +89,23 @@ def load_preset(name: str) -> Preset:
             k, factor = found
             values[k.path] = _scale(entry["value"], factor)
             sources[k.path] = entry["source"]
-    return Preset(name, head["title"], head["kind"], bool(head.get("non_native_warning")), values, sources)
+    regions = {what: head.get(f"{what}_regions", {"value": [], "source": ""}) for what in ("native", "non_native")}
+    return Preset(name, head["title"], head["kind"], values, sources, tuple(head.get("aliases", ())),
+                  tuple(regions["native"]["value"]), tuple(regions["non_native"]["value"]),
+                  {"native": regions["native"]["source"], "non-native": regions["non_native"]["source"]})
 
 
-#: crop names an advisor may type for a preset -> the preset that models that kind of crop
-PRESET_HINTS = {
-    "miscanthus": "rhizome_grass",
-    "elephant grass": "rhizome_grass",
-    "switchgrass": "seeded_grass",
-    "reed canary grass": "seeded_grass",
-    "willow": "coppice",
-    "poplar": "coppice",
-    "src": "coppice",
-}
+def preset_for(name: str) -> str | None:
+    """The preset a crop name stands for: a preset's own name, or one of its aliases (any case), else None.
+
+    >>> preset_for("Miscanthus"), preset_for("willow"), preset_for("rhizome_grass"), preset_for("bamboo")
+    ('rhizome_grass', 'coppice', 'rhizome_grass', None)
+    """
+    word = name.strip().lower()
+    for preset in preset_names():
+        if word == preset or word in (a.lower() for a in load_preset(preset).aliases):
+            return preset
+    return None
 
 
 # ----------------------------------------------------------------------------- the case
@@ -429,12 +444,17 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     preset = None
     preset_name = values.get("crop.preset")
     if isinstance(preset_name, str):
-        try:
-            preset = load_preset(preset_name)
-        except KeyError:
-            hint = PRESET_HINTS.get(preset_name.strip().lower())
-            bad("crop.preset", f"unknown crop preset {preset_name!r}; expected one of {', '.join(preset_names())}"
-                + (f"; for {preset_name} use {hint!r}" if hint else _suggest(preset_name, preset_names())))
+        found = preset_for(preset_name)
+        if found is None:
+            bad("crop.preset", f"unknown crop preset {preset_name!r}; expected one of {', '.join(preset_names())} "
+                "or a crop name `tea presets` lists" + _suggest(preset_name, preset_names()))
+        else:
+            preset = load_preset(found)
+            if found != preset_name:  # a crop name: the preset that models it, and the name kept for the outputs
+                values["crop.preset"] = found
+                notes["crop.preset"] = f"case file ({preset_name})"
+                if "crop.name" not in values:
+                    values["crop.name"], origin["crop.name"], notes["crop.name"] = preset_name, "case", "case file"
     if preset is not None:
         for path, value in preset.values.items():
             if path not in values:

@@ -99,3 +99,27 @@ def grower_warning(text: str) -> str:
 def grower_warnings(case: Case) -> list[str]:
     """Every warning of a case, said for a grower, each once."""
     return list(dict.fromkeys(grower_warning(w) for w in case.warnings))
+
+
+#: the TDWG botanical continents (tea.inputs.schema.REGIONS) in words
+REGION_WORDS = {"europe": "Europe", "africa": "Africa", "asia_temperate": "temperate Asia",
+                "asia_tropical": "tropical Asia", "australasia": "Australasia", "pacific": "the Pacific",
+                "northern_america": "northern America", "southern_america": "southern America",
+                "antarctic": "the Antarctic"}
+
+
+def crop_name(case: Case) -> str:
+    """What the crop is called on the outputs: the case's ``crop.name``, else the preset's name in words."""
+    if case.values.get("crop.name"):
+        return case.values["crop.name"]
+    words = case.preset.name.replace("_", " ")
+    return f"{words} ({case.preset.aliases[0]} type)" if case.preset.aliases else words
+
+
+def non_native_caution(case: Case) -> str | None:
+    """The caution for a crop the preset says is non-native in the case's region (``field.region``), else None."""
+    region = case.values.get("field.region")
+    if not case.preset.non_native_in(region):
+        return None
+    return (f"The crop ({crop_name(case)}) is not native to {REGION_WORDS.get(region, region)}: planting it may be "
+            "regulated (invasive-species and planting rules); check local rules before planting.")

@@ -14,19 +14,11 @@ from tea import __version__
 from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, display, terminal
+from tea.outputs import charts, display, side_by_side
+from tea.outputs.advice import crop_name
 from tea.outputs.headline import headline
-from tea.outputs.page import Cell, chart_view, fig_text, per_area, rate_text, tone, value_of
+from tea.outputs.page import Cell, chart_view, per_area, print_minus, rate_text, tone, value_of
 
-COMPARE_ROWS = (
-    ("Money", ("npv", "npv_vs_current_use", "eav_vs_current_use", "irr", "current_margin", "establishment_cost")),
-    ("Risk", ("payback_year", "discounted_payback_year", "peak_funding_need", "peak_funding_year",
-              "breakeven_price", "breakeven_mature_yield_t_dm_per_ha")),
-    ("Carbon", ("soc_gain_t_c", "ghg_net_t_co2e", "carbon_credit_pv")),
-)
-COMPARE_WHOLE = ("npv", "npv_vs_current_use", "peak_funding_need")
-#: figures coloured by their sign (gain or loss) in the comparison
-COMPARE_TONED = ("npv", "npv_vs_current_use", "eav_vs_current_use")
 #: cases per column block of the side-by-side table
 CASES_PER_TABLE = 4
 
@@ -36,33 +28,27 @@ def overview(cases: Sequence[Case], ledgers: Sequence[pd.DataFrame], results: Se
     cols = []
     for i, (case, res) in enumerate(zip(cases, results)):
         area_v, area_u = display.area(case.area_ha, case.unit_system)
+        head = headline(case, res)
         cols.append({
             "anchor": f"case-{i}",
             "number": i + 1,
             "title": case.name,
             "field": f"{case.values.get('field.name', '')}, {display.number(area_v)} {area_u}",
-            "crop": case.preset.title,
+            "crop": crop_name(case),
             "demo": bool(case.values.get("case.demo")),
-            "sentence": headline(case, res).sentence,
-            "verdict_tone": headline(case, res).tone,
+            "sentence": head.sentence,
+            "verdict_tone": head.tone,
             "basis": f"per {per_area(case)}, {case.currency}, {rate_text(res)}, {case.stand_life} years",
+            "life": f"{case.stand_life}-year stand",
             "hash": res.case_hash,
         })
     groups = []
-    for title, names in COMPARE_ROWS:
-        rows = []
-        for name in names:
-            cells = []
-            for case, res in zip(cases, results):
-                v = value_of(res, name)
-                text = "–" if v is None else fig_text(case, res, name)
-                cells.append(Cell(text, tone(v) if name in COMPARE_TONED else ""))
-            rows.append({"label": terminal.LABELS.get(name, name), "whole": False, "cells": cells})
-            if name in COMPARE_WHOLE:
-                rows.append({"label": f"{terminal.LABELS.get(name, name)}, whole field", "whole": True,
-                             "cells": [Cell("–" if value_of(r, name) is None else fig_text(c, r, name, whole=True))
-                                       for c, r in zip(cases, results)]})
-        groups.append({"title": title, "rows": rows})
+    for title, group in side_by_side.rows(cases, results):
+        groups.append({"title": title, "rows": [
+            {"label": r.label, "whole": r.whole,
+             "cells": [Cell(print_minus(text), tone(value) if r.name in side_by_side.TONED and not r.whole else "")
+                       for text, value in r.cells]}
+            for r in group]})
     blocks = []
     for start in range(0, len(cases), CASES_PER_TABLE):
         sl = slice(start, start + CASES_PER_TABLE)
@@ -93,7 +79,7 @@ def _panels(cases, ledgers, results) -> list[tuple[str, list[charts.Series]]]:
         unit = f"{case.currency} per {per_area(case)}"
         values = [display.convert(float(x), "money/ha", case.unit_system)[0] for x in frame["cumulative_cash_flow"]]
         panels.setdefault((unit, case.unit_system), []).append(
-            charts.Series(f"{i + 1}. {case.name}", [float(y) for y in frame["year"]], values,
+            charts.Series(f"{i + 1}. {case.name} ({crop_name(case)})", [float(y) for y in frame["year"]], values,
                           value_of(res, "payback_year")))
     return [(unit, series) for (unit, _), series in panels.items()]
 

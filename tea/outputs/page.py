@@ -21,7 +21,7 @@ from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.outputs import charts, display, terminal
-from tea.outputs.advice import grower_warnings, source_text
+from tea.outputs.advice import crop_name, grower_warnings, non_native_caution, source_text
 from tea.outputs.headline import headline
 
 #: densest type size; a page with the tornado chart of NPV has one step more, BESIDE
@@ -389,7 +389,7 @@ class CasePage:
             },
             "assumptions": _assumptions(case, res),
             "warnings": [print_minus(w) for w in grower_warnings(case)],
-            "cautions": list(CAUTIONS),
+            "cautions": ([non_native_caution(case)] if non_native_caution(case) else []) + list(CAUTIONS),
             "footer": {"version": res.version, "hash": res.case_hash, "source": Path(case.source).name,
                        "demo": bool(case.values.get("case.demo")), "page": ""},
         }
