@@ -128,3 +128,34 @@ def test_terminal_lines_stay_within_100_characters():
     res = run_cli(["run", CLAY])
     assert res.code == 0
     assert max(len(line) for line in res.out.splitlines()) <= 100  # common practice: a 100-column terminal
+
+
+@pytest.mark.parametrize(("section", "key", "value", "written"), [
+    ("yield", "site_factor", 85, "0.85 for 85"),
+    ("yield", "ramp_up_fractions", [0, 40, 80], "[0, 0.4, 0.8] for [0, 40, 80]"),
+    ("revenue", "price_change_per_year", 2, "0.02 for 2"),
+])
+def test_a_percentage_typed_as_a_whole_number_gets_a_hint(demo_mappings, section, key, value, written):
+    """common practice: 85 typed for 85 % is the usual slip; the hint shows the fraction to write."""
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data[section][key] = value
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_text(to_toml(data), source="p.toml")
+    (problem,) = err.value.problems
+    assert problem.key == f"{section}.{key}" and "looks like a percentage" in problem.message
+    assert written in problem.message
+
+
+def test_a_missing_price_in_a_us_case_names_the_us_key(demo_mappings):
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    data["revenue"].pop("price_per_short_ton_dm")
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_text(to_toml(data), source="us.toml")
+    assert [p.key for p in err.value.problems] == ["revenue.price_per_short_ton_dm"]
+    assert "per short ton of dry matter" in err.value.problems[0].message
+
+
+def test_price_per_gj_unit_is_currency_per_gj():
+    from tea.inputs import schema
+
+    assert schema.BY_PATH["revenue.price_per_gj"].unit_text("metric", "EUR") == "EUR/GJ"

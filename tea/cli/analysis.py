@@ -47,9 +47,10 @@ def _warn(case) -> None:
 
 def _save_figure(fig, path: str, force: bool) -> None:
     from tea.core.files import atomic_write
+    from tea.outputs import plots
 
     suffix = Path(path).suffix.lower().lstrip(".") or "png"
-    atomic_write(path, lambda tmp: fig.savefig(tmp, format=suffix), force=force)
+    atomic_write(path, lambda tmp: plots.save(fig, tmp, suffix), force=force)
     print(f"wrote {path}", file=sys.stderr)
 
 
@@ -74,10 +75,14 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
     _check_figure_paths([args.plot, args.surface_plot], args.force)
     _warn(case)
     res = sensitivity.run(case, with_surface=not args.no_surface)
+    from tea.outputs import plots
+
     if args.plot:  # files first: a reader that stops reading stdout early cannot cost an output
-        _save_figure(analysis_charts.tornado_chart(res, figure=args.figure), args.plot, args.force)
+        _save_figure(plots.tornado(res, figure=args.figure), args.plot, args.force)
     if args.surface_plot:
-        _save_figure(analysis_charts.surface_chart(res), args.surface_plot, args.force)
+        if res.surface is None:
+            res.surface = sensitivity.surface(case)
+        _save_figure(plots.surface(res), args.surface_plot, args.force)
     if args.json:
         say(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
     else:
@@ -96,7 +101,9 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     _warn(case)
     res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
     if args.plot:  # files first
-        _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
+        from tea.outputs import plots
+
+        _save_figure(plots.risk(res), args.plot, args.force)
     if args.json:
         say(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
     else:

@@ -360,6 +360,12 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str |
         if k.hi is not None and (v > k.hi or (k.hi_open and v == k.hi)):
             sign = "<" if k.hi_open else "<="
             unit = " (as a fraction: 0.2 means 20 %)" if k.unit.startswith("fraction") and k.hi == 1.0 else ""
+            if k.unit.startswith("fraction") and all(x / 100 <= k.hi and (k.lo is None or x / 100 >= k.lo)
+                                                     for x in items):  # a percentage typed as a whole number
+                fractions = [f"{x / 100:g}" for x in items]
+                written = f"[{', '.join(fractions)}]" if isinstance(value, list) else fractions[0]
+                return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
+                        f"write fractions, {written} for {value!r}")
             return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
     return None
 
@@ -612,7 +618,10 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     if has_t and has_gj:
         bad("revenue.price_per_gj", "give one price, price_per_t_dm or price_per_gj, not both")
     elif not has_t and not has_gj and "revenue.price_per_t_dm" not in bad_keys and "revenue.price_per_gj" not in bad_keys:
-        bad("revenue.price_per_t_dm", "missing value: expected a biomass price per t of dry matter (or price_per_gj)")
+        system = values.get("case.units") if values.get("case.units") in units.SYSTEMS else "metric"
+        key = units.spell(schema.BY_PATH["revenue.price_per_t_dm"].template, system)
+        per = "short ton" if system == "us_customary" else "t"
+        bad(f"revenue.{key}", f"missing value: expected a biomass price per {per} of dry matter (or price_per_gj)")
 
     y, rec = values.get("yield.mature_t_dm_per_ha"), values.get("yield.record_t_dm_per_ha")
     if isinstance(y, (int, float)) and isinstance(rec, (int, float)) and y > 0 and rec > 0:

@@ -213,7 +213,8 @@ KEYS: tuple[Key, ...] = (
     # --- revenue -----------------------------------------------------------------
     _k("revenue", "price_per_{t}_dm", "float", None, "Biomass price per t of dry matter delivered (give this or price_per_gj).",
        money=True, lo=0.0),
-    _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True, lo=0.0),
+    _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True,
+       lo=0.0, unit="/GJ"),
     _k("revenue", "heating_value_gj_per_{t}_dm", "float", PRESET, "Net heating value of the dry matter.", unit="GJ",
        lo=0.0, lo_open=True, warn_lo=12.0, warn_hi=22.0),
     _k("revenue", "price_change_per_year", "float", 0.0,

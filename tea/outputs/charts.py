@@ -120,7 +120,7 @@ def _num(value: float) -> str:
     return display.money(value, digits=digits).replace("-", "\u2212")
 
 
-def _formatter() -> ScalarFormatter:
+def formatter() -> ScalarFormatter:
     """matplotlib's own tick labels: as many decimals as the tick step needs, every label its gridline's value.
 
     No offset and no scientific notation, so that a label reads as the value it marks.
@@ -153,8 +153,8 @@ def _new_figure(width_in: float, height_in: float) -> Figure:
 def _style_axes(ax, years: Sequence[float]) -> None:
     ax.set_facecolor("none")
     ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=8))  # whole years only
-    ax.xaxis.set_major_formatter(_formatter())
-    ax.yaxis.set_major_formatter(_formatter())
+    ax.xaxis.set_major_formatter(formatter())
+    ax.yaxis.set_major_formatter(formatter())
     ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
     if len(years):
         ax.set_xlim(min(years) - 0.6, max(years) + 0.6)
@@ -539,7 +539,7 @@ def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[f
         ax.tick_params(axis="y", length=0)
         ax.set_ylim(-0.6, n - 0.4)
         ax.set_xlim(lo_all - pad * span, hi_all + pad * span)
-        ax.xaxis.set_major_formatter(_formatter())
+        ax.xaxis.set_major_formatter(formatter())
         ax.xaxis.set_major_locator(MaxNLocator(nbins=3 if narrow else 8))
         ax.grid(axis="x", color="#dddddd", linewidth=0.4)
         ax.set_axisbelow(True)
