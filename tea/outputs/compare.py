@@ -59,7 +59,7 @@ def overview(cases: Sequence[Case], ledgers: Sequence[pd.DataFrame], results: Se
         })
     width = 7.2 if size == "A4" else 7.4
     chart = charts.compare_cumulative(_panels(cases, ledgers, results), name="compare-cash",
-                                      width_in=width, height_in=2.6)
+                                      width_in=width, height_in=1.65 if size == "A4" else 1.4)  # Letter is shorter
     return {
         "count": len(cases),
         "cols": cols,
@@ -79,7 +79,7 @@ def _panels(cases, ledgers, results) -> list[tuple[str, list[charts.Series]]]:
         unit = f"{case.currency} per {per_area(case)}"
         values = [display.convert(float(x), "money/ha", case.unit_system)[0] for x in frame["cumulative_cash_flow"]]
         panels.setdefault((unit, case.unit_system), []).append(
-            charts.Series(f"{i + 1}. {case.name} ({crop_name(case)})", [float(y) for y in frame["year"]], values,
+            charts.Series(f"{i + 1}. {case.name}: {crop_name(case)}", [float(y) for y in frame["year"]], values,
                           value_of(res, "payback_year")))
     return [(unit, series) for (unit, _), series in panels.items()]
 

@@ -57,7 +57,7 @@ def _fact(case: Case, res: Results, name: str) -> str:
     return display.percent(res.discount_rate_real, 1)
 
 
-def _text(case: Case, res: Results, name: str, whole: bool = False) -> tuple[str, float | None]:
+def _text(case: Case, res: Results, name: str, whole: bool = False, short: bool = False) -> tuple[str, float | None]:
     if name in FACTS:
         return _fact(case, res, name), None
     value = res.per_ha.get(name)
@@ -67,13 +67,14 @@ def _text(case: Case, res: Results, name: str, whole: bool = False) -> tuple[str
             return "no loan", None
     if value is None:
         return "–", None
-    if name in ("payback_year", "discounted_payback_year"):
-        return f"year {value:.0f}", value  # the interpolated years are on each case's own page
+    if short and name in ("payback_year", "discounted_payback_year"):
+        return f"year {value:.0f}", value  # the interpolated years are in each case's own summary
     return terminal._fig(res, case, name, whole=whole), value
 
 
-def rows(cases: Sequence[Case], results: Sequence[Results]) -> list[tuple[str, list[Row]]]:
-    """The groups of rows for these cases (the loan group only where a case has a loan)."""
+def rows(cases: Sequence[Case], results: Sequence[Results], short: bool = False) -> list[tuple[str, list[Row]]]:
+    """The groups of rows for these cases (the loan group only where a case has a loan); ``short``: paybacks
+    as whole years only, for the terminal's narrow columns."""
     out = []
     any_loan = any(r.per_ha.get("loan_principal") for r in results)
     any_credit = any(c.values.get("carbon.credit_price_per_t_co2e") for c in cases)
@@ -85,7 +86,7 @@ def rows(cases: Sequence[Case], results: Sequence[Results]) -> list[tuple[str, l
             if name == "carbon_credit_pv" and not any_credit:
                 continue
             label = FACTS.get(name) or terminal.LABELS.get(name, name)
-            group.append(Row(name, label, False, tuple(_text(c, r, name) for c, r in zip(cases, results))))
+            group.append(Row(name, label, False, tuple(_text(c, r, name, short=short) for c, r in zip(cases, results))))
             if name in WHOLE:
                 group.append(Row(name, f"{label}, whole field", True,
                                  tuple(_text(c, r, name, whole=True) for c, r in zip(cases, results))))
@@ -95,7 +96,7 @@ def rows(cases: Sequence[Case], results: Sequence[Results]) -> list[tuple[str, l
 
 def text_table(cases: Sequence[Case], results: Sequence[Results], width: int = WIDTH) -> str:
     """The cases side by side as plain text, in blocks of as many columns as fit ``width`` characters."""
-    groups = rows(cases, results)
+    groups = rows(cases, results, short=True)
     labels = [r.label for _, g in groups for r in g] + [t for t, _ in groups]
     label_w = min(max(len(x) for x in labels), 34)
     cols = []
