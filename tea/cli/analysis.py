@@ -75,14 +75,10 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
     _check_figure_paths([args.plot, args.surface_plot], args.force)
     _warn(case)
     res = sensitivity.run(case, with_surface=not args.no_surface)
-    from tea.outputs import plots
-
     if args.plot:  # files first: a reader that stops reading stdout early cannot cost an output
-        _save_figure(plots.tornado(res, figure=args.figure), args.plot, args.force)
+        _save_figure(analysis_charts.tornado_chart(res, figure=args.figure), args.plot, args.force)
     if args.surface_plot:
-        if res.surface is None:
-            res.surface = sensitivity.surface(case)
-        _save_figure(plots.surface(res), args.surface_plot, args.force)
+        _save_figure(analysis_charts.surface_chart(res), args.surface_plot, args.force)
     if args.json:
         say(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
     else:
@@ -101,9 +97,7 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     _warn(case)
     res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
     if args.plot:  # files first
-        from tea.outputs import plots
-
-        _save_figure(plots.risk(res), args.plot, args.force)
+        _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
     if args.json:
         say(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
     else:

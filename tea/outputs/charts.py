@@ -113,7 +113,7 @@ def plain(text: str) -> str:
 
 def _num(value: float) -> str:
     """A number in a sentence or beside a bar: thousands separators, a true minus sign (U+2212)."""
-    from tea.outputs import display
+    from tea.inputs import display
 
     a = abs(value)
     digits = 0 if a >= 10 or float(value).is_integer() else 1 if a >= 1 else 2

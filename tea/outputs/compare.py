@@ -14,7 +14,8 @@ from tea import __version__
 from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, display, side_by_side
+from tea.inputs import display
+from tea.outputs import charts, side_by_side
 from tea.outputs.advice import crop_name
 from tea.outputs.headline import headline
 from tea.outputs.page import Cell, chart_view, per_area, print_minus, rate_text, tone, value_of

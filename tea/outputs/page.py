@@ -2,7 +2,7 @@
 
 The page only renders: every figure comes from :class:`tea.model.results.Results`
 and the ledger, formatted by :mod:`tea.outputs.terminal` and
-:mod:`tea.outputs.display` exactly as the terminal shows it, in the case's
+:mod:`tea.inputs.display` exactly as the terminal shows it, in the case's
 units and currency. Charts are drawn once per page (:func:`page_charts`).
 """
 
@@ -20,7 +20,8 @@ from markupsafe import Markup
 from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, display, terminal
+from tea.inputs import display
+from tea.outputs import charts, terminal
 from tea.outputs.advice import crop_name, grower_warnings, non_native_caution, source_text
 from tea.outputs.headline import headline
 

@@ -15,7 +15,8 @@ from matplotlib.figure import Figure
 from matplotlib.ticker import MaxNLocator
 
 from tea.inputs import riskspec, units
-from tea.outputs import charts, display
+from tea.inputs import display
+from tea.outputs import charts
 from tea.outputs.page import per_area
 from tea.outputs.whatmoves import FIGURES, tornado_parts
 

@@ -14,7 +14,8 @@ from typing import Sequence
 
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import display, terminal
+from tea.inputs import display
+from tea.outputs import terminal
 from tea.outputs.advice import crop_name
 
 #: figure rows by group; "crop", "field", "stand_life" and "discount_rate" are facts of the case

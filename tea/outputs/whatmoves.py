@@ -11,7 +11,8 @@ from __future__ import annotations
 from typing import Any
 
 from tea.inputs.case import Case
-from tea.outputs import charts, display
+from tea.inputs import display
+from tea.outputs import charts
 from tea.outputs.page import BESIDE, chart_view, per_area, print_minus
 
 
