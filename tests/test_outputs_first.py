@@ -48,18 +48,6 @@ def test_a_reader_gone_before_the_first_line_costs_no_file(tmp_path):
     assert f"wrote {html}" in err and f"wrote {xlsx}" in err
 
 
-def test_files_are_announced_before_the_summary(tmp_path):
-    """In one stream (stdout and stderr joined), the 'wrote' lines come before the summary."""
-    html = tmp_path / "d.html"
-    proc = subprocess.run([sys.executable, "-m", "tea", "run", str(CASE), "--brief", "--html", str(html)],
-                          stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, cwd=ROOT, timeout=300)
-    assert proc.returncode == 0, proc.stdout
-    lines = proc.stdout.splitlines()
-    wrote = next(i for i, line in enumerate(lines) if line.startswith("wrote "))
-    title = next(i for i, line in enumerate(lines) if line.startswith("Tessel Hollow"))
-    assert wrote < title
-
-
 def test_an_xls_name_is_refused_before_any_work(tmp_path):
     res = run_cli(["run", CASE, "--xlsx", tmp_path / "book.xls"])
     assert res.code == 2
