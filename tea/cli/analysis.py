@@ -15,6 +15,7 @@ import json
 import sys
 from pathlib import Path
 
+from tea.cli.common import say
 from tea.core.errors import CaseError, Problem
 
 
@@ -50,17 +51,11 @@ FIGURE_SUFFIXES = (".png", ".svg", ".pdf")
 
 def _save_figure(fig, path: str, force: bool) -> None:
     """Write a chart with the same bytes for the same chart: no date, fixed SVG ids."""
-    import matplotlib
-
     from tea.core.files import atomic_write
+    from tea.outputs import plots
 
     suffix = Path(path).suffix.lower().lstrip(".") or "png"
-    metadata = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None}}.get(suffix)
-
-    def write(tmp: Path) -> None:
-        with matplotlib.rc_context({"svg.hashsalt": "tea-chart"}):
-            fig.savefig(tmp, format=suffix, metadata=metadata)
-    atomic_write(path, write, force=force)
+    atomic_write(path, lambda tmp: plots.save(fig, tmp, suffix), force=force)
     print(f"wrote {path}", file=sys.stderr)
 
 
@@ -80,14 +75,14 @@ def _cmd_sensitivity(args: argparse.Namespace) -> int:
     _check_figure_paths([args.plot, args.surface_plot], args.force, args.case)
     _warn(case)
     res = sensitivity.run(case, with_surface=not args.no_surface)
-    if args.json:
-        print(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
-    else:
-        print(analysis_text.sensitivity_text(res, figure=args.figure))
-    if args.plot:
+    if args.plot:  # files first: a reader that stops reading stdout early cannot cost an output
         _save_figure(analysis_charts.tornado_chart(res, figure=args.figure), args.plot, args.force)
     if args.surface_plot:
         _save_figure(analysis_charts.surface_chart(res), args.surface_plot, args.force)
+    if args.json:
+        say(json.dumps(sensitivity.to_dict(res), indent=2, allow_nan=False))
+    else:
+        say(analysis_text.sensitivity_text(res, figure=args.figure))
     return 0
 
 
@@ -101,12 +96,12 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     _check_figure_paths([args.plot], args.force, args.case)
     _warn(case)
     res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
-    if args.json:
-        print(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
-    else:
-        print(analysis_text.risk_text(res))
-    if args.plot:
+    if args.plot:  # files first
         _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
+    if args.json:
+        say(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
+    else:
+        say(analysis_text.risk_text(res))
     return 0
 
 
@@ -131,11 +126,12 @@ def _cmd_screen(args: argparse.Namespace) -> int:
                            chunk_rows=args.chunk_rows, progress=_progress(args))
     for w in result.warnings:
         print(f"warning: {w}", file=sys.stderr)
-    screen_files.write_table(result, out, force=args.force)
-    print(screen_files.summary_text(result, top=args.top))
-    print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
+    screen_files.write_table(result, out, force=args.force)  # files first, then the printing
     if result.bad:
         screen_files.write_errors(result, errors, force=args.force)
+    say(screen_files.summary_text(result, top=args.top))
+    print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
+    if result.bad:
         print(f"skipped {result.rows_skipped} of {result.rows_read} rows; "
               f"{len(result.bad)} problems listed in {errors}", file=sys.stderr)
         for b in result.bad[:5]:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+import sys
 from pathlib import Path
 from typing import Sequence
 
@@ -56,6 +58,28 @@ def brief_path(p: str | Path) -> str:
     from tea.core.safe_text import SHOWN_LIMIT, clip
 
     return clip(str(p), SHOWN_LIMIT)
+
+
+def say(text: str = "") -> None:
+    """Print results to stdout; once the reader has gone (a closed pipe), print nothing more and go on.
+
+    The run itself (files written, exit status) is not cut short by a reader
+    that stopped reading, e.g. ``tea run X --pdf a.pdf | head -3``.
+    """
+    try:
+        print(text, flush=True)
+    except BrokenPipeError:
+        quiet_stdout()
+
+
+def quiet_stdout() -> None:
+    """Send whatever is still printed (and Python's last flush at exit) to the null device."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):  # not a real file (e.g. captured in tests)
+        pass
 
 
 def load_all(paths: Sequence[str], on_loaded=None) -> list:

@@ -22,6 +22,7 @@ from tea import __version__
 from tea.cli import analysis as analysis_cli
 from tea.cli import explain as explain_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
+from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say
 from tea.core.errors import CaseError, OutputError, TeaError, WriteError
 
 #: each exception class the command line expects, and its exit status (the first match wins)
@@ -53,12 +54,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         frame = build_ledger(case)
         ledgers.append(frame)
         results.append(summarise(case, frame))
-    if args.json:
-        payload = [terminal.json_payload(c, f, r) for c, f, r in zip(cases, ledgers, results)]
-        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2, allow_nan=False))
-    else:
-        for c, f, r in zip(cases, ledgers, results):
-            print(terminal.summary_text(c, f, r, yearly=not args.brief))
+    # every file first: a reader that stops reading stdout early cannot cost an output
     if args.xlsx:
         from tea.outputs.workbook import write_portfolio, write_workbook
 
@@ -78,6 +74,17 @@ def _cmd_run(args: argparse.Namespace) -> int:
                 render_comparison(cases, ledgers, results, out, force=args.force, page_size=args.page_size,
                                   sensitivity=sensitivity)
             print(f"wrote {out}", file=sys.stderr)
+    if args.json:
+        payload = [terminal.json_payload(c, f, r) for c, f, r in zip(cases, ledgers, results)]
+        _say(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2, allow_nan=False))
+    else:
+        if len(cases) > 1:
+            from tea.outputs import side_by_side
+
+            _say("The cases side by side (each in its own currency and units; the summaries follow)\n")
+            _say(side_by_side.text_table(cases, results))
+        for c, f, r in zip(cases, ledgers, results):
+            _say(terminal.summary_text(c, f, r, yearly=not args.brief))
     return 0
 
 
@@ -85,30 +92,37 @@ def _cmd_check(args: argparse.Namespace) -> int:
     def report(path: str, case) -> None:
         for w in case.warnings:
             print(f"warning: {w}", file=sys.stderr)
-        print(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
+        _say(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
 
     _load_all(args.cases, report)
     return 0
 
 
 def _cmd_new(args: argparse.Namespace) -> int:
+    from tea.inputs.case import load_case, preset_for
     from tea.inputs.starter import starter_case
 
+    crop = preset_for(args.crop)
     name = args.name if args.name.endswith(".toml") else args.name + ".toml"
     path = Path(name)
     _check_outputs([(name, (".toml",))], args.force)
-    text = starter_case(Path(name).stem, args.crop, args.units, args.currency)
+    base = load_case(args.base) if args.base else None
+    system = args.units or (base.unit_system if base else "metric")
+    currency = args.currency or (base.currency if base else "EUR")
+    typed = args.crop.strip().lower()
+    text = starter_case(Path(name).stem, crop, system, currency, base=base, crop_name=typed if typed != crop else None)
     from tea.core.files import atomic_write_text
 
     atomic_write_text(path, text)
-    print(f"wrote {path}: a starter case for preset {args.crop}; edit it, then `tea check {path}`")
+    _say(f"wrote {path}: a starter case for preset {crop}" + (f" on the field and deal of {args.base}" if base else "")
+         + f"; edit it, then `tea check {path}`")
     return 0
 
 
 def _cmd_presets(args: argparse.Namespace) -> int:
     from tea.outputs import terminal
 
-    print(terminal.presets_text(verbose=args.verbose))
+    _say(terminal.presets_text(verbose=args.verbose, system=args.units))
     return 0
 
 
@@ -136,21 +150,38 @@ def build_parser() -> argparse.ArgumentParser:
     run.set_defaults(func=_cmd_run)
 
     check = sub.add_parser("check", help="validate case files without computing them")
-    check.add_argument("cases", nargs="+", metavar="CASE")
+    check.add_argument("cases", nargs="+", metavar="CASE",
+                       help="case files (.toml, or a workbook written by tea) to validate; every problem is listed")
     check.set_defaults(func=_cmd_check)
 
     from tea.inputs.case import preset_names
 
     new = sub.add_parser("new", help="write a commented starter case")
     new.add_argument("name", metavar="NAME", help="file to write (.toml is added if missing)")
-    new.add_argument("--crop", required=True, choices=preset_names(), help="crop preset")
-    new.add_argument("--units", default="metric", choices=("metric", "us_customary"), help="unit system of the keys")
-    new.add_argument("--currency", default="EUR", type=_currency, help="ISO 4217 currency code (default EUR)")
+    def crop_type(text: str) -> str:
+        from tea.inputs.case import preset_for
+
+        if preset_for(text) is None:
+            raise argparse.ArgumentTypeError(f"expected a crop preset ({', '.join(preset_names())}) or a crop name "
+                                             f"`tea presets` lists (e.g. miscanthus, switchgrass, willow, poplar), "
+                                             f"got {text!r}")
+        return text
+
+    new.add_argument("--crop", required=True, metavar="CROP", type=crop_type,
+                     help=f"crop preset ({', '.join(preset_names())}) or a crop name it stands for "
+                          "(miscanthus, switchgrass, willow, poplar; see `tea presets`)")
+    new.add_argument("--from", dest="base", metavar="CASE",
+                     help="start from this case's field and deal (another crop on the same field)")
+    new.add_argument("--units", choices=("metric", "us_customary"),
+                     help="unit system of the keys (default: the --from case's, else metric)")
+    new.add_argument("--currency", type=_currency, help="ISO 4217 currency code (default: the --from case's, else EUR)")
     new.add_argument("--force", action="store_true", help="overwrite an existing file")
     new.set_defaults(func=_cmd_new)
 
     presets = sub.add_parser("presets", help="list the crop presets and the sources of their values")
     presets.add_argument("-v", "--verbose", action="store_true", help="show every value with its source")
+    presets.add_argument("--units", default="metric", choices=("metric", "us_customary"),
+                         help="unit system of the values shown with -v (default metric)")
     presets.set_defaults(func=_cmd_presets)
 
     analysis_cli.add_commands(sub)
@@ -208,7 +239,8 @@ def _main(argv: Sequence[str] | None) -> int:
     except KeyboardInterrupt:
         print("interrupted; no output file was left half-written", file=sys.stderr)
         return 130
-    except BrokenPipeError:
+    except BrokenPipeError:  # a reader that went away: no more printing, and not an error
+        _quiet_stdout()
         return 0
     except Exception as exc:
         status = next((code for kind, code in EXIT_STATUS if isinstance(exc, kind)), None)

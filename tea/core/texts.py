@@ -4,7 +4,7 @@ from __future__ import annotations
 
 CAUTIONS: tuple[str, ...] = (
     "Planning estimates only: these figures are not financial, tax or agronomic advice.",
-    "Planting a non-native perennial grass may be regulated (invasive-species and planting rules); "
+    "Planting rules differ by place (invasive-species, licensing and planting rules); "
     "check local rules before planting.",
     "Carbon credits depend on the rules of the buyer or registry (eligibility, baselines, permanence, "
     "verification); the credit figures here are indicative only.",

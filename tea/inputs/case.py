@@ -50,9 +50,20 @@ class Preset:
     name: str
     title: str
     kind: str
-    non_native_warning: bool
     values: Mapping[str, Any]
     sources: Mapping[str, str]
+    aliases: tuple[str, ...] = ()
+    native_regions: tuple[str, ...] = ()
+    non_native_regions: tuple[str, ...] = ()
+    region_sources: Mapping[str, str] = field(default_factory=dict)
+
+    def non_native_in(self, region: str | None) -> bool | None:
+        """Whether the crop is non-native in a region (True/False), or None where the preset does not say."""
+        if region in self.non_native_regions:
+            return True
+        if region in self.native_regions:
+            return False
+        return None
 
 
 def preset_names() -> list[str]:
@@ -79,19 +90,23 @@ def load_preset(name: str) -> Preset:
             k, factor = found
             values[k.path] = _scale(entry["value"], factor)
             sources[k.path] = entry["source"]
-    return Preset(name, head["title"], head["kind"], bool(head.get("non_native_warning")), values, sources)
+    regions = {what: head.get(f"{what}_regions", {"value": [], "source": ""}) for what in ("native", "non_native")}
+    return Preset(name, head["title"], head["kind"], values, sources, tuple(head.get("aliases", ())),
+                  tuple(regions["native"]["value"]), tuple(regions["non_native"]["value"]),
+                  {"native": regions["native"]["source"], "non-native": regions["non_native"]["source"]})
 
 
-#: crop names an advisor may type for a preset -> the preset that models that kind of crop
-PRESET_HINTS = {
-    "miscanthus": "rhizome_grass",
-    "elephant grass": "rhizome_grass",
-    "switchgrass": "seeded_grass",
-    "reed canary grass": "seeded_grass",
-    "willow": "coppice",
-    "poplar": "coppice",
-    "src": "coppice",
-}
+def preset_for(name: str) -> str | None:
+    """The preset a crop name stands for: a preset's own name, or one of its aliases (any case), else None.
+
+    >>> preset_for("Miscanthus"), preset_for("willow"), preset_for("rhizome_grass"), preset_for("bamboo")
+    ('rhizome_grass', 'coppice', 'rhizome_grass', None)
+    """
+    word = name.strip().lower()
+    for preset in preset_names():
+        if word == preset or word in (a.lower() for a in load_preset(preset).aliases):
+            return preset
+    return None
 
 
 # ----------------------------------------------------------------------------- the case
@@ -353,6 +368,12 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str |
         if k.hi is not None and (v > k.hi or (k.hi_open and v == k.hi)):
             sign = "<" if k.hi_open else "<="
             unit = " (as a fraction: 0.2 means 20 %)" if k.unit.startswith("fraction") and k.hi == 1.0 else ""
+            if k.unit.startswith("fraction") and all(x / 100 <= k.hi and (k.lo is None or x / 100 >= k.lo)
+                                                     for x in items):  # a percentage typed as a whole number
+                fractions = [f"{x / 100:g}" for x in items]
+                written = f"[{', '.join(fractions)}]" if isinstance(value, list) else fractions[0]
+                return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
+                        f"write fractions, {written} for {value!r}")
             return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
     return None
 
@@ -437,12 +458,17 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     preset = None
     preset_name = values.get("crop.preset")
     if isinstance(preset_name, str):
-        try:
-            preset = load_preset(preset_name)
-        except KeyError:
-            hint = PRESET_HINTS.get(preset_name.strip().lower())
-            bad("crop.preset", f"unknown crop preset {brief(preset_name)}; expected one of {', '.join(preset_names())}"
-                + (f"; for {preset_name} use {brief(hint)}" if hint else _suggest(preset_name, preset_names())))
+        found = preset_for(preset_name)
+        if found is None:
+            bad("crop.preset", f"unknown crop preset {brief(preset_name)}; expected one of {', '.join(preset_names())} "
+                "or a crop name `tea presets` lists" + _suggest(preset_name, preset_names()))
+        else:
+            preset = load_preset(found)
+            if found != preset_name:  # a crop name: the preset that models it, and the name kept for the outputs
+                values["crop.preset"] = found
+                notes["crop.preset"] = f"case file ({preset_name})"
+                if "crop.name" not in values:
+                    values["crop.name"], origin["crop.name"], notes["crop.name"] = preset_name, "case", "case file"
     if preset is not None:
         for path, value in preset.values.items():
             if path not in values:
@@ -653,7 +679,10 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     if has_t and has_gj:
         bad("revenue.price_per_gj", "give one price, price_per_t_dm or price_per_gj, not both")
     elif not has_t and not has_gj and "revenue.price_per_t_dm" not in bad_keys and "revenue.price_per_gj" not in bad_keys:
-        bad("revenue.price_per_t_dm", "missing value: expected a biomass price per t of dry matter (or price_per_gj)")
+        system = values.get("case.units") if values.get("case.units") in units.SYSTEMS else "metric"
+        key = units.spell(schema.BY_PATH["revenue.price_per_t_dm"].template, system)
+        per = "short ton" if system == "us_customary" else "t"
+        bad(f"revenue.{key}", f"missing value: expected a biomass price per {per} of dry matter (or price_per_gj)")
 
     timing = values.get("harvest.timing")
     moisture_key = "harvest.moisture_late_winter" if timing == "late_winter" else "harvest.moisture_autumn"

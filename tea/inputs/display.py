@@ -1,18 +1,19 @@
 """Showing numbers as people read them, in the case's own units and currency.
 
 The engine works per hectare in tonnes; a US-customary case is shown per acre in
-short tons (carbon stays in metric tonnes of C and CO2e, as carbon markets
-trade it). Money gets thousands separators, sensible rounding and a minus sign
-that cannot be missed.
+short tons, carbon included (short tons of C and CO2e; kilograms as pounds),
+with energy in GJ and, beside it, MMBtu. Money gets thousands separators,
+sensible rounding and a minus sign that cannot be missed.
 """
 
 from __future__ import annotations
 
 import math
 
-from tea.inputs.units import HA_PER_ACRE, T_PER_SHORT_TON
+from tea.inputs.units import HA_PER_ACRE, KG_PER_LB, T_PER_SHORT_TON
 
-_CARBON_UNITS = ("t C", "t CO2e", "kg CO2e")
+#: GJ per million British thermal units (International Table Btu = 1055.05585262 J; NIST SP 811, 2008, B.8)
+GJ_PER_MMBTU = 1.05505585262
 
 
 def convert(value: float | None, unit: str, system: str) -> tuple[float | None, str]:
@@ -24,6 +25,9 @@ def convert(value: float | None, unit: str, system: str) -> tuple[float | None, 
     >>> v, u = convert(10.0, "t DM/ha", "us_customary")
     >>> round(v, 4), u
     (4.4609, 'short ton DM/acre')
+    >>> v, u = convert(1.0, "t C/ha", "us_customary")
+    >>> round(v, 4), u
+    (0.4461, 'short ton C/acre')
     >>> convert(100.0, "money/ha", "metric")
     (100.0, 'money/ha')
     """
@@ -32,9 +36,12 @@ def convert(value: float | None, unit: str, system: str) -> tuple[float | None, 
     parts = unit.split("/")
     head, rest = parts[0], parts[1:]
     factor = 1.0
-    if head.startswith("t ") and not head.startswith(_CARBON_UNITS) or head == "t":
+    if head.startswith("t ") or head == "t":
         head = head.replace("t", "short ton", 1)
         factor /= T_PER_SHORT_TON
+    elif head.startswith("kg ") or head == "kg":
+        head = head.replace("kg", "lb", 1)
+        factor /= KG_PER_LB
     new_rest = []
     for part in rest:
         if part == "ha":
@@ -46,6 +53,31 @@ def convert(value: float | None, unit: str, system: str) -> tuple[float | None, 
         else:
             new_rest.append(part)
     return value * factor, "/".join([head, *new_rest])
+
+
+def mmbtu(value_gj: float | None) -> float | None:
+    """An energy amount in GJ as MMBtu.
+
+    >>> round(mmbtu(1055.05585262), 6)
+    1000.0
+    """
+    return None if value_gj is None else value_gj / GJ_PER_MMBTU
+
+
+def in_mmbtu(value: float, unit: str) -> tuple[float, str]:
+    """The same amount with GJ as MMBtu (GJ in the numerator or in a denominator).
+
+    >>> v, u = in_mmbtu(10.0, "money/GJ")
+    >>> round(v, 4), u
+    (10.5506, 'money/MMBtu')
+    """
+    parts = unit.split("/")
+    if parts[0].startswith("GJ"):
+        value, parts[0] = value / GJ_PER_MMBTU, parts[0].replace("GJ", "MMBtu", 1)
+    for i in range(1, len(parts)):
+        if parts[i] == "GJ":
+            value, parts[i] = value * GJ_PER_MMBTU, "MMBtu"
+    return value, "/".join(parts)
 
 
 def area(value_ha: float, system: str) -> tuple[float, str]:

@@ -43,6 +43,11 @@ DERIVED = _Marker("DERIVED")
 # the IPCC climate zones, soil classes and land uses the carbon tables cover
 from tea.inputs.published import CLIMATES, LAND_USES, SOILS  # noqa: E402
 
+#: the nine botanical continents of the TDWG World Geographical Scheme for Recording Plant Distributions,
+#: level 1 (R. K. Brummitt, 2001, 2nd ed., Hunt Institute for Botanical Documentation)
+REGIONS = ("europe", "africa", "asia_temperate", "asia_tropical", "australasia", "pacific", "northern_america",
+           "southern_america", "antarctic")
+
 
 @dataclass(frozen=True)
 class Key:
@@ -118,13 +123,19 @@ KEYS: tuple[Key, ...] = (
     _k("field", "area_{ha}", "float", REQUIRED, "Area planted.", lo=0.0, lo_open=True, warn_hi=5000.0),
     _k("field", "climate", "enum", REQUIRED, "IPCC climate zone (IPCC 2006 Vol.4 Ch.3 Fig. 3A.5.1).", choices=CLIMATES),
     _k("field", "soil", "enum", REQUIRED, "IPCC soil class (IPCC 2006 Vol.4 Ch.3 Fig. 3A.5.3).", choices=SOILS),
+    _k("field", "region", "enum", None,
+       "Botanical continent of the field (TDWG World Geographical Scheme for Recording Plant Distributions, level 1; "
+       "Brummitt 2001): says whether the crop is native there.", choices=REGIONS),
     _k("field", "current_use", "enum", "cropland_full_till",
        "What the field is used for today (the counterfactual); sets its SOC factors.", choices=LAND_USES),
     _k("field", "current_margin_per_{ha}", "float", 0.0,
        "Annual gross margin the field earns today, before rent and overheads, years 1..stand life; "
        "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)"),
     # --- crop --------------------------------------------------------------------
-    _k("crop", "preset", "str", REQUIRED, "Crop preset (see `tea presets`): its values fill every key the case leaves out."),
+    _k("crop", "preset", "str", REQUIRED, "Crop preset (see `tea presets`), or a crop name it lists (e.g. miscanthus): "
+       "its values fill every key the case leaves out."),
+    _k("crop", "name", "str", None, "What the crop is called on the outputs (e.g. miscanthus); the preset's "
+       "name if not given."),
     # --- establishment (year 0) -----------------------------------------------------
     _k("establishment", "site_preparation_per_{ha}", "float", REQUIRED, "Ploughing, cultivation, stone picking.", **MONEY_HA),
     _k("establishment", "weed_control_per_{ha}", "float", REQUIRED, "Herbicide and its application in the planting year.", **MONEY_HA),
@@ -202,7 +213,8 @@ KEYS: tuple[Key, ...] = (
     # --- revenue -----------------------------------------------------------------
     _k("revenue", "price_per_{t}_dm", "float", None, "Biomass price per t of dry matter delivered (give this or price_per_gj).",
        money=True, lo=0.0),
-    _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True, lo=0.0),
+    _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True,
+       lo=0.0, unit="/GJ"),
     _k("revenue", "heating_value_gj_per_{t}_dm", "float", PRESET, "Net heating value of the dry matter.", unit="GJ",
        lo=0.0, lo_open=True, warn_lo=12.0, warn_hi=22.0),
     _k("revenue", "price_change_per_year", "float", 0.0,

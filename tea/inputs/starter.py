@@ -46,6 +46,37 @@ OPTIONAL_EXAMPLES: dict[str, Any] = {
 }
 UNIT_PRICE_EXAMPLE = {"rhizome_grass": 0.11, "seeded_grass": 20.0, "coppice": 0.085}
 COPPICE_EXAMPLES = {"costs.harvest_per_ha": 420.0, "costs.removal_per_ha": 800.0}
+#: the same invented examples for a US customary starter, as round numbers in US units (per acre, short ton,
+#: mile, lb): never converted from the metric ones, so the file reads as a US case would be written
+US_EXAMPLES: dict[str, Any] = {
+    "field.area_ha": 25.0,
+    "establishment.site_preparation_per_ha": 80.0,
+    "establishment.weed_control_per_ha": 40.0,
+    "establishment.planting_operation_per_ha": 120.0,
+    "establishment.fertiliser_per_ha": 25.0,
+    "costs.harvest_per_ha": 45.0,
+    "costs.baling_chipping_per_t_dm": 14.0,
+    "costs.haul_distance_km": 20.0,
+    "costs.haul_per_t_km": 0.2,
+    "costs.removal_per_ha": 120.0,
+    "nutrients.n_price_per_kg": 0.5,
+    "nutrients.p2o5_price_per_kg": 0.45,
+    "nutrients.k2o_price_per_kg": 0.3,
+    "revenue.price_per_t_dm": 85.0,
+}
+US_COPPICE_EXAMPLES = {"costs.harvest_per_ha": 170.0, "costs.removal_per_ha": 320.0}
+#: metric words in key descriptions and their US customary words
+US_WORDS = (("100 t DM/ha", "45 short ton DM/acre"), ("per ha", "per acre"), ("t DM/ha", "short ton DM/acre"),
+            ("per t ", "per short ton "), ("kg of seed", "lb of seed"), ("_t_per_ha", "_short_ton_per_acre"))
+
+
+def _in_words_of(doc: str, system: str) -> str:
+    """A key's description in the words of a unit system (the schema writes metric)."""
+    if system == "metric":
+        return doc
+    for metric, us in US_WORDS:
+        doc = doc.replace(metric, us)
+    return doc
 
 
 def _toml(value: Any) -> str:
@@ -60,27 +91,67 @@ def _toml(value: Any) -> str:
     return str(value)
 
 
-def _shown(k: schema.Key, value: Any, system: str) -> tuple[str, Any]:
-    """The key spelled in ``system`` and the canonical value converted to it."""
+def _shown(k: schema.Key, value: Any, system: str, given_in_system: bool = False,
+           precise: bool = False) -> tuple[str, Any]:
+    """The key spelled in ``system`` and the canonical value converted to it (``given_in_system``: already is;
+    ``precise``: a value carried from a case, kept to 9 significant digits rather than rounded for an example)."""
     spelling = units.spell(k.template, system)
+    if given_in_system:
+        return spelling, value
     factor = units.spellings(k.template)[spelling]
     if isinstance(value, list) or isinstance(value, (str, bool)) or value is None:
         return spelling, value
     shown = value / factor
     if isinstance(shown, float) and factor != 1.0:
-        shown = float(f"{shown:.3g}")
+        shown = float(f"{shown:.9g}" if precise else f"{shown:.3g}")
     return spelling, shown
 
 
-def starter_case(name: str, crop: str, system: str = "metric", currency: str = "EUR") -> str:
-    """TOML text of a starter case for a crop preset, every key documented."""
+#: what belongs to the crop, not to the field or the deal: not copied by ``tea new --from``
+CROP_KEYS = ("crop.", "establishment.planting_", "establishment.failure_probability", "establishment.replant_share",
+             "yield.", "harvest.", "nutrients.n_", "nutrients.p2o5_autumn", "nutrients.p2o5_late", "nutrients.p2o5_re",
+             "nutrients.k2o_autumn", "nutrients.k2o_late", "nutrients.k2o_re", "costs.harvest_per_ha",
+             "costs.baling_chipping_per_t_dm", "costs.removal_per_ha", "revenue.heating_value_gj_per_t_dm",
+             "carbon.crop_", "carbon.diesel_establishment", "carbon.diesel_harvest", "carbon.diesel_l_per",
+             "carbon.diesel_removal", "finance.stand_life_years")
+#: ... except these, which describe the field or the deal
+FIELD_KEYS = ("yield.site_factor", "nutrients.n_price_per_kg")
+
+
+def _copied(path: str) -> bool:
+    return path in FIELD_KEYS or not path.startswith(CROP_KEYS)
+
+
+def starter_case(name: str, crop: str, system: str = "metric", currency: str = "EUR", base=None,
+                 crop_name: str | None = None) -> str:
+    """TOML text of a starter case for a crop preset, every key documented.
+
+    ``base`` (a :class:`tea.inputs.case.Case`): start from that case's field and
+    deal (every value it gives that is not about the crop), for another crop on
+    the same field; ``system`` and ``currency`` are then the base case's.
+    ``crop_name``: what the crop is called (e.g. ``"willow"`` for the coppice
+    preset), written as ``crop.name``.
+    """
     preset = load_preset(crop)
     examples = dict(EXAMPLES)
     examples["establishment.planting_unit_price"] = UNIT_PRICE_EXAMPLE.get(preset.kind, 0.1)
     if preset.kind == "coppice":
         examples.update(COPPICE_EXAMPLES)
+    in_us = set()
+    if system == "us_customary":
+        us = dict(US_EXAMPLES, **(US_COPPICE_EXAMPLES if preset.kind == "coppice" else {}))
+        examples.update(us)
+        in_us = set(us)
+    carried: dict[str, Any] = {}
+    if base is not None:
+        carried = {p: v for p, v in base.values.items() if base.origin.get(p) == "case" and "." in p and _copied(p)}
+        carried.pop("case.name", None)
+        carried["case.notes"] = f"The field and deal of {base.name}, with {crop_name or crop.replace('_', ' ')}."
     lines = [
         f"# Starter case for `tea`, crop preset {crop}: {preset.title}.",
+        *([f"# The field and the deal come from {base.source} ({base.name}); the crop's values are the preset's",
+           "# and invented examples: check them (planting material, harvest and removal costs, the price)."]
+          if base is not None else []),
         "# Keys without '#' need your values: the numbers there are invented examples.",
         "# Keys behind '#' show the preset's or the default value; remove the '#' to change one.",
         "# Units are in the key names; the README's case-file reference lists every key.",
@@ -91,9 +162,16 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         lines.append(f"[{section}]")
         for k in schema.keys_in(section):
             unit = k.unit_text(system, currency)
-            doc = f"{k.doc}" + (f" [{unit}]" if unit else "") + (f" One of: {', '.join(k.choices)}." if k.choices else "")
+            doc = f"{_in_words_of(k.doc, system)}" + (f" [{unit}]" if unit else "") + \
+                (f" One of: {', '.join(k.choices)}." if k.choices else "")
             if k.path == "case.name":
                 value, active = name, True
+            elif k.path in carried:
+                value, active = carried[k.path], True
+                spelling, shown = _shown(k, value, system, precise=True)
+                lines.append(f"# {doc}")
+                lines.append(f"{spelling} = {_toml(shown)}")
+                continue
             elif k.path == "case.currency":
                 value, active = currency, True
             elif k.path == "case.units":
@@ -102,6 +180,8 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 value, active = True, True
             elif k.path == "crop.preset":
                 value, active = crop, True
+            elif k.path == "crop.name" and crop_name:
+                value, active = crop_name, True
             elif k.default is schema.REQUIRED or k.path in examples:
                 value, active = examples.get(k.path), True
             elif k.path in preset.values:
@@ -115,7 +195,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                     doc += " Not used unless given; the value shown is an example."
             else:
                 value, active = k.default, False
-            spelling, shown = _shown(k, value, system)
+            spelling, shown = _shown(k, value, system, k.path in in_us and active)
             lines.append(f"# {doc}")
             if value is None:
                 lines.append(f"# {spelling} = ...")

@@ -20,6 +20,7 @@ mathematical markup.
 
 from __future__ import annotations
 
+import base64
 import io
 import math
 import os
@@ -32,7 +33,7 @@ os.environ.setdefault("MPLBACKEND", "Agg")
 
 import matplotlib  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
-from matplotlib.ticker import Formatter, MaxNLocator  # noqa: E402
+from matplotlib.ticker import MaxNLocator, ScalarFormatter  # noqa: E402
 
 #: matplotlib settings every chart is drawn with (fixed, so the output is byte-stable)
 STYLE = {
@@ -69,6 +70,8 @@ MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
 
 #: default size of one chart on the page [in]: a third of the printable width of A4
 WIDTH_IN, HEIGHT_IN = 2.40, 1.50
+#: room kept free of the cash line for the two-line payback label, as a share of the y range
+LABEL_ROOM = 0.32
 
 
 @dataclass(frozen=True)
@@ -85,12 +88,21 @@ class Chart:
         The SVG markup (trusted: produced by :func:`svg_of`).
     alt : str
         A sentence describing what the chart shows, for readers who cannot see it.
+    ticks : tuple of (axis, value, label)
+        Every tick drawn, with its value and its label as printed (``"x"`` or
+        ``"y"`` of each axes in turn), read back from matplotlib after drawing.
     """
 
     name: str
     title: str
     svg: str
     alt: str
+    ticks: tuple[tuple[str, float, str], ...] = ()
+
+    @property
+    def data_uri(self) -> str:
+        """The SVG as a ``data:`` URL (the PDF engine draws it as an image: the same picture, laid out faster)."""
+        return "data:image/svg+xml;base64," + base64.b64encode(self.svg.encode("utf-8")).decode("ascii")
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -99,30 +111,37 @@ def plain(text: str) -> str:
     return str(text).replace("$", r"\$")
 
 
-def _tick(value: float, digits: int | None = None) -> str:
-    """Number text for a chart: thousands separators, a true minus sign, no needless decimals."""
-    if digits is None:
-        a = abs(value)
-        digits = 0 if a >= 10 or float(value).is_integer() else 1 if a >= 1 else 2
-    text = f"{value:,.{digits}f}"
-    if float(text.replace(",", "")) == 0:
-        text = text.lstrip("-")
-    return text.replace("-", "\u2212")
+def _num(value: float) -> str:
+    """A number in a sentence or beside a bar: thousands separators, a true minus sign (U+2212)."""
+    from tea.inputs import display
+
+    a = abs(value)
+    digits = 0 if a >= 10 or float(value).is_integer() else 1 if a >= 1 else 2
+    return display.money(value, digits=digits).replace("-", "\u2212")
 
 
-class _Ticks(Formatter):
-    """Tick labels with as many decimals as the tick step needs, all ticks alike."""
+def formatter() -> ScalarFormatter:
+    """matplotlib's own tick labels: as many decimals as the tick step needs, every label its gridline's value.
 
-    digits = 0
+    No offset and no scientific notation, so that a label reads as the value it marks.
+    """
+    f = ScalarFormatter(useOffset=False)
+    f.set_scientific(False)
+    return f
 
-    def set_locs(self, locs):
-        super().set_locs(locs)
-        steps = [abs(b - a) for a, b in zip(locs[:-1], locs[1:]) if b != a]
-        step = min(steps) if steps else 1.0
-        self.digits = max(0, -math.floor(math.log10(step) + 1e-9)) if step < 1 else 0
 
-    def __call__(self, value, pos=None):
-        return _tick(value, self.digits)
+def axis_ticks(fig: Figure) -> tuple[tuple[str, float, str], ...]:
+    """The ticks matplotlib draws on each axes of a drawn figure: (axis, value, label)."""
+    out = []
+    with matplotlib.rc_context(STYLE):
+        for ax in fig.axes:
+            for name, axis in (("x", ax.xaxis), ("y", ax.yaxis)):
+                lo, hi = sorted(axis.get_view_interval())
+                locs = [float(v) for v in axis.get_majorticklocs()]
+                labels = axis.get_major_formatter().format_ticks(locs)
+                eps = 1e-9 * max(1.0, abs(hi - lo))
+                out.extend((name, v, t) for v, t in zip(locs, labels) if lo - eps <= v <= hi + eps and t)
+    return tuple(out)
 
 
 def _new_figure(width_in: float, height_in: float) -> Figure:
@@ -133,8 +152,9 @@ def _new_figure(width_in: float, height_in: float) -> Figure:
 
 def _style_axes(ax, years: Sequence[float]) -> None:
     ax.set_facecolor("none")
-    ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=8))
-    ax.yaxis.set_major_formatter(_Ticks())
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=8))  # whole years only
+    ax.xaxis.set_major_formatter(formatter())
+    ax.yaxis.set_major_formatter(formatter())
     ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
     if len(years):
         ax.set_xlim(min(years) - 0.6, max(years) + 0.6)
@@ -190,11 +210,12 @@ def from_figure(fig: Figure, name: str, title: str, alt: str) -> Chart:
 
 
 def _finish(fig: Figure, name: str, title: str, alt: str) -> Chart:
-    svg = svg_of(fig, name)
+    svg = svg_of(fig, name)  # draws the figure: its ticks are final now
+    ticks = axis_ticks(fig)
     # an accessible name inside the SVG itself, escaped as matplotlib escapes its own text
     title_xml = f'\n <title id="{name}-title">{xml_escape(alt)}</title>'
     svg = re.sub(r"(<svg[^>]*>)", lambda m: m.group(1) + title_xml, svg, count=1)
-    return Chart(name=name, title=title, svg=svg, alt=alt)
+    return Chart(name=name, title=title, svg=svg, alt=alt, ticks=ticks)
 
 
 # ----------------------------------------------------------------------------- the charts
@@ -221,27 +242,55 @@ def cumulative_cash(
     unit_label : str
         Axis unit, e.g. ``"EUR per ha"``.
     """
+    y = list(cumulative)
+    fig = cash_figure(years, y, payback_year, unit_label, width_in, height_in)
+    pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
+        "; it does not get back to zero within the stand life"
+    alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
+           f"lowest {_num(min(y))}, last {_num(y[-1])}{pay}.")
+    return _finish(fig, name, "Running total of cash", alt)
+
+
+def cash_figure(years: Sequence[float], y: list[float], payback_year: float | None, unit_label: str,
+                width_in: float = WIDTH_IN, height_in: float = HEIGHT_IN) -> Figure:
+    """The figure of :func:`cumulative_cash` (its arguments), before it becomes SVG."""
     with matplotlib.rc_context(STYLE):
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
-        y = list(cumulative)
         ax.axhline(0.0, color="#666666", linewidth=0.6)
         ax.fill_between(years, y, 0.0, where=[v < 0 for v in y], interpolate=True, color=LOSS, alpha=0.16, linewidth=0)
         ax.fill_between(years, y, 0.0, where=[v >= 0 for v in y], interpolate=True, color=GAIN, alpha=0.16, linewidth=0)
         ax.plot(years, y, color=INK, marker="o", markersize=2.0, linewidth=1.2)
         if payback_year is not None:
             ax.axvline(payback_year, color=ACCENT, linewidth=0.9, linestyle=(0, (3, 2)))
-            lo, hi = min(y + [0.0]), max(y + [0.0])
-            ax.annotate(f"pays back\nin year {payback_year:.0f}", xy=(payback_year, lo + 0.82 * (hi - lo)),
-                        xytext=(4, 0), textcoords="offset points", color=ACCENT, fontsize=6.0, va="center")
+            _payback_label(ax, list(years), y, payback_year)
         _style_axes(ax, years)
         ax.set_ylabel(plain(unit_label))
         fig.tight_layout(pad=0.3)
-    pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
-        "; it does not get back to zero within the stand life"
-    alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
-           f"lowest {_tick(min(y))}, last {_tick(y[-1])}{pay}.")
-    return _finish(fig, name, "Running total of cash", alt)
+    return fig
+
+
+def _payback_label(ax, years: list[float], y: list[float], payback_year: float) -> None:
+    """Label the payback line where the cash line is not.
+
+    Before payback the running total is below zero, after it above: the
+    quarter above zero and before payback is free of the line, and so is the
+    quarter below zero and after it. A late payback is labelled in the first
+    (left of the line, at the top), an early one in the second (right of the
+    line, at the bottom), whichever side has more room.
+    """
+    lo, hi = min(y + [0.0]), max(y + [0.0])
+    room = LABEL_ROOM * (hi - lo)  # the label's height, with a margin, as a share of the axis
+    late = payback_year - min(years) > max(years) - payback_year
+    if late:
+        hi = max(hi, room)
+        xy, offset, ha, va = (payback_year, hi), (-4, 0), "right", "top"
+    else:
+        lo = min(lo, -room)
+        xy, offset, ha, va = (payback_year, lo), (4, 0), "left", "bottom"
+    ax.set_ylim(lo - 0.04 * (hi - lo), hi + 0.04 * (hi - lo))
+    ax.annotate(f"pays back\nin year {payback_year:.0f}", xy=xy, xytext=offset, textcoords="offset points",
+                color=ACCENT, fontsize=6.0, ha=ha, va=va, annotation_clip=False)
 
 
 def yield_by_age(
@@ -286,7 +335,7 @@ def yield_by_age(
         fig.tight_layout(pad=0.3)
     first = f"first harvest in year {hy[0]:.0f}, {len(hy)} harvests" if hy else "no harvest within the stand life"
     alt = (f"Dry matter grown per year and sold in harvest years [{unit_label}]: {first}, "
-           f"at most {_tick(max(hs or [0.0]))} sold in one year.")
+           f"at most {_num(max(hs or [0.0]))} sold in one year.")
     return _finish(fig, name, "Yield by stand age", alt)
 
 
@@ -331,8 +380,8 @@ def soil_carbon(
         ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.6, columnspacing=0.8,
                   borderaxespad=0.1, borderpad=0.1)
         fig.tight_layout(pad=0.3)
-    alt = (f"Soil organic carbon [{unit_label}]: {_tick(s[0])} at planting, {_tick(s[-1])} at the end "
-           f"under the crop, {_tick(c[-1])} had the current use continued.")
+    alt = (f"Soil organic carbon [{unit_label}]: {_num(s[0])} at planting, {_num(s[-1])} at the end "
+           f"under the crop, {_num(c[-1])} had the current use continued.")
     return _finish(fig, name, "Soil carbon (0-30 cm)", alt)
 
 
@@ -444,6 +493,19 @@ def tornado(
     title : str, optional
         Heading above the chart; default "What moves the <figure>".
     """
+    fig = tornado_figure(labels, low, high, base, unit_label, figure=figure, width_in=width_in, row_in=row_in,
+                         scale=scale)
+    top = max(range(len(labels)), key=lambda i: abs(high[i] - low[i]))
+    alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
+           f"largest swing first; base {_num(base)}; the largest swing, {' '.join(labels[top].split())}: "
+           f"from {_num(low[top])} to {_num(high[top])}.")
+    return _finish(fig, name, title or f"What moves the {figure}", alt)
+
+
+def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[float], base: float, unit_label: str,
+                   *, figure: str = "NPV", width_in: float = 7.2, row_in: float = TORNADO_ROW_IN,
+                   scale: float = 1.0) -> Figure:
+    """The figure of :func:`tornado` (its arguments), before it becomes SVG; also saved by ``--plot``."""
     n = len(labels)
     if not (n == len(low) == len(high)) or n == 0:
         raise ValueError("tornado: expected one low and one high value per label (at least one)")
@@ -468,21 +530,21 @@ def tornado(
                 continue
             left, right = min(lo, hi), max(lo, hi)
             if left < base:
-                ax.text(left - 0.008 * span, y, _tick(left), va="center", ha="right", fontsize=5.6, color=INK)
+                ax.text(left - 0.008 * span, y, _num(left), va="center", ha="right", fontsize=5.6, color=INK)
             if right > base:
-                ax.text(right + 0.008 * span, y, _tick(right), va="center", ha="left", fontsize=5.6, color=INK)
+                ax.text(right + 0.008 * span, y, _num(right), va="center", ha="left", fontsize=5.6, color=INK)
         ax.axvline(base, color=INK, linewidth=0.8)
         ax.set_yticks(range(n))
         ax.set_yticklabels([plain(t) for t in reversed(labels)])
         ax.tick_params(axis="y", length=0)
         ax.set_ylim(-0.6, n - 0.4)
         ax.set_xlim(lo_all - pad * span, hi_all + pad * span)
-        ax.xaxis.set_major_formatter(_Ticks())
+        ax.xaxis.set_major_formatter(formatter())
         ax.xaxis.set_major_locator(MaxNLocator(nbins=3 if narrow else 8))
         ax.grid(axis="x", color="#dddddd", linewidth=0.4)
         ax.set_axisbelow(True)
         ax.spines["left"].set_visible(False)
-        ax.set_xlabel(plain(f"{figure} [{unit_label}]" + ("\n" if narrow else "; ") + f"the line is the base, {_tick(base)}"))
+        ax.set_xlabel(plain(f"{figure} [{unit_label}]" + ("\n" if narrow else "; ") + f"the line is the base, {_num(base)}"))
         from matplotlib.patches import Patch
 
         words = ("input low", "input high") if narrow else ("input at its low value", "input at its high value")
@@ -492,11 +554,7 @@ def tornado(
         fig.tight_layout(pad=0.3)
         # room to spare on the left: the page's text engine may set the labels a little wider than matplotlib
         fig.subplots_adjust(left=fig.subplotpars.left + TORNADO_LABEL_SLACK_IN / width_in)
-    top = max(range(n), key=lambda i: abs(high[i] - low[i]))
-    alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
-           f"largest swing first; base {_tick(base)}; the largest swing, {' '.join(labels[top].split())}: "
-           f"from {_tick(low[top])} to {_tick(high[top])}.")
-    return _finish(fig, name, title or f"What moves the {figure}", alt)
+    return fig
 
 
 def finite(values: Sequence[float]) -> list[float]:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import textwrap
 from typing import Any
 
 import pandas as pd
@@ -9,6 +10,8 @@ import pandas as pd
 from tea import __version__
 from tea.inputs import display
 from tea.inputs.case import Case, case_header, load_preset, preset_names
+from tea.outputs.advice import non_native_caution
+from tea.outputs.headline import headline
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
 from tea.core.texts import CAUTIONS
@@ -27,6 +30,13 @@ def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
     elif name.startswith("breakeven_price"):
         unit = "money/t DM"
     value, unit = display.convert(value, unit, case.unit_system)
+    text = _shown(res, case, name, value, unit, whole, price_unit)
+    if case.unit_system == "us_customary" and value is not None and "GJ" in unit:  # energy also in MMBtu
+        text += f" ({_shown(res, case, name, *display.in_mmbtu(value, unit), whole, price_unit)})"
+    return text
+
+
+def _shown(res: Results, case: Case, name: str, value: float | None, unit: str, whole: bool, price_unit: str) -> str:
     if name.startswith("breakeven_mature") and value is not None:
         return f"{value:,.2f} {unit}"
     if value is None:
@@ -139,7 +149,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         rate += f" (from {display.percent(res.discount_rate_given, 2)} nominal, {display.percent(res.inflation, 2)} inflation, Fisher)"
     out.append(f"Stand life {case.stand_life} years; discount rate {rate}; money in {case.currency}; case hash {case.hash}")
     out.append("")
-    out.append(decision_sentence(case, res))
+    head = headline(case, res)
+    out.append(head.verdict.upper() + ".")
+    out.append(head.sentence)
     out.append("")
     width = max(len(v) for v in LABELS.values()) + 2
     for title, names in SUMMARY_ROWS:
@@ -160,27 +172,31 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         out.append(f"Yearly ledger (per {per}; {case.currency}; `tea run --json` gives every line)")
         out.append(yearly_table(case, frame))
         out.append("")
-    for w in case.warnings:
-        out.append(f"warning: {w}")
-    if case.preset.non_native_warning:
-        out.append("note: this crop is non-native in many regions: the planting-rules caution below applies.")
+    caution = non_native_caution(case)
+    if caution:
+        out.append(f"note: {caution}")
+    elif case.values.get("field.region") is None:
+        out.append("note: give field.region to be told whether the crop is native there.")
     out.append("Cautions:")
     out.extend(f"  - {c}" for c in CAUTIONS)
-    return "\n".join(out)
+    return "\n".join(_wrapped(line) for line in out)
+
+
+#: widest line of the terminal summary [characters]
+WIDTH = 100
+
+
+def _wrapped(line: str) -> str:
+    """A line of the summary within :data:`WIDTH` characters, continued lines indented like the first."""
+    if len(line) <= WIDTH:
+        return line
+    indent = " " * (len(line) - len(line.lstrip(" -")))
+    return textwrap.fill(line, WIDTH, subsequent_indent=indent, break_on_hyphens=False)
 
 
 def decision_sentence(case: Case, res: Results) -> str:
-    """The decision in one plain sentence, with the numbers."""
-    per = "acre" if case.unit_system == "us_customary" else "ha"
-    diff, _ = display.convert(res["eav_vs_current_use"], "money/ha", case.unit_system)
-    word = "more" if diff >= 0 else "less"
-    rate = display.percent(res.discount_rate_real, 1)
-    text = (f"Over {case.stand_life} years at {rate} (real), the stand earns "
-            f"{display.money(abs(diff), case.currency)} per {per} per year {word} than the field's current use")
-    pay = res["payback_year"]
-    text += f", and its cash flow pays back in year {pay:.0f}." if pay is not None else \
-        ", and its cash flow does not pay back within the stand life."
-    return text
+    """The decision in one plain sentence, with the numbers (see :mod:`tea.outputs.headline`)."""
+    return headline(case, res).sentence
 
 
 def yearly_table(case: Case, frame: pd.DataFrame) -> str:
@@ -210,7 +226,8 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
     payload["tool_version"] = __version__
     payload["demo_data"] = bool(case["case.demo"])
     payload["unit_system"] = case.unit_system
-    payload["non_native_crop"] = bool(case.preset.non_native_warning)
+    payload["region"] = case.values.get("field.region")
+    payload["non_native_crop"] = case.preset.non_native_in(case.values.get("field.region"))
     payload["ledger"] = {
         "per": "ha",
         "years": [int(y) for y in frame["year"]],
@@ -232,17 +249,30 @@ def _json_number(v: float) -> float | None:
     return v if v == v and abs(v) != float("inf") else None
 
 
-def presets_text(verbose: bool = False) -> str:
+def presets_text(verbose: bool = False, system: str = "metric") -> str:
+    """The crop presets; with ``verbose`` every value with its source, spelled and converted to ``system``."""
+    from tea.inputs import schema, units
+
     out = []
     for name in preset_names():
         p = load_preset(name)
-        out.append(f"{name}: {p.title}")
+        aliases = f" (also: {', '.join(p.aliases)})" if p.aliases else ""
+        out.append(f"{name}: {p.title}{aliases}")
         if verbose:
             for path, value in p.values.items():
-                out.append(f"    {path} = {value!r}    # {p.sources[path]}")
+                key = schema.BY_PATH[path]
+                spelled = f"{key.section}.{units.spell(key.template, system)}"
+                factor = units.display_factor(key.template, system)
+                if isinstance(value, (int, float)) and not isinstance(value, bool) and factor != 1.0:
+                    value = float(f"{value * factor:.3g}")
+                out.append(f"    {spelled} = {value!r}    # {p.sources[path]}")
+            for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
+                if regions:
+                    out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
         else:
             sources = sorted({s.split(":")[0].split(",")[0] for s in p.sources.values()})
             out.append("    sources: " + "; ".join(sources))
     out.append("")
-    out.append("`tea presets -v` lists every value with its source; a case overrides any of them.")
+    out.append("`tea presets -v` lists every value with its source (--units us_customary in US units); "
+               "a case overrides any of them.")
     return "\n".join(out)

@@ -7,8 +7,8 @@ Run from the repository root:
 For each demo case it times, side by side in this one run (time.perf_counter,
 best of N repeats, after one warm-up render that pays for the imports):
 
-* pdf: ``render_summary`` to a PDF, fitting the page from scratch (layout by
-  WeasyPrint at each density tried, then the PDF written);
+* pdf: ``render_summary`` to a PDF, fitting the page from scratch (one layout by
+  WeasyPrint, or one measure and one more layout, then the PDF written);
 * html: ``render_summary`` to HTML from scratch (the fit is measured with the
   same layout engine, so the HTML prints on one sheet too);
 * html after pdf: HTML when the PDF of the same case was just made (the fit is

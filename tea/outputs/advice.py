@@ -1,0 +1,125 @@
+"""What the grower's page says about its inputs: sources a grower can trust, warnings in plain words.
+
+The terminal keeps the technical form (file, key, value, expected range); the
+page says what is unusual and why it matters, and names a source only where
+it is a published one. Values recalled without a document (``from memory``)
+and facts of the trade (``common practice``) are shown as "tea default"; their
+detail stays in the workbook and in ``tea presets -v``.
+"""
+
+from __future__ import annotations
+
+import re
+
+from tea.inputs import schema, units
+from tea.inputs.case import Case
+
+#: what a source note says when it is not a published source
+UNPUBLISHED = ("from memory", "common practice", "default")
+TEA_DEFAULT = "tea default"
+
+#: why an input matters, by section (the page says it after what is unusual)
+WHY = {
+    "field": "it sets the area and the field's baseline",
+    "establishment": "the planting-year cost is most of the money at risk",
+    "yield": "the yield drives every receipt",
+    "harvest": "it sets how much dry matter is sold",
+    "nutrients": "it sets the fertiliser bill",
+    "costs": "it is paid every year or every harvest",
+    "revenue": "the price sets every receipt",
+    "carbon": "it sets the carbon figures and any credit income",
+    "finance": "it weighs every future year against today",
+    "loan": "it sets the loan repayments",
+    "case": "it applies to every figure",
+}
+#: warnings with their own words: key path -> sentence
+SPECIAL = {
+    "field.current_margin_per_ha": "What the field earns today was not given, so it is taken as nothing: the "
+                                   "comparison with today's use may flatter the crop.",
+    "finance.inflation": "An inflation rate was given but the discount rate is real, so it is not used.",
+    "yield.decline_per_year": "A yearly yield decline was given without the year it starts, so no decline "
+                              "is counted.",
+    "revenue.price_change_per_year": "A yearly price change was given along with a price path; the path is used.",
+    "yield.fresh_moisture": "A moisture content was given for a dry-matter yield, so it is not used.",
+}
+_TECHNICAL = re.compile(r"^(?P<source>.*?): (?P<key>[a-z_]+\.[^:\s]+): (?P<message>.*)$", re.S)
+_UNUSUAL = re.compile(r"^(?P<value>\S+) is unusual \(expected (?P<lo>[^.]*)\.\.(?P<hi>[^ )]*)(?: \[(?P<unit>[^\]]*)\])?\); "
+                      r"check it$")
+
+
+def source_text(case: Case, path: str) -> str:
+    """Where a value came from, as the grower's page names it: a published source, or "tea default"."""
+    if case.origin.get(path) == "default":
+        return TEA_DEFAULT
+    note = case.notes.get(path, "") or case.origin.get(path, "")
+    if note.startswith("preset "):
+        _name, _, note = note[len("preset "):].partition(": ")
+    if not note or any(note.lower().startswith(word) for word in UNPUBLISHED):
+        return TEA_DEFAULT
+    return note
+
+
+def _key_of(spelled: str) -> schema.Key | None:
+    """The schema key a warning names, in whichever unit spelling the case used."""
+    section, _, name = spelled.partition(".")
+    for k in schema.keys_in(section):
+        if name in units.spellings(k.template) or name == k.name:
+            return k
+    return None
+
+
+def _label(k: schema.Key) -> str:
+    """A key's meaning in a few words: its description up to the first stop, colon or bracket."""
+    words = re.split(r"[.:(;]", k.doc, maxsplit=1)[0].strip()
+    return words[:1].upper() + words[1:]
+
+
+def grower_warning(text: str) -> str:
+    """A warning of the loader, said for a grower: what is unusual and why it matters."""
+    m = _TECHNICAL.match(text)
+    if not m:
+        return text
+    key = _key_of(m["key"])
+    if key is None:
+        return m["message"][:1].upper() + m["message"][1:]
+    if key.path in SPECIAL:
+        return SPECIAL[key.path]
+    why = WHY.get(key.section, "it changes the figures")
+    unusual = _UNUSUAL.match(m["message"])
+    if unusual:
+        unit = f" {unusual['unit']}" if unusual["unit"] and unusual["unit"] != "fraction" else ""
+        lo, hi = unusual["lo"], unusual["hi"]
+        bound = f"{lo} to {hi}" if lo and hi else (f"up to {hi}" if hi else f"from {lo}")
+        return (f"{_label(key)} is {unusual['value']}{unit}, outside the usual range ({bound}{unit}): check it, "
+                f"because {why}.")
+    message = m["message"]
+    return f"{_label(key)}: {message}; check it, because {why}."
+
+
+def grower_warnings(case: Case) -> list[str]:
+    """Every warning of a case, said for a grower, each once."""
+    return list(dict.fromkeys(grower_warning(w) for w in case.warnings))
+
+
+#: the TDWG botanical continents (tea.inputs.schema.REGIONS) in words
+REGION_WORDS = {"europe": "Europe", "africa": "Africa", "asia_temperate": "temperate Asia",
+                "asia_tropical": "tropical Asia", "australasia": "Australasia", "pacific": "the Pacific",
+                "northern_america": "northern America", "southern_america": "southern America",
+                "antarctic": "the Antarctic"}
+
+
+def crop_name(case: Case) -> str:
+    """What the crop is called on the outputs: the case's ``crop.name``, else the preset's name in words."""
+    if case.values.get("crop.name"):
+        return case.values["crop.name"]
+    words = case.preset.name.replace("_", " ")
+    return f"{words} ({case.preset.aliases[0]} type)" if case.preset.aliases else words
+
+
+def non_native_caution(case: Case) -> str | None:
+    """The caution for a crop the preset says is non-native in the case's region (``field.region``), else None."""
+    region = case.values.get("field.region")
+    if not case.preset.non_native_in(region):
+        return None
+    return (f"The crop ({crop_name(case)}) is not native to {REGION_WORDS.get(region, region)}: planting it may be "
+            "regulated (invasive-species and planting rules); check local rules before planting.")

@@ -1,0 +1,151 @@
+"""Laying HTML out as pages and writing PDF, with WeasyPrint (an HTML-to-PDF engine).
+
+A case's page must fit one sheet. :func:`fit` lays the page out once at the
+density its content suggests; if it runs over, it measures by how much (the
+height of the content against the room on the sheet, from anchors placed in
+the page) and lays it out once more at the density that measure calls for.
+Only when that estimate falls short does it step on, one density at a time.
+
+* The page refers to nothing outside itself: the engine's URL fetcher refuses
+  every URL except ``data:`` (the charts, embedded in the page).
+* The same HTML gives the same bytes: no dates in the PDF, and embedded font
+  subsets stamped with a fixed time.
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+import warnings
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+from typing import Any, Callable, Sequence
+
+#: CSS px per inch (CSS Values and Units Level 3, sec. 5.2: 1in = 96px)
+PX_PER_IN = 96.0
+#: share of the sheet a density is chosen to fill at most (a margin for the estimate)
+FILL = 0.98
+#: text height goes as the type size to this power: smaller type also wraps into fewer lines (1.1 to 1.6
+#: measured on the demo pages between densities; near the lower end, so that the chosen density fits)
+TEXT_EXPONENT = 1.25
+#: font subsets are stamped with this time [s since 1970] unless SOURCE_DATE_EPOCH is set:
+#: the font subsetter otherwise writes the current time into each embedded font
+FONT_EPOCH = "0"
+
+
+@lru_cache(maxsize=1)
+def _engine():
+    """WeasyPrint, its shared font configuration and a URL fetcher that allows only ``data:`` URLs."""
+    import weasyprint
+    from weasyprint.text.fonts import FontConfiguration
+
+    logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
+
+
+def layout(html: str, stylesheets: Sequence[Any] = ()):
+    """Lay the HTML out as pages (a :class:`weasyprint.Document`)."""
+    weasyprint, fonts, fetcher = _engine()
+    return weasyprint.HTML(string=html, base_url=None, url_fetcher=fetcher).render(
+        font_config=fonts, stylesheets=list(stylesheets))
+
+
+def combine(docs: Sequence[Any]):
+    """One document of the pages of several, with the first one's metadata (title, description)."""
+    return docs[0].copy([page for doc in docs for page in doc.pages])
+
+
+def write_pdf(doc, target: Path) -> None:
+    """Write a laid-out document as PDF: fonts embedded as subsets, no dates anywhere.
+
+    The subsetter reads the reproducible-builds variable ``SOURCE_DATE_EPOCH``
+    for the timestamp of each subset; it is set for the duration of the write
+    when the environment does not set it.
+    """
+    given = os.environ.get("SOURCE_DATE_EPOCH")
+    if given is None:
+        os.environ["SOURCE_DATE_EPOCH"] = FONT_EPOCH
+    try:
+        doc.write_pdf(str(target))
+    finally:
+        if given is None:
+            os.environ.pop("SOURCE_DATE_EPOCH", None)
+
+
+# ----------------------------------------------------------------------------- fitting one sheet
+@dataclass(frozen=True)
+class Measure:
+    """How a laid-out case page sits on its sheets [CSS px].
+
+    ``height`` is the whole content from the page's start anchor to its end
+    anchor (over as many sheets as it takes), ``fixed`` the part that does
+    not scale with the type (the charts), ``room`` the content height of one
+    sheet.
+    """
+
+    pages: int
+    height: float
+    fixed: float
+    room: float
+
+
+def measure(doc, anchor: str) -> Measure:
+    """Measure the page ``anchor`` in a laid-out document (anchors ``anchor``, ``anchor-end``,
+    ``anchor-fixed`` and ``anchor-fixed-end``)."""
+    where = {}
+    for k, page in enumerate(doc.pages):
+        for name, (_x, y, *_rest) in page.anchors.items():
+            if name.startswith(anchor):
+                where.setdefault(name, (k, y))  # where it starts (a box split over two sheets is on both)
+    (k0, y0), (k1, y1) = where[anchor], where[f"{anchor}-end"]
+    box = doc.pages[k0]._page_box
+    top = box.margin_top + box.border_top_width + box.padding_top
+    room = box.height  # the content box's height: the sheet less its margins
+    height = (k1 - k0) * room + (y1 - top) - (y0 - top)
+    fixed = 0.0
+    if f"{anchor}-fixed" in where and f"{anchor}-fixed-end" in where:
+        (f0, a), (f1, b) = where[f"{anchor}-fixed"], where[f"{anchor}-fixed-end"]
+        fixed = (f1 - f0) * room + b - a
+    return Measure(k1 - k0 + 1, height, max(0.0, fixed), room)
+
+
+def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: Sequence[float], last: int) -> int:
+    """The lowest density above ``current`` whose estimated height fills at most :data:`FILL` of the sheet.
+
+    The charts scale with ``chart_scale[d]``; the text with the type size
+    ``type_scale[d]`` to the power :data:`TEXT_EXPONENT` (smaller type also
+    wraps into fewer lines). Beyond the last type size the estimate cannot
+    tell: the last density.
+    """
+    text = m.height - m.fixed
+    for d in range(current + 1, min(last, len(type_scale) - 1) + 1):
+        fixed = m.fixed * chart_scale[d] / chart_scale[current]
+        if fixed + text * (type_scale[d] / type_scale[current]) ** TEXT_EXPONENT <= FILL * m.room:
+            return d
+    return last
+
+
+def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_scale: Sequence[float],
+        chart_scale: Sequence[float], stylesheets: Sequence[Any] = ()) -> tuple[int, Any]:
+    """The first density (from ``start``) at which the page fits one sheet, and its layout.
+
+    One layout when the page fits at ``start``; else one measure, one
+    estimate and one more layout, stepping on only if the estimate fell short.
+    """
+    density = start
+    doc = layout(html_at(density), stylesheets)
+    if len(doc.pages) == 1 or density >= last:
+        return _checked(density, doc)
+    density = choose(measure(doc, anchor), density, type_scale, chart_scale, last)
+    while True:
+        doc = layout(html_at(density), stylesheets)
+        if len(doc.pages) == 1 or density >= last:
+            return _checked(density, doc)
+        density += 1
+
+
+def _checked(density: int, doc) -> tuple[int, Any]:
+    if len(doc.pages) > 1:
+        warnings.warn(f"the summary takes {len(doc.pages)} pages even at the densest layout", stacklevel=3)
+    return density, doc

@@ -1,0 +1,116 @@
+"""Charts of the printed summary: tick labels, labels that stay clear of the data, SVG text.
+
+Sources named beside each check:
+
+* common practice (any charting handbook): a tick label reads as the value of
+  the gridline it marks, so the label, read as a number, equals the tick value;
+* matplotlib's tick locator chooses the gridlines; the labels come from
+  matplotlib's ScalarFormatter, read back here from the drawn figure and from
+  the SVG text matplotlib wrote;
+* NIST Handbook 44 Appendix C (1 acre = 0.40468564224 ha, 1 short ton = 0.90718474 t)
+  for the US customary case, through the engine's own conversion.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pytest
+
+import tea
+from tea.outputs import charts, report
+
+from conftest import CASES_DIR
+
+MINUS = "\u2212"
+
+
+def _value(label: str) -> float:
+    """A tick label read as a number (true minus sign, thousands separators)."""
+    return float(label.replace(MINUS, "-").replace(",", ""))
+
+
+def _decimals(label: str) -> int:
+    return len(label.split(".")[1]) if "." in label else 0
+
+
+def _svg_texts(svg: str) -> list[str]:
+    return [t.strip() for t in re.findall(r"<text[^>]*>([^<]*)</text>", svg)]
+
+
+def _check_labels(chart: charts.Chart, axis: str = "y") -> list[float]:
+    """Every label of an axis equals its gridline's value and is drawn in the SVG; returns the steps."""
+    ticks = [(v, t) for a, v, t in chart.ticks if a == axis]
+    assert len(ticks) >= 2, chart.ticks
+    texts = _svg_texts(chart.svg)
+    digits = {_decimals(t) for _, t in ticks}
+    assert len(digits) == 1, f"labels with different decimals: {ticks}"  # common practice: one format per axis
+    for value, label in ticks:
+        # common practice: the label is the gridline's value, to the decimals shown, with nothing rounded away
+        assert _value(label) == pytest.approx(value, abs=1e-9 * max(1.0, abs(value))), (label, value)
+        assert label in texts, f"{label} is not drawn in the SVG"
+    values = [v for v, _ in ticks]
+    return [round(b - a, 9) for a, b in zip(values, values[1:])]
+
+
+@pytest.mark.parametrize(("top", "step"), [(1.0, 0.25), (6.0, 1.5), (11.0, 2.5)])
+def test_yield_axis_labels_equal_their_gridlines(top, step):
+    """The three steps the hand-written formatter got wrong (labels 0.2/0.5/0.8, 2/3/4, 2/5/8)."""
+    years = list(range(0, 11))
+    grown = list(np.linspace(0.0, top, len(years)))
+    chart = charts.yield_by_age(years, grown, grown, [1] * len(years), "t DM per ha", name="t")
+    steps = _check_labels(chart)
+    assert set(steps) == {step}, steps  # the locator's step for this range (matplotlib MaxNLocator)
+
+
+def test_year_axis_has_whole_years_only():
+    years = [0.0, 1.0, 2.0, 3.0]  # a short axis, where a locator would otherwise choose half years
+    chart = charts.yield_by_age(years, [0, 1, 2, 2], [0, 0.5, 1.8, 1.8], [0, 1, 1, 1], "t DM per ha", name="t")
+    xs = [v for a, v, _ in chart.ticks if a == "x"]
+    assert xs and all(float(v).is_integer() for v in xs), xs
+    _check_labels(chart, "x")
+
+
+def test_money_axis_labels_equal_their_gridlines():
+    years = list(range(0, 21))
+    cumulative = list(np.cumsum([-2420.0] + [150.0] * 20))
+    chart = charts.cumulative_cash(years, cumulative, None, "EUR per ha", name="c")
+    _check_labels(chart)
+
+
+def test_us_customary_page_charts_label_every_gridline_with_its_value():
+    """The US demo case: yield in short tons per acre, money per acre; every numeric axis of the page."""
+    case = tea.load_case(CASES_DIR / "sandy_slope_switchgrass.toml")
+    assert case.unit_system == "us_customary"
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    drawn = report.page_charts(case, frame, res, "us")
+    units = " ".join(" ".join(_svg_texts(c.svg)) for c in drawn)
+    assert "short ton" in units and "acre" in units
+    for chart in drawn:
+        _check_labels(chart, "y")
+        _check_labels(chart, "x")
+
+
+@pytest.mark.parametrize("payback", [3, 17])
+def test_payback_label_stays_clear_of_the_cash_line(payback):
+    """The label's box holds no point of the cash line (checked along each segment) for an early and a late payback."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    years = list(range(0, 21))
+    flows = [-2000.0] + [2000.0 / payback] * 20  # back to zero exactly at the payback year
+    cumulative = list(np.cumsum(flows))
+    fig = charts.cash_figure(years, cumulative, float(payback), "EUR per ha")
+    FigureCanvasAgg(fig).draw()
+    ax = fig.axes[0]
+    label = next(t for t in ax.texts if "pays back" in t.get_text())
+    box = label.get_window_extent().padded(1.0)
+    xs = np.linspace(0, 20, 2001)
+    line = ax.transData.transform(np.column_stack([xs, np.interp(xs, years, cumulative)]))
+    inside = box.contains_points(line) if hasattr(box, "contains_points") else \
+        [(box.x0 <= x <= box.x1) and (box.y0 <= y <= box.y1) for x, y in line]
+    assert not np.any(inside), f"the payback label covers the cash line (payback in year {payback})"
+    # and the label stays inside the figure
+    fig_box = fig.bbox
+    assert fig_box.x0 <= box.x0 and box.x1 <= fig_box.x1 and fig_box.y0 <= box.y0 and box.y1 <= fig_box.y1

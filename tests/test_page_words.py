@@ -1,0 +1,57 @@
+"""The grower's page speaks to a grower: sources a grower can trust, warnings in plain words.
+
+Sources named beside each check:
+
+* the project's source notes (tea/inputs/presets/*.toml, tea/inputs/schema.py):
+  a value recalled without a document is marked ``from memory``, a fact of the
+  trade ``common practice``; the page must show neither phrase and say
+  "tea default" instead, while published sources (IPCC 2006 Vol. 4 Table 2.3
+  for the reference soil carbon stock) are named;
+* common practice: a warning for a reader who is not the file's author says
+  what is unusual and why it matters, without file names or key paths.
+"""
+
+from __future__ import annotations
+
+import re
+
+import tea
+from tea.outputs import report
+
+from conftest import copy_case, run_cli, to_toml, CASES_DIR
+
+
+def _page_text(case) -> str:
+    frame = tea.build_ledger(case)
+    html = report.summary_html(case, frame, tea.summarise(case, frame), sensitivity=False)
+    body = html[html.index("<body"):]
+    body = re.sub(r"<svg.*?</svg>", " ", body, flags=re.S)
+    return re.sub(r"\s+", " ", re.sub(r"<[^>]+>", " ", body)).replace("&#39;", "'")
+
+
+def test_unpublished_sources_read_tea_default_and_published_ones_are_named(demo_mappings):
+    data = copy_case(demo_mappings["flood_meadow_willow"])
+    data["field"].pop("current_margin_per_ha")  # a schema default: shown as a tea default
+    case = tea.load_text(to_toml(data), source="willow.toml")
+    assert "from memory" in " ".join(case.notes.values())  # the coppice preset has such values
+    text = _page_text(case)
+    assert "from memory" not in text.lower() and "common practice" not in text.lower()
+    assert "tea default" in text
+    assert "IPCC 2006 Vol.4 Ch.2 Table 2.3" in text  # the reference SOC stock's published source
+
+
+def test_warnings_on_the_page_are_for_a_grower_and_technical_in_the_terminal(demo_mappings, tmp_path):
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data["yield"]["site_factor"] = 1.5  # legal but unusual: the schema warns above 1.2
+    path = tmp_path / "pct.toml"
+    path.write_text(to_toml(data), encoding="utf-8")
+    case = tea.load_case(path)
+    text = _page_text(case)
+    said = text[text.index("Worth a second look"):text.index("Before you decide")]
+    assert "pct.toml" not in said and "yield.site_factor" not in said and "check it)" not in said
+    assert "is 1.5, outside the usual range (up to 1.2)" in text and "the yield drives every receipt" in text
+    res = run_cli(["run", path, "--brief"])
+    assert res.code == 0
+    warned = [line for line in res.err_lines if line.startswith("warning:")]
+    assert warned == [f"warning: {path}: yield.site_factor: 1.5 is unusual (expected ..1.2 [fraction]); check it"]
+    assert "warning:" not in res.out  # once, on stderr

@@ -1,0 +1,161 @@
+"""US customary all the way, crop names, another crop on the same field, and cases side by side.
+
+Sources named beside each check:
+
+* NIST Handbook 44 (2024) Appendix C: 1 acre = 0.40468564224 ha, 1 short ton =
+  0.90718474 t, 1 lb = 0.45359237 kg; NIST SP 811 (2008) B.8: 1 Btu (IT) =
+  1055.05585262 J, so 1 MMBtu = 1.05505585262 GJ;
+* TDWG World Geographical Scheme for Recording Plant Distributions, level 1
+  (Brummitt 2001) for the region names;
+* the presets' own region notes (from memory, as each says) for which crop is
+  native where: the check is that the caution follows the preset, not a fact
+  of botany.
+"""
+
+from __future__ import annotations
+
+import re
+import tomllib
+
+import pytest
+
+import tea
+from tea.outputs import side_by_side, terminal
+
+from conftest import CASES_DIR, copy_case, run_cli, to_toml
+
+HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 Appendix C
+T_PER_SHORT_TON = 0.90718474  # NIST Handbook 44 Appendix C
+GJ_PER_MMBTU = 1.05505585262  # NIST SP 811 B.8
+SANDY = CASES_DIR / "sandy_slope_switchgrass.toml"
+CLAY = CASES_DIR / "clay_corner_miscanthus.toml"
+
+
+def _summary(case) -> str:
+    frame = tea.build_ledger(case)
+    return terminal.summary_text(case, frame, tea.summarise(case, frame), yearly=False)
+
+
+def _row(text: str, label: str) -> str:
+    return next(line for line in text.splitlines() if line.strip().startswith(label))
+
+
+def test_us_summary_shows_carbon_in_short_tons_and_energy_in_gj_and_mmbtu():
+    case = tea.load_case(SANDY)
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    text = terminal.summary_text(case, frame, res, yearly=False)
+    soc = _row(text, "SOC gain ")
+    assert "short ton C/acre" in soc and " t C" not in soc
+    gained = res["soc_gain_t_c"] * HA_PER_ACRE / T_PER_SHORT_TON  # t C/ha -> short ton C/acre
+    assert f"{gained:,.2f}" in soc or f"{gained:,.3g}" in soc
+    energy = _row(text, "Energy sold")
+    gj = res["sold_gj"] * HA_PER_ACRE
+    assert f"{gj:,.0f} GJ/acre" in energy and f"{gj / GJ_PER_MMBTU:,.0f} MMBtu/acre" in energy
+
+
+def test_us_starter_has_round_us_values_and_us_words(tmp_path):
+    res = run_cli(["new", tmp_path / "us", "--crop", "switchgrass", "--units", "us_customary", "--currency", "USD"])
+    assert res.code == 0, res.text
+    text = (tmp_path / "us.toml").read_text(encoding="utf-8")
+    data = tomllib.loads(text)
+    assert data["crop"] == {"preset": "seeded_grass", "name": "switchgrass"}
+    given = [v for table in data.values() for k, v in table.items() if k.endswith(("_acre", "_lb", "_mile"))
+             and isinstance(v, float)]
+    assert given and all(round(v, 2) == v for v in given), given  # common practice: examples are round numbers
+    comments = "\n".join(line for line in text.splitlines() if line.startswith("# ") and "Preset:" not in line)
+    assert "per ha" not in comments and "t DM/ha" not in comments
+    assert run_cli(["check", tmp_path / "us.toml"]).code == 0
+
+
+def test_presets_in_us_units():
+    res = run_cli(["presets", "-v", "--units", "us_customary"])
+    assert res.code == 0
+    block = res.out[res.out.index("rhizome_grass:"):]
+    line = next(l for l in block.splitlines() if "yield.mature_short_ton_dm_per_acre" in l and "=" in l)
+    shown = float(line.split("=")[1].split("#")[0])
+    metric = tea.load_case(CLAY).preset.values["yield.mature_t_dm_per_ha"]  # the rhizome grass preset
+    assert shown == pytest.approx(metric * HA_PER_ACRE / T_PER_SHORT_TON, rel=5e-3)  # shown to 3 figures
+    assert "mature_t_dm_per_ha" not in res.out
+
+
+@pytest.mark.parametrize(("region", "shown"), [("europe", True), ("asia_temperate", False), (None, False)])
+def test_non_native_caution_follows_the_preset_for_the_region(demo_mappings, region, shown):
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    if region:
+        data["field"]["region"] = region
+    case = tea.load_text(to_toml(data), source="r.toml")
+    assert case.preset.non_native_in(region) is (True if shown else (False if region else None))
+    assert ("is not native to" in _summary(case)) is shown
+
+
+def test_crop_names_are_aliases_of_presets(demo_mappings):
+    data = copy_case(demo_mappings["flood_meadow_willow"])
+    data["crop"]["preset"] = "Poplar"
+    case = tea.load_text(to_toml(data), source="p.toml")
+    assert case["crop.preset"] == "coppice" and case["crop.name"] == "Poplar"
+
+
+def test_new_from_a_case_keeps_the_field_and_deal_and_changes_the_crop(tmp_path):
+    res = run_cli(["new", tmp_path / "willow", "--from", SANDY, "--crop", "willow"])
+    assert res.code == 0, res.text
+    base = tea.load_case(SANDY)
+    new = tea.load_case(tmp_path / "willow.toml")
+    assert new["crop.preset"] == "coppice" and new["crop.name"] == "willow"
+    assert new.unit_system == base.unit_system and new.currency == base.currency
+    for path in ("field.area_ha", "field.climate", "field.soil", "field.current_margin_per_ha", "finance.discount_rate",
+                 "finance.inflation", "costs.overheads_per_ha", "revenue.price_per_t_dm", "yield.site_factor"):
+        assert new[path] == (base[path] if isinstance(base[path], str) else pytest.approx(base[path], rel=1e-9))
+    assert new["yield.mature_t_dm_per_ha"] == new.preset.values["yield.mature_t_dm_per_ha"]  # the crop's own
+    assert new.stand_life == new.preset.values["finance.stand_life_years"]
+
+
+def test_several_cases_side_by_side_in_the_terminal(tmp_path):
+    assert run_cli(["new", tmp_path / "willow", "--from", SANDY, "--crop", "willow"]).code == 0
+    res = run_cli(["run", CLAY, SANDY, tmp_path / "willow.toml", "--brief"])
+    assert res.code == 0, res.text
+    table = res.out[:res.out.index("Tessel Hollow - clay corner, miscanthus   [DEMO DATA]")]
+    lines = table.splitlines()
+    assert max(len(line) for line in lines) <= side_by_side.WIDTH
+    for label in ("Crop", "Stand life", "Establishment loan", "Lowest DSCR", "NPV"):
+        assert any(line.strip().startswith(label) for line in lines), label
+    crop = " ".join(line for line in lines if line.strip().startswith("Crop"))
+    assert "rhizome grass" in crop and "willow" in crop
+    assert any("no loan" in line for line in lines if line.strip().startswith("Lowest DSCR"))
+
+
+def test_terminal_lines_stay_within_100_characters():
+    res = run_cli(["run", CLAY])
+    assert res.code == 0
+    assert max(len(line) for line in res.out.splitlines()) <= 100  # common practice: a 100-column terminal
+
+
+@pytest.mark.parametrize(("section", "key", "value", "written"), [
+    ("yield", "site_factor", 85, "0.85 for 85"),
+    ("yield", "ramp_up_fractions", [0, 40, 80], "[0, 0.4, 0.8] for [0, 40, 80]"),
+    ("revenue", "price_change_per_year", 2, "0.02 for 2"),
+])
+def test_a_percentage_typed_as_a_whole_number_gets_a_hint(demo_mappings, section, key, value, written):
+    """common practice: 85 typed for 85 % is the usual slip; the hint shows the fraction to write."""
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data[section][key] = value
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_text(to_toml(data), source="p.toml")
+    (problem,) = err.value.problems
+    assert problem.key == f"{section}.{key}" and "looks like a percentage" in problem.message
+    assert written in problem.message
+
+
+def test_a_missing_price_in_a_us_case_names_the_us_key(demo_mappings):
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    data["revenue"].pop("price_per_short_ton_dm")
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_text(to_toml(data), source="us.toml")
+    assert [p.key for p in err.value.problems] == ["revenue.price_per_short_ton_dm"]
+    assert "per short ton of dry matter" in err.value.problems[0].message
+
+
+def test_price_per_gj_unit_is_currency_per_gj():
+    from tea.inputs import schema
+
+    assert schema.BY_PATH["revenue.price_per_gj"].unit_text("metric", "EUR") == "EUR/GJ"
