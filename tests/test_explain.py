@@ -32,7 +32,8 @@ DEMOS = ("clay_corner_miscanthus", "sandy_slope_switchgrass", "flood_meadow_will
 M = expanded(MODEL)
 #: whole-number figures and the line each is read from (the figures' own formulas say so)
 STEPPED = {"payback_year": "cumulative_cash_flow", "discounted_payback_year": "cumulative_discounted_cash_flow",
-           "peak_funding_year": "cumulative_cash_flow", "min_dscr_year": "dscr", "years_below_covenant": "dscr"}
+           "peak_funding_year": "cumulative_cash_flow", "min_dscr_year": "dscr_tested",
+           "years_below_covenant": "dscr_tested"}
 
 
 def changes(case, path):

@@ -261,7 +261,8 @@ class TestCashIdentities:
     def test_every_line_present(self, demo):
         for _, frame, _ in demo.values():
             assert list(frame.columns) == list(LINE_NAMES)
-            assert np.isfinite(frame.drop(columns=["dscr"]).to_numpy(float)).all()
+            ratios = ["dscr", "interest_cover", "llcr"]  # blank where no debt service, interest or balance falls due
+            assert np.isfinite(frame.drop(columns=ratios).to_numpy(float)).all()
 
 
 class TestBreakEven:
@@ -338,10 +339,13 @@ class TestLoan:
 
     @pytest.mark.parametrize("stem", ["clay_corner_miscanthus", "flood_meadow_willow"])
     def test_interest_only_grace(self, stem, demo):
-        case, f, res = demo[stem]
+        case = demo[stem][0].replace(**{"loan.grace_interest": "interest_only", "loan.profile": "annuity",
+                                         "loan.grace_years": 2})
+        f, res = _ledger(case), tea.summarise(case)
         r, n, g = case["loan.rate"], case["loan.term_years"], case["loan.grace_years"]
-        assert case["loan.grace_interest"] == "interest_only" and g > 0
-        principal = case["loan.share_of_establishment"] * f.loc[0, "establishment_cost"]
+        # the share is of the year-0 establishment cost less the grant (loan.sized_on default)
+        principal = case["loan.share_of_establishment"] * (f.loc[0, "establishment_cost"]
+                                                           - case["establishment.grant_per_ha"])
         assert f.loc[0, "loan_drawdown"] == pytest.approx(principal, rel=1e-13)
         for t in range(1, g + 1):  # grace years: interest on the whole loan, no principal
             assert f.loc[t, "loan_interest"] == pytest.approx(principal * r, rel=1e-13)
@@ -359,7 +363,7 @@ class TestLoan:
         assert res["loan_payment"] == pytest.approx(payment, rel=1e-12)
 
     def test_capitalised_grace(self):
-        case = load_case(CLAY).replace(**{"loan.grace_interest": "capitalised"})
+        case = load_case(CLAY).replace(**{"loan.grace_interest": "capitalised", "loan.profile": "annuity"})
         f = _ledger(case)
         r, n, g = case["loan.rate"], case["loan.term_years"], case["loan.grace_years"]
         principal = f.loc[0, "loan_drawdown"]
@@ -374,7 +378,7 @@ class TestLoan:
     def test_tiny_rate_is_repaid_in_equal_parts(self):
         # regression: a rate too small for 1 + r to differ from 1 gave an infinite payment;
         # numpy-financial pmt at rate 0 is principal / n
-        case = load_case(CLAY).replace(**{"loan.rate": 1e-18})
+        case = load_case(CLAY).replace(**{"loan.rate": 1e-18, "loan.profile": "annuity"})
         f = _ledger(case)
         n, g = case["loan.term_years"], case["loan.grace_years"]
         principal = f.loc[0, "loan_drawdown"]
@@ -383,10 +387,19 @@ class TestLoan:
 
     @pytest.mark.parametrize("stem", ["clay_corner_miscanthus", "flood_meadow_willow"])
     def test_dscr_definition(self, stem, demo):
-        # DSCR = cash available for debt service / (principal + interest) (7 CFR § 1744.21 definition)
-        _, f, _ = demo[stem]
-        due = f["debt_service"] > 0
-        assert_allclose(f.loc[due, "dscr"], f.loc[due, "net_cash_flow"] / f.loc[due, "debt_service"], rtol=1e-13)
+        # DSCR = cash available for debt service / (principal + interest) (Yescombe, Principles of Project
+        # Finance, 2nd ed. 2014, ch. 12); the cash available counts what the case's lender counts
+        case, f, _ = demo[stem]
+        inflate = (1 + case["finance.inflation"]) ** f["year"]
+        cfads = (f["net_cash_flow"] - f["tax"]
+                 - (1 - case["loan.cfads_credit_share"]) * f["carbon_credit_revenue"]
+                 - (0 if case["loan.cfads_counts_grants"] else f["grant"])
+                 - (1 - case["loan.cfads_uncontracted_share"]) * f["uncontracted_revenue"]) * inflate
+        assert_allclose(f["cfads"], cfads, rtol=1e-13, atol=1e-9)
+        due = (f["debt_service"] > 0) & (cfads >= 0)
+        assert_allclose(f.loc[due, "dscr"], cfads[due] / f.loc[due, "debt_service"], rtol=1e-13)
         assert f.loc[~due, "dscr"].isna().all()
-        assert_allclose(f["equity_cash_flow"], f["net_cash_flow"] + f["loan_drawdown"] - f["debt_service"],
-                        rtol=1e-13, atol=1e-9)
+        no_wc = case["working_capital.limit_per_ha"] == 0 and case["loan.reserve_years"] == 0
+        if no_wc and case["tax.rate"] == 0:
+            assert_allclose(f["equity_cash_flow"], f["net_cash_flow"] + (f["loan_drawdown"] - f["debt_service"])
+                            / inflate, rtol=1e-13, atol=1e-9)

@@ -174,7 +174,7 @@ class TestFailureEvent:
     @pytest.fixture(scope="class")
     @classmethod
     def failure_only(cls):
-        case = case_with("[risk]\nfailure_event = true\n")
+        case = case_with("[risk]\nfailure_event = true\n[risk.inputs]\n")
         return case, risk.run(case, draws=20_000, seed=11)
 
     def test_share_failed_is_the_failure_probability(self, failure_only):
@@ -201,7 +201,7 @@ class TestFailureEvent:
         np.testing.assert_allclose(success, expected, rtol=1e-10)
 
     def test_failed_draw_pays_replanting_and_ramps_up_a_year_late(self):
-        case = case_with("[risk]\nfailure_event = true\n")
+        case = case_with("[risk]\nfailure_event = true\n[risk.inputs]\n")
         inputs = risk.Inputs({}, np.array([False, True]), np.full(2, 0.15))
         L = evaluate(risk.draw_values(case, inputs), lines=("est_replanting_expected", "growth_t_dm"), rows=2).lines
         life = case.stand_life
@@ -267,7 +267,7 @@ class TestRun:
         assert "min_dscr" in res.stats
 
     def test_no_loan_no_dscr(self):
-        case = case_with("[risk]\nfailure_event = false\n", base=BASE_TEXT.replace("share_of_establishment = 0.6",
+        case = case_with("[risk]\nfailure_event = false\n[risk.inputs]\n", base=BASE_TEXT.replace("share_of_establishment = 0.6",
                                                                                    "share_of_establishment = 0.0"))
         res = risk.run(case, draws=200, seed=1)
         assert res.prob_dscr_below_covenant is None

@@ -123,7 +123,7 @@ class TestBatchEqualsSingleCase:
                 _close(batch.lines[line][i, : life + 1], alone.lines[line][0], f"{name} row {i}: {line}")
             # the year of a minimum may differ only where two years tie to rounding: the line must
             # reach its minimum in the year the batch names
-            for fig, line in (("min_dscr_year", "dscr"), ("peak_funding_year", "cumulative_cash_flow")):
+            for fig, line in (("min_dscr_year", "dscr_tested"), ("peak_funding_year", "cumulative_cash_flow")):
                 year = batch.figures[fig][i]
                 _close(np.isnan(year), np.isnan(alone.figures[fig][0]), f"{name}: {fig} defined")
                 if not np.isnan(year):

@@ -54,7 +54,7 @@ from tea.inputs.case import case_header as json_header
 
 PERCENTILES = (5, 10, 50, 90, 95)
 #: figures drawn per draw
-FIGURES = ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr", "min_dscr", "loan_principal",
+FIGURES = ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr", "min_dscr", "llcr", "loan_principal",
            "dscr_covenant", "establishment_cost")
 #: bins of the NPV histogram
 HISTOGRAM_BINS = 20
@@ -145,6 +145,28 @@ def sample(case: Case, n: int, rng: np.random.Generator, spec: Mapping[str, Any]
             probability = np.full(n, float(case["establishment.failure_probability"]))
         failed = rng.random(n) < probability
     return Inputs(draws, failed, probability)
+
+
+#: most memory a risk run may ask for: the cumulative cash flow of every draw is kept (the percentile band)
+MAX_MEMORY_BYTES = 4e9
+
+
+def memory_estimate(draws: int, case: Case) -> float:
+    """Bytes a run keeps: the cumulative cash flow per draw and year, the figures per draw, and the
+    drawn inputs; the model itself runs in chunks of fixed size."""
+    years = int(case.stand_life) + 6  # room for a drawn stand life
+    return 8.0 * draws * (2 * years + 2 * len(FIGURES) + 32)
+
+
+def default_inputs(case: Case) -> dict[str, dict[str, Any]]:
+    """Triangular distributions (low, base, high) over the key inputs' sensitivity ranges."""
+    out: dict[str, dict[str, Any]] = {}
+    for m in sensitivity.moved_inputs(case):
+        inp, _ = riskspec.resolve(m.path)
+        if inp is None or inp.integer or not (m.low < m.base < m.high):
+            continue  # a whole number (stand life) or a range without a middle is left at its value
+        out[m.path] = {"dist": "triangular", "low": m.low, "mode": m.base, "high": m.high}
+    return out
 
 
 def check_inputs(case: Case, spec: Mapping[str, Any]) -> None:
@@ -305,7 +327,15 @@ def run(case: Case, draws: int | None = None, seed: int | None = None, progress:
     s = int(seed if seed is not None else spec.get("seed", riskspec.DEFAULT_SEED))
     if s < 0:
         raise CaseError([Problem(case.source, "--seed", f"expected a whole number >= 0, got {s}")])
+    defaulted = "inputs" not in spec  # an empty [risk.inputs] table draws no input: failure alone
+    if defaulted:  # no distributions declared: the sensitivity ranges, as triangular distributions
+        spec["inputs"] = default_inputs(case)
     check_inputs(case, spec)
+    estimate = memory_estimate(n, case)
+    if estimate > MAX_MEMORY_BYTES:
+        raise CaseError([Problem(case.source, "--draws", f"{n:,} draws would need about {estimate / 1e9:.1f} GB "
+                                 f"(the cumulative cash flow of every draw is kept for its percentile band); "
+                                 f"at most {MAX_MEMORY_BYTES / 1e9:.0f} GB: use fewer draws")])
     rng = np.random.default_rng(s)
     inputs = sample(case, n, rng, spec)
     values = draw_values(case, inputs)
@@ -318,23 +348,23 @@ def run(case: Case, draws: int | None = None, seed: int | None = None, progress:
     figs, cum = got.figures, got.lines["cumulative_cash_flow"]
     notes: list[str] = []
     stats = {name: stat(figs[name]) for name in ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr")}
-    if not spec.get("inputs"):
-        notes.append("the case declares no [risk.inputs]: only establishment failure is drawn"
-                     if inputs.failed is not None else "the case declares no [risk.inputs] and no failure event: "
-                     "every draw is the same")
+    if defaulted:
+        notes.append("the case declares no [risk.inputs]: its sensitivity ranges are drawn as triangular "
+                     "distributions (low, base, high) of " + ", ".join(riskspec.label(p) for p in spec["inputs"])
+                     + (", with establishment failure" if inputs.failed is not None else ""))
     has_loan = figs["loan_principal"] > 0
     covenant = float(case["loan.dscr_covenant"])
     dscr_prob = None
     if has_loan.any():
-        low = figs["min_dscr"][has_loan]
+        low = figs["min_dscr"][has_loan]  # over each draw's covenant test years (0: cash was negative)
         stats["min_dscr"] = stat(low)
+        stats["llcr"] = stat(figs["llcr"][has_loan])
         dscr_prob = probability(np.nan_to_num(low, nan=np.inf) < covenant)
     else:
         notes.append("no loan: the case borrows nothing, so no DSCR is computed")
     if stats["irr"].undefined:
-        notes.append(f"IRR undefined in {stats['irr'].undefined / n:.1%} of the draws (their cash flows have no "
-                     "unique rate of return, e.g. no sign change or a second one from a late cost); "
-                     "the IRR percentiles are of the other draws")
+        notes.append(f"IRR undefined in {stats['irr'].undefined / n:.1%} of the draws (no single rate, and no "
+                     "single positive one by Norström's criterion); the IRR percentiles are of the other draws")
     band = dict(zip(PERCENTILES, percentiles_by_column(cum, PERCENTILES)))
     counts, edges = np.histogram(figs["npv"], bins=HISTOGRAM_BINS)
     return RiskResult(

@@ -33,7 +33,7 @@ from tea.core.texts import CAUTIONS
 from tea.inputs.case import case_header as json_header
 
 #: the figures recomputed for each variant
-FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use")
+FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use", "min_dscr", "llcr")
 
 
 # ----------------------------------------------------------------------------- inputs of a case

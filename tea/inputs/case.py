@@ -715,8 +715,6 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     start = values.get("yield.decline_start_year")
     if isinstance(life, int) and isinstance(start, int) and start >= life and start > 0:
         warn("yield.decline_start_year", f"year {start} is not before the last year ({life}); no decline is modelled")
-    if values.get("finance.rate_basis") == "real" and values.get("finance.inflation", 0.0) not in (0, 0.0):
-        warn("finance.inflation", "is ignored with rate_basis = real (cash flows are in today's money)")
     # values that would be silently ignored, and growth never harvested
     given = set(spelled)
     n = values.get("harvest.interval_years")
@@ -732,6 +730,13 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     if "yield.fresh_moisture" in given and "yield.mature_t_dm_per_ha" in given and \
             not spelled["yield.mature_t_dm_per_ha"].startswith("mature_fresh"):
         warn("yield.fresh_moisture", "is ignored: the mature yield is given as dry matter")
+    if values.get("revenue.contract_years") and values.get("revenue.contract_price_per_t_dm") is None \
+            and values.get("revenue.contract_price_per_gj") is None:
+        problems.append(Problem(source, "revenue.contract_years", "a fixed-price contract needs its price: give "
+                                "revenue.contract_price_per_t_dm (or contract_price_per_gj)"))
+    if values.get("revenue.contract_price_per_gj") is not None and values.get("revenue.price_per_gj") is None:
+        problems.append(Problem(source, "revenue.contract_price_per_gj", "a contract price per GJ goes with a "
+                                "market price per GJ (revenue.price_per_gj); give contract_price_per_t_dm instead"))
     cfy = values.get("carbon.credit_first_year")
     if isinstance(cfy, int) and isinstance(life, int) and cfy > life and values.get("carbon.credit_price_per_t_co2e"):
         warn("carbon.credit_first_year", f"year {cfy} is after the stand life ({life} years); no credits are paid")

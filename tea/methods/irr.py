@@ -63,7 +63,7 @@ import numpy as np
 from tea.methods._arrays import _flows_2d
 from tea.methods.roots import _COUNT_BLOCK, _positive_roots, _unique_root
 
-__all__ = ["irr", "irr_scalar", "irr_explained", "sign_changes"]
+__all__ = ["irr", "irr_scalar", "irr_explained", "irr_by_rule", "irr_rule_explained", "sign_changes", "cumulative_sign_changes"]
 
 # Rows whose first nonzero coefficient (in the orientation solved) is below
 # this fraction of the largest have roots outside double precision.
@@ -669,3 +669,90 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
 # ---------------------------------------------------------------------------
 # MIRR
 # ---------------------------------------------------------------------------
+
+
+# ---------------------------------------------------------------------------
+# The IRR rule with Norström's criterion
+# ---------------------------------------------------------------------------
+def cumulative_sign_changes(flows):
+    """Sign changes of the cumulative cash flow (zeros skipped), per row.
+
+    >>> int(cumulative_sign_changes([-100, 60, 60, -10]))
+    1
+    """
+    f, one = _flows_2d(flows)
+    out = sign_changes(np.cumsum(f, axis=1))
+    return out if not one else int(np.asarray(out).reshape(-1)[0])
+
+
+def _positive_root(f: np.ndarray) -> np.ndarray:
+    """The rate r > 0 of rows with one root of sum_t f_t z^t for z = 1/(1+r) in (0, 1), f_0 < 0 and a
+    positive sum (Norström's case): the safeguarded Newton solver of the unique-IRR rows, on (0, 1)."""
+    scale = np.max(np.abs(f), axis=1, keepdims=True)
+    z = _solve_unit(_transpose(f / scale))
+    return 1.0 / z - 1.0
+
+
+def irr_by_rule(flows):
+    """The IRR under the project's rule: the unique rate in (-100 %, inf) where there is one
+    (:func:`irr`), else, where the cumulative cash flow changes sign exactly once and ends
+    positive, the one positive rate (Norström's criterion); else undefined (NaN).
+
+    A removal cost at the end of a stand usually gives the flows a second sign change, so
+    Descartes' rule no longer promises one rate; the cumulative cash flow, though, still
+    goes from negative to positive once, and Norström (1972) showed that then exactly one
+    rate is positive: that is the IRR reported. Other (negative) rates may exist:
+    :func:`irr_rule_explained` names them.
+
+    Parameters
+    ----------
+    flows : array_like, shape (years,) or (cases, years)
+
+    Returns
+    -------
+    float or ndarray (cases,)
+
+    References
+    ----------
+    .. [1] C. J. Norström, "A sufficient condition for a unique nonnegative internal rate
+       of return", *Journal of Financial and Quantitative Analysis* 7(3), 1835-1839, 1972.
+
+    Examples
+    --------
+    A stand with a removal cost (numpy-financial's ``irr`` returns the same root):
+
+    >>> round(float(irr_by_rule([-1000, 400, 400, 400, 400, -150])), 6)
+    0.185813
+    """
+    f, one = _flows_2d(flows)
+    rates = np.atleast_1d(np.asarray(irr(f), dtype=float)).copy()
+    todo = np.isnan(rates)
+    if todo.any():
+        cum = np.cumsum(f[todo], axis=1)
+        first = f[todo][:, 0]
+        ok = (np.atleast_1d(sign_changes(cum)) == 1) & (cum[:, -1] > 0) & (first < 0)
+        if ok.any():
+            idx = np.flatnonzero(todo)[ok]
+            rates[idx] = _positive_root(f[idx])
+    return float(rates[0]) if one else rates
+
+
+def irr_rule_explained(flows) -> tuple[float, str | None, str | None]:
+    """(rate, why undefined or None, a note on the rule when Norström's criterion decides)."""
+    v = np.asarray(flows, dtype=float)
+    rate, reason = irr_explained(v)
+    if reason is None:
+        return rate, None, None
+    by_rule = float(irr_by_rule(v))
+    if math.isnan(by_rule):
+        return math.nan, reason, None
+    others = [r for r in _other_rates(v) if abs(r - by_rule) > 1e-6 * (1 + abs(r))]
+    note = ("the cumulative cash flow changes sign once, so exactly one rate is positive (Norström's criterion)"
+            + (f"; other rates making NPV zero: {', '.join(_pct(r) for r in others)}" if others else ""))
+    return by_rule, None, note
+
+
+def _other_rates(v: np.ndarray) -> list[float]:
+    with np.errstate(all="ignore"):
+        roots = _positive_roots(v)
+    return [] if roots is None else sorted(float(r) for r in 1.0 / roots - 1.0)

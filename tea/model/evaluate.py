@@ -28,8 +28,9 @@ from tea.model import separable as S
 from tea.model.methods import METHODS
 from tea.model.slopes import expanded
 
-#: elements of one yearly array of a chunk: 2**16 float64 = 512 kB, so a formula's operands stay in cache
-CACHE_ELEMENTS = 1 << 16
+#: elements of one yearly array of a chunk: 2**19 float64 = 4 MB: most lines are per-row amounts times
+#: shared year patterns (separable.py), so a chunk is mostly small arrays; fewer, larger chunks cost less Python
+CACHE_ELEMENTS = 1 << 19
 #: case keys holding a list (read by year)
 LIST_KEYS = frozenset(k.path for k in schema.KEYS if k.kind == "list")
 
@@ -149,11 +150,14 @@ def _by_year(a: Array, t: Array, start: int, default: float, hold_last: bool) ->
 
 
 def _shift(x: Array, k: int, fill: Array) -> Array:
+    """x k years later (k < 0: |k| years earlier, a lead); ``fill`` where the years run out."""
     years = x.shape[1]
-    out = np.array(np.broadcast_to(fill, (max(x.shape[0], fill.shape[0]), years)), dtype=float)
-    if k < years:
-        out[:, k:] = x[:, : years - k] if x.shape[0] == out.shape[0] else np.broadcast_to(
-            x[:, : years - k], (out.shape[0], years - k))
+    rows = max(x.shape[0], fill.shape[0])
+    out = np.array(np.broadcast_to(fill, (rows, years)), dtype=float)
+    if 0 <= k < years:
+        out[:, k:] = np.broadcast_to(x[:, : years - k], (rows, years - k))
+    elif -years < k < 0:
+        out[:, : years + k] = np.broadcast_to(x[:, -k:], (rows, years + k))
     return out
 
 
@@ -195,6 +199,9 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
     if kind == "lowest":
         low = filled.min(axis=1, keepdims=True)
         return np.where(np.isinf(low) & np.all(np.isnan(x), axis=1, keepdims=True), np.nan, low)
+    if kind == "highest":
+        high = np.where(np.isnan(x), -np.inf, x).max(axis=1, keepdims=True)
+        return np.where(np.all(np.isnan(x), axis=1, keepdims=True), np.nan, high)
     if kind == "year_of_lowest":
         none = np.all(np.isnan(x), axis=1, keepdims=True)
         return np.where(none, np.nan, np.argmin(filled, axis=1)[:, None].astype(float))

@@ -123,8 +123,7 @@ class _Demand:
     """Which years of which declarations, and which inputs, can move a value, given the case's own values.
 
     A demand is a mask of years. A product demands each factor where the other is not zero; a
-    where() its branch where the condition picks it, and the condition; a minimum or maximum the
-    side that wins; a lag the years k before; a running total or window the years it sums; a value
+    where() its branch where the condition picks it, and the condition; a lag the years k before; a running total or window the years it sums; a value
     in a given year that year only; a total every year. Sums, comparisons and methods demand all
     their operands where they are demanded. What it finds is a superset of what can move the value;
     :func:`_moving` keeps the inputs that do.
@@ -203,11 +202,9 @@ class _Demand:
             yield from self.node(n.args[0], m, yearly)
             return
         if isinstance(n, E.Call) and n.fn in ("minimum", "maximum"):
-            a, b = (np.broadcast_to(self.value(x).astype(float), (1, self.years)) for x in n.args)
-            wins_a = (a <= b) if n.fn == "minimum" else (a >= b)
-            wins_b = (b <= a) if n.fn == "minimum" else (b >= a)
-            yield from self.node(n.args[0], m & wins_a, yearly)
-            yield from self.node(n.args[1], m & wins_b, yearly)
+            # both sides: a step of a whole-number input can make the losing side win
+            yield from self.node(n.args[0], m, yearly)
+            yield from self.node(n.args[1], m, yearly)
             return
         if isinstance(n, E.Call) and n.fn == "given":
             return
@@ -218,11 +215,15 @@ class _Demand:
             return
         if isinstance(n, E.Lag):
             if isinstance(n.k, int):
-                before = np.zeros_like(m)
-                if n.k < self.years:
-                    before[:, : self.years - n.k] = m[:, n.k:]
-                yield from self.node(n.x, before, yearly)
-                yield from self.node(n.fill, m & (self.t < n.k), yearly)
+                k = n.k
+                read = np.zeros_like(m)  # the years x is read in: t - k for each demanded t
+                if 0 <= k < self.years:
+                    read[:, : self.years - k] = m[:, k:]
+                elif -self.years < k < 0:
+                    read[:, -k:] = m[:, : self.years + k]
+                outside = (self.t < k) if k >= 0 else (self.t >= self.years + k)
+                yield from self.node(n.x, read, yearly)
+                yield from self.node(n.fill, m & outside, yearly)
             else:
                 yield from self.node(n.x, self._up_to(m), yearly)
                 yield from self.node(n.fill, m, yearly)
@@ -322,11 +323,11 @@ def _text(n: E.Node, model: Model, words: bool, parent: int = -1) -> str:  # noq
     if isinstance(n, E.ByYear):
         return f"{t(n.x)} for the year" if words else f"by_year({t(n.x)})"
     if isinstance(n, E.Reduce):
-        kind = {"total": "total", "at": "at_year", "npv": "npv", "lowest": "lowest", "year_of_lowest": "year_of_lowest",
-                "first_year": "first_year"}[n.kind]
+        kind = {"total": "total", "at": "at_year", "npv": "npv", "lowest": "lowest", "highest": "highest",
+                "year_of_lowest": "year_of_lowest", "first_year": "first_year"}[n.kind]
         if words:
             phrase = {"total": "sum over the years of", "at": "in year", "npv": "present value of",
-                      "lowest": "lowest value of", "year_of_lowest": "year of the lowest", "first_year": "first year of"}
+                      "lowest": "lowest value of", "highest": "highest value of", "year_of_lowest": "year of the lowest", "first_year": "first year of"}
             if n.kind == "at":
                 return f"{t(n.x)} in year {t(n.arg)}"
             if n.kind == "npv":

@@ -38,9 +38,9 @@ from typing import Any, Callable, Iterator
 __all__ = [
     "Node", "Const", "Constant", "Input", "Ref", "Year", "Bin", "Not", "Call", "Lag", "WindowSum", "CumSum",
     "ByYear", "Reduce", "Lookup", "Method", "Slope", "I", "L", "F", "t", "NOTHING", "const", "mod", "sign",
-    "exp", "slope", "where", "minimum", "maximum", "given",
-    "or_default", "lag", "window_sum", "cumsum", "by_year", "total", "at_year", "npv", "lowest",
-    "year_of_lowest", "first_year", "lookup", "method", "wrap", "children", "walk",
+    "exp", "slope", "abs_", "where", "minimum", "maximum", "given",
+    "or_default", "lag", "lead", "window_sum", "cumsum", "by_year", "total", "at_year", "npv", "lowest",
+    "highest", "year_of_lowest", "first_year", "lookup", "method", "wrap", "children", "walk",
 ]
 
 
@@ -284,6 +284,11 @@ def exp(a) -> Node:
     return Call("exp", (wrap(a),))
 
 
+def abs_(a) -> Node:
+    """|a| (named with an underscore: abs is Python's)."""
+    return Call("abs", (wrap(a),))
+
+
 def mod(a, b) -> Node:
     """Remainder of a / b (b > 0), as a spreadsheet's MOD."""
     return Call("mod", (wrap(a), wrap(b)))
@@ -306,6 +311,13 @@ def or_default(x: Input, default) -> Node:
 def lag(x, k=1, fill=0.0) -> Node:
     """The value ``k`` years earlier; before year 0, ``fill`` (a number, or a node read in the same year)."""
     return Lag(wrap(x), k if isinstance(k, int) else wrap(k), wrap(fill))
+
+
+def lead(x, k=1, fill=0.0) -> Node:
+    """The value ``k`` years later; after the last year, ``fill``."""
+    if not isinstance(k, int) or k < 1:
+        raise TypeError("lead() takes a whole number of years >= 1")
+    return Lag(wrap(x), -k, wrap(fill))
 
 
 def window_sum(x: Ref, n) -> Node:
@@ -343,7 +355,13 @@ def npv(x, rate) -> Node:
 
 
 def lowest(x) -> Node:
+    """The lowest value over the years (values that are "no value" left out)."""
     return Reduce("lowest", wrap(x))
+
+
+def highest(x) -> Node:
+    """The highest value over the years (values that are "no value" left out)."""
+    return Reduce("highest", wrap(x))
 
 
 def year_of_lowest(x) -> Node:

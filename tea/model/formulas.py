@@ -92,33 +92,38 @@ class Renderer:
         if d.kind != "line":
             year = None
         body = self.render(d.expr, year)
-        if _is_boolean(d.expr):
+        if _is_boolean(d.expr):  # a comparison with "no value" is false, as in the engine
             body = f"IF({body},1,0)"
+            return f"IFERROR({body},0)" if self.may_be_nothing(d) else body
         if self.may_be_nothing(d):
             body = f'IFERROR({body},"")'
         return body
 
     def may_be_nothing(self, d: Def) -> bool:
-        """Whether a declaration's value may be "no value" (NaN) for some case."""
+        """Whether a declaration's formula may meet "no value" (NaN) for some case."""
         key = d.key
         if key not in self._maybe_nothing:
             self._maybe_nothing[key] = False  # a line that lags itself: assume not, unless shown otherwise
             self._maybe_nothing[key] = self._node_nothing(d.expr)
         return self._maybe_nothing[key]
 
+    def _gives_nothing(self, d: Def) -> bool:
+        """Whether a declaration's own value may be "no value" (a condition is then false, not empty)."""
+        return self.may_be_nothing(d) and not _is_boolean(d.expr)
+
     def _node_nothing(self, n: E.Node) -> bool:
         if isinstance(n, E.Const):
             return isinstance(n.value, float) and math.isnan(n.value)
-        if isinstance(n, E.Reduce) and n.kind in ("at", "lowest", "year_of_lowest", "first_year"):
+        if isinstance(n, E.Reduce) and n.kind in ("at", "lowest", "highest", "year_of_lowest", "first_year"):
             return True
         if isinstance(n, E.Method) and n.name in ("irr", "mirr"):
             return True
         if isinstance(n, E.Ref):
-            return self.may_be_nothing(self.model.get(n))
+            return self._gives_nothing(self.model.get(n))
         if isinstance(n, E.Call) and n.fn in ("given", "or_default"):
             return False
         if isinstance(n, E.Input):
-            return False
+            return _optional(n.path)
         return any(self._node_nothing(c) for c in E.children(n))
 
     # -- expressions
@@ -131,6 +136,8 @@ class Renderer:
         if isinstance(n, E.Constant):
             return lay.constant(n.name)
         if isinstance(n, E.Input):
+            if _optional(n.path):  # an optional input left blank is "no value", as in the engine, not 0
+                return f"IF(ISNUMBER({lay.input(n.path)}),{lay.input(n.path)},NA())"
             return lay.input(n.path)
         if isinstance(n, E.Ref):
             d = self.model.get(n)
@@ -152,7 +159,9 @@ class Renderer:
         if isinstance(n, E.Not):
             return f"NOT({self.render(n.a, year)})"
         if isinstance(n, E.Call):
-            r = [self.render(a, year) for a in n.args]
+            raw = n.fn in ("given", "or_default")  # these read an optional input's cell as it is
+            r = [lay.input(a.path) if raw and i == 0 and isinstance(a, E.Input) else self.render(a, year)
+                 for i, a in enumerate(n.args)]
             fn = n.fn
             if fn == "where":
                 return f"IF({r[0]},{r[1]},{r[2]})"
@@ -173,7 +182,8 @@ class Renderer:
             if isinstance(n.k, int):
                 if year is None:
                     raise ValueError("lag() needs a year")
-                return self.render(n.x, year - n.k) if year - n.k >= 0 else self.render(n.fill, year)
+                inside = 0 <= year - n.k <= lay.last_year
+                return self.render(n.x, year - n.k) if inside else self.render(n.fill, year)
             x = self._ref(n.x, "lag() by a varying number of years")
             k = self.render(n.k, None)
             t = lay.year(year)
@@ -235,6 +245,8 @@ class Renderer:
             return f"INDEX({whole},{self._operand(n.arg, '+', None, False)}+1)"
         if n.kind == "lowest":
             return f"IF(COUNT({whole})>0,MIN({whole}),NA())"
+        if n.kind == "highest":
+            return f"IF(COUNT({whole})>0,MAX({whole}),NA())"
         if n.kind == "year_of_lowest":
             return f"IF(COUNT({whole})>0,INDEX({lay.years()},MATCH(MIN({whole}),{whole},0)),NA())"
         if n.kind == "first_year":
@@ -257,6 +269,14 @@ def _is_list(path: str) -> bool:
     from tea.model.evaluate import LIST_KEYS
 
     return path in LIST_KEYS
+
+
+def _optional(path: str) -> bool:
+    """An optional number: a case may leave it out (schema default None)."""
+    from tea.inputs import schema
+
+    k = schema.BY_PATH.get(path)
+    return k is not None and k.default is None and k.kind in ("float", "int")
 
 
 __all__ = ["Layout", "Renderer"]

@@ -14,6 +14,7 @@ from typing import Any, Callable
 import numpy as np
 
 from tea.methods import finance, loan
+from tea.methods.irr import irr_by_rule
 
 
 @dataclass(frozen=True)
@@ -31,11 +32,14 @@ def _kw(node) -> dict:
 
 
 def _irr_sheet(r, n) -> str:
-    """IRR over years 0..stand life where the flows change sign once or an odd number of times (Descartes)."""
+    """IRR over years 0..stand life where the flows change sign an odd number of times (Descartes), or
+    where their running total changes sign once from a cost to a positive end (Norström's criterion)."""
     kw = _kw(n)
-    changes = r.render(kw["changes"], None)
+    changes, cum_changes = r.render(kw["changes"], None), r.render(kw["cum_changes"], None)
+    first, end = r.render(kw["first"], None), r.render(kw["end"], None)
     flows = r.years_to(n.args[0], kw["life"])
-    return f"IF(OR({changes}=0,ISEVEN({changes})),NA(),IRR({flows},{r.render(kw['guess'], None)}))"
+    rule = f"OR(AND({changes}>0,ISODD({changes})),AND({cum_changes}=1,{first}<0,{end}>0))"
+    return f"IF({rule},IRR({flows},{r.render(kw['guess'], None)}),NA())"
 
 
 def _mirr_sheet(r, n) -> str:
@@ -59,7 +63,7 @@ def _column(x) -> np.ndarray:
 
 
 def _irr(flows: np.ndarray) -> np.ndarray:
-    return _column(np.atleast_1d(finance.irr(flows)))
+    return _column(np.atleast_1d(irr_by_rule(flows)))
 
 
 def _mirr(flows: np.ndarray, finance_rate, reinvest_rate, life) -> np.ndarray:
@@ -85,10 +89,11 @@ def _annuity_factor(rate, n) -> np.ndarray:
 
 METHODS: dict[str, MethodDef] = {
     m.name: m for m in (
-        MethodDef("irr", "Internal rate of return: the one rate at which the flows' NPV is zero; undefined "
-                  "(not a number) where no rate or more than one rate does.", _irr, _irr_sheet,
-                  source="polynomial root with uniqueness by Descartes' rule of signs and root counting "
-                         "(tea.methods.finance.irr)"),
+        MethodDef("irr", "Internal rate of return: the one rate at which the flows' NPV is zero, or, where the "
+                  "running total of the flows changes sign once, the one positive rate (Norström's criterion); "
+                  "undefined (not a number) otherwise.", _irr, _irr_sheet,
+                  source="polynomial root counted by Descartes' rule of signs; Norström (1972), J. Financial and "
+                         "Quantitative Analysis 7(3) (tea.methods.irr.irr_by_rule)"),
         MethodDef("mirr", "Modified IRR over years 0..stand life, at the finance and reinvestment rates.", _mirr,
                   _mirr_sheet,
                   source="MIRR, as numpy-financial and spreadsheets define it"),

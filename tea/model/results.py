@@ -17,7 +17,7 @@ import pandas as pd
 from tea import __version__
 from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
-from tea.methods import finance
+from tea.methods.irr import irr_rule_explained
 from tea.model.declare import Def
 from tea.model.definition import MODEL
 from tea.model.evaluate import evaluate
@@ -93,14 +93,16 @@ def summarise(case: Case, frame: pd.DataFrame | None = None, model=MODEL) -> Res
     if frame is not None and frame.attrs.get("case_hash") != case.hash:
         raise ValueError("this ledger was not built from this case")
     names = [f.name for f in model.figures]
-    got = evaluate(case.values, figures=names, lines=("net_cash_flow", "incremental_cash_flow"), model=model, rows=1)
+    flows = {"irr": "net_cash_flow", "irr_vs_current_use": "incremental_cash_flow", "irr_after_tax": "after_tax_cash_flow"}
+    got = evaluate(case.values, figures=names, lines=tuple(flows.values()), model=model, rows=1)
     per_ha = {name: _clean(got.figures[name][0]) for name in names}
     notes: dict[str, str] = {}
-    for name, flows in (("irr", got.lines["net_cash_flow"][0]),
-                        ("irr_vs_current_use", got.lines["incremental_cash_flow"][0])):
-        _, reason = finance.irr_explained(flows)
+    for name, line in flows.items():
+        _, reason, rule = irr_rule_explained(got.lines[line][0])
         if reason:
             notes[name] = f"IRR undefined: {reason}"
+        elif rule:
+            notes[name] = f"IRR by the project's rule: {rule}"
     if per_ha["payback_year"] is None:
         notes["payback_year"] = "the cumulative cash flow never returns to zero within the stand life"
     if per_ha["discounted_payback_year"] is None:
@@ -109,6 +111,16 @@ def summarise(case: Case, frame: pd.DataFrame | None = None, model=MODEL) -> Res
         notes["breakeven_mature_yield_t_dm_per_ha"] = "negative: the stand pays even with no harvest"
     if per_ha["min_dscr"] is None:
         notes["min_dscr"] = "no loan: no debt service falls due"
+    elif per_ha["years_below_covenant"]:
+        notes["min_dscr"] = (f"below the covenant in {per_ha['years_below_covenant']:.0f} test year(s); "
+                             "0 means the cash available was negative")
+    if case["loan.profile"] == "sculpted" and per_ha["loan_principal"]:
+        notes["breakeven_price_at_covenant"] = "not meaningful for a sculpted loan: it is sized to its target DSCR"
+    for name in ("breakeven_price", "breakeven_price_vs_current_use"):
+        if per_ha[name] is None:
+            notes[name] = "undefined: no biomass is sold at the market price, so no price brings NPV to zero"
+        elif per_ha[name] < 0:
+            notes[name] = "negative: the stand pays even if the biomass were given away"
     if per_ha["mirr"] is None:
         notes["mirr"] = "MIRR undefined: the flows need both a cost and a receipt"
     return Results(

@@ -61,7 +61,9 @@ def dense(x: Any) -> Any:
     if not isinstance(x, Sep):
         return x
     if x.made is None:
-        if len(x.terms) == 1:
+        if not x.terms:  # every term cancelled
+            x.made = np.zeros((x.rows, x.years))
+        elif len(x.terms) == 1:
             c, p = x.terms[0]
             x.made = np.multiply(c, p)
         else:
@@ -223,14 +225,19 @@ def shift(x: Sep, k: int, fill: Any = 0.0) -> Any:
     out = []
     for c, p in x.terms:
         q = np.zeros_like(p, dtype=float)
-        if k < p.shape[1]:
+        if 0 <= k < p.shape[1]:
             q[:, k:] = p[:, : p.shape[1] - k]
+        elif -p.shape[1] < k < 0:
+            q[:, : p.shape[1] + k] = p[:, -k:]
         out.append((c, q))
     shifted = Sep(out, x.rows, x.years)
     if _scalar(fill) and float(np.asarray(fill)) == 0.0:
         return shifted
     head = np.zeros((1, x.years))
-    head[:, :k] = 1.0
+    if k >= 0:
+        head[:, :k] = 1.0
+    else:
+        head[:, x.years + k:] = 1.0
     terms = _terms(fill, x.years)
     if terms is None:  # a dense fill: only its first k years count
         return dense(shifted) + np.asarray(fill) * head

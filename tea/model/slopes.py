@@ -146,6 +146,8 @@ class _Deriver:
                 return E.Call("where", (E.Call("given", (args[0],)), dx, dd))
             if n.fn in ("given", "sign", "mod"):
                 return ZERO
+            if n.fn == "abs":
+                return _mul(E.Call("sign", (args[0],)), self.d(args[0]))
             raise NotImplementedError(f"slope of {n.fn}()")
         if isinstance(n, E.Lag):
             dx, dfill = self.d(n.x), self.d(n.fill)

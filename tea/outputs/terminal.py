@@ -10,6 +10,7 @@ import pandas as pd
 from tea import __version__
 from tea.inputs import display
 from tea.inputs.case import Case, case_header, load_preset, preset_names
+from tea.analysis.lender import lender_cases
 from tea.outputs.advice import non_native_caution
 from tea.outputs.headline import headline
 from tea.model.ledger import BY_NAME, LINE_NAMES
@@ -235,6 +236,10 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
         "lines": {name: [_json_number(v) for v in frame[name]] for name in LINE_NAMES if name != "year"},
     }
     payload["inputs"] = {path: value for path, value in sorted(case.values.items())}
+    lender = lender_cases(case)
+    payload["lender"] = {"bankable": {k: _json_number(v) for k, v in lender.base.items()},
+                         "downside": {k: _json_number(v) for k, v in lender.downside.items()},
+                         "downside_terms": lender.terms}
     return payload
 
 

@@ -17,3 +17,11 @@ WATER_VAPORISATION = const(
     "water_vaporisation_gj_per_t", 2.443, "GJ/t water",
     "Energy to evaporate the water delivered with the fuel, per tonne of water (at 25 °C)",
     "ISO 18125:2017, net calorific value as received: q_net,ar = q_net,d (1 - M) - 2.443 M [MJ/kg]")
+REPAID_TOLERANCE = const(
+    "repaid_tolerance", 1e-9, "fraction",
+    "A loan balance within this share of being repaid by the year's scheduled principal is repaid in full",
+    "numerical: the rounding of the repayment arithmetic, not a term of any loan")
+TIE_TOLERANCE = const(
+    "tie_tolerance", 1e-9, "fraction",
+    "Values within this share of the lowest count as the lowest (the first such year is reported)",
+    "numerical: values equal but for rounding tie, in the engine and in a spreadsheet alike")

@@ -95,7 +95,7 @@ DEFS = (
          L.k2o_offtake_kg * N.k2o_replace_share),
     line("fertiliser_cost", "money/ha", "costs", "Replacement fertiliser",
          "Replacement fertiliser (excluding establishment N) and its spreading.",
-         L.n_replaced_kg * N.n_price_per_kg + L.p2o5_applied_kg * N.p2o5_price_per_kg
-         + L.k2o_applied_kg * N.k2o_price_per_kg
-         + (L.n_replaced_kg + L.p2o5_applied_kg + L.k2o_applied_kg > 0) * N.spreading_per_ha),
+         (L.n_replaced_kg * N.n_price_per_kg + L.p2o5_applied_kg * N.p2o5_price_per_kg
+          + L.k2o_applied_kg * N.k2o_price_per_kg
+          + (L.n_replaced_kg + L.p2o5_applied_kg + L.k2o_applied_kg > 0) * N.spreading_per_ha) * L.cost_index),
 )

@@ -17,10 +17,11 @@
 from __future__ import annotations
 
 from tea.model.declare import figure, line, param
-from tea.model.definition.constants import C_TO_CO2, KG_PER_T
+from tea.model.definition.constants import C_TO_CO2, KG_PER_T, TIE_TOLERANCE
 from tea.model.definition.money import real
-from tea.model.expr import (NOTHING, F, I, L, at_year, cumsum, first_year, given, lag, lowest, maximum, method,
-                            npv, sign, slope, t, total, where, year_of_lowest)
+from tea.model.expr import (NOTHING, F, I, L, at_year, cumsum, first_year, given, highest, lag, lowest, maximum,
+                            method, npv, sign, slope, t, total, where)
+from tea.model.expr import abs_
 
 LIFE = I.finance.stand_life_years
 RATE = L.discount_rate_real
@@ -30,6 +31,13 @@ MATURE = I.yield_.mature_t_dm_per_ha
 def _breakeven(fig, x):
     """The value of input ``x`` that makes figure ``fig`` zero, where the figure rises with it."""
     return where(slope(fig, x) > 0, x - fig / slope(fig, x), NOTHING)
+
+
+def _at_covenant(x):
+    """By covenant test year: the value of input ``x`` at which that year's DSCR equals the covenant
+    (CFADS is linear in it; the debt service of an annuity or straight-line loan does not move with it)."""
+    need = L.cfads - I.loan.dscr_covenant * L.debt_service
+    return where(L.covenant_test_year & (slope(L.cfads, x) > 0), x - need / slope(L.cfads, x), NOTHING)
 
 
 def _payback_workings(flow: str, cum: str, prefix: str):
@@ -46,6 +54,14 @@ def _payback_workings(flow: str, cum: str, prefix: str):
     )
 
 
+def _lowest_workings(x: str, name: str):
+    """A working line flagging the years a line is at its lowest (within rounding): the first is its year."""
+    return line(name, "flag", "workings", f"At the lowest {x.replace('_', ' ')}",
+                f"1 in the years the {x.replace('_', ' ')} is at its lowest, within rounding.",
+                L.__getattr__(x) <= lowest(L.__getattr__(x)) + TIE_TOLERANCE * abs_(lowest(L.__getattr__(x))),
+                show=False)
+
+
 def _payback(prefix: str):
     return where(total(L.__getattr__(f"{prefix}_below")) == 0, 0, first_year(L.__getattr__(f"{prefix}_back")))
 
@@ -53,6 +69,26 @@ def _payback(prefix: str):
 def _interpolated(year, flow: str, cum: str):
     """t - 1 + the deficit at the end of year t - 1 / the flow of year t."""
     return where(year == 0, 0, year - 1 - at_year(L.__getattr__(cum), year - 1) / at_year(L.__getattr__(flow), year))
+
+
+def _irr(flow: str, prefix: str):
+    """The IRR of a cash flow line, with what its spreadsheet rule reads (sign changes of the flow and of its
+    running total, first flow, running total at removal)."""
+    return method("irr", L.__getattr__(flow), changes=total(L.__getattr__(f"{prefix}_sign_change")),
+                  cum_changes=total(L.__getattr__(f"{prefix}_cumulative_sign_change")),
+                  first=at_year(L.__getattr__(flow), 0), end=at_year(L.__getattr__(f"{prefix}_cumulative"), LIFE),
+                  guess=F.mirr, life=LIFE)
+
+
+def _irr_workings(flow: str, prefix: str):
+    """Working lines of the IRR rule: the flow's sign changes, its running total and that total's sign changes."""
+    return (
+        *_sign_workings(flow, prefix),
+        line(f"{prefix}_cumulative", "money/ha", "workings", f"Running total of the {flow.replace('_', ' ')}",
+             f"Running total of the {flow.replace('_', ' ')} (Norström's criterion reads its signs).",
+             cumsum(L.__getattr__(flow)), show=False),
+        *_sign_workings(f"{prefix}_cumulative", f"{prefix}_cumulative"),
+    )
 
 
 def _sign_workings(flow: str, prefix: str):
@@ -72,11 +108,17 @@ def _sign_workings(flow: str, prefix: str):
 WORKINGS = (
     *_payback_workings("net_cash_flow", "cumulative_cash_flow", "payback"),
     *_payback_workings("discounted_cash_flow", "cumulative_discounted_cash_flow", "discounted_payback"),
-    *_sign_workings("net_cash_flow", "net"),
-    *_sign_workings("incremental_cash_flow", "incremental"),
-    line("below_covenant", "flag", "workings", "DSCR below the covenant",
-         "1 in a year with debt service whose DSCR is below the covenant.",
-         (L.debt_service > 0) & (L.dscr < I.loan.dscr_covenant), show=False),
+    _lowest_workings("dscr_tested", "dscr_at_lowest"),
+    _lowest_workings("cumulative_cash_flow", "cumulative_cash_flow_at_lowest"),
+    *_irr_workings("net_cash_flow", "net"),
+    *_irr_workings("incremental_cash_flow", "incremental"),
+    *_irr_workings("after_tax_cash_flow", "after_tax"),
+    line("price_at_covenant_by_year", "money/price unit", "workings", "Price at the covenant, by test year",
+         "Market price at which a test year's DSCR equals the covenant.",
+         where(given(I.revenue.price_per_gj), _at_covenant(I.revenue.price_per_gj),
+               _at_covenant(I.revenue.price_per_t_dm)), show=False),
+    line("yield_at_covenant_by_year", "t DM/ha/yr", "workings", "Mature yield at the covenant, by test year",
+         "Mature yield at which a test year's DSCR equals the covenant.", _at_covenant(MATURE), show=False),
     line("cumulative_equity_cash_flow", "money/ha", "workings", "Cumulative own cash",
          "Running total of the grower's own cash flow.", cumsum(L.equity_cash_flow), show=False),
     param("mirr_finance_rate_real", "fraction/yr", "cash", "MIRR finance rate",
@@ -101,10 +143,9 @@ DEFS = WORKINGS + (
            "Present value of what the field nets under its current use (margin - rent - overheads) over the stand life.",
            npv(L.current_use_cash_flow, RATE), scales=True),
     figure("irr", "fraction", "cash", "IRR", "Internal rate of return of the stand's cash flows (real).",
-           method("irr", L.net_cash_flow, changes=total(L.net_sign_change), guess=F.mirr, life=LIFE)),
+           _irr("net_cash_flow", "net")),
     figure("irr_vs_current_use", "fraction", "cash", "IRR vs current use", "IRR of the incremental cash flows.",
-           method("irr", L.incremental_cash_flow, changes=total(L.incremental_sign_change), guess=F.mirr,
-                  life=LIFE)),
+           _irr("incremental_cash_flow", "incremental")),
     figure("mirr", "fraction", "cash", "MIRR", "Modified IRR (finance and reinvestment rates as the case says).",
            method("mirr", L.net_cash_flow, L.mirr_finance_rate_real, L.mirr_reinvest_rate_real, LIFE)),
     figure("eav", "money/ha/yr", "cash", "Equivalent annual value",
@@ -139,11 +180,15 @@ DEFS = WORKINGS + (
     figure("breakeven_mature_yield_vs_current_use_t_dm_per_ha", "t DM/ha/yr", "breakeven",
            "Break-even yield vs current use", "Mature yield that makes the stand match the current use.",
            _breakeven(F.npv_vs_current_use, MATURE)),
+    figure("breakeven_sold_t_dm_per_ha_per_year", "t DM/ha/yr", "breakeven", "Break-even dry matter sold",
+           "Dry matter sold per year, on average over the stand life, at the break-even mature yield: the "
+           "break-even in what the grower delivers (after site factor, ramp-up and losses).",
+           where(MATURE > 0, F.mean_sold_t_dm_per_year * F.breakeven_mature_yield_t_dm_per_ha / MATURE, NOTHING)),
     figure("peak_funding_need", M, "cash", "Peak funding need",
            "Deepest point of the cumulative cash flow, as a positive amount.",
            maximum(0, 0 - lowest(L.cumulative_cash_flow)), scales=True),
     figure("peak_funding_year", "yr", "cash", "Peak funding in", "Year of the peak funding need.",
-           year_of_lowest(L.cumulative_cash_flow)),
+           first_year(L.cumulative_cash_flow_at_lowest)),
     figure("establishment_cost", M, "cash", "Establishment cost",
            "Establishment cost, with the expected replanting in year 1.", total(L.establishment_cost), scales=True),
     figure("sold_t_dm", "t DM/ha", "output", "Dry matter sold (life)", "Dry matter sold over the stand life.",
@@ -183,16 +228,62 @@ DEFS = WORKINGS + (
            npv(L.carbon_credit_revenue, RATE), scales=True),
     figure("loan_principal", M, "loan", "Establishment loan", "Establishment loan drawn at planting.",
            at_year(L.loan_drawdown, 0), scales=True),
-    figure("loan_payment", "money/ha/yr", "loan", "Yearly loan payment", "Level yearly payment once the grace years end.",
-           where(L.loan_amount > 0, L.loan_level_payment, 0), scales=True),
+    figure("loan_payment", "money/ha/yr", "loan", "Largest yearly debt service",
+           "Largest debt service of a year (the level payment of an annuity).", highest(L.debt_service),
+           scales=True),
     figure("loan_interest_total", M, "loan", "Interest over the loan", "Interest over the life of the loan.",
            total(L.loan_interest), scales=True),
-    figure("min_dscr", "ratio", "loan", "Lowest DSCR", "Lowest debt service cover ratio over the loan.",
-           lowest(L.dscr)),
-    figure("min_dscr_year", "yr", "loan", "Lowest DSCR in", "Year of the lowest DSCR.", year_of_lowest(L.dscr)),
+    figure("min_dscr", "ratio", "loan", "Lowest DSCR",
+           "Lowest debt service cover ratio of the covenant test years (0 where the cash available is negative).",
+           lowest(L.dscr_tested)),
+    figure("min_dscr_year", "yr", "loan", "Lowest DSCR in", "Year of the lowest DSCR.", first_year(L.dscr_at_lowest)),
     figure("dscr_covenant", "ratio", "loan", "DSCR covenant", "DSCR the lender requires.", I.loan.dscr_covenant + 0),
     figure("years_below_covenant", "yr", "loan", "Years below covenant",
-           "Number of years the DSCR falls below the covenant.", total(L.below_covenant)),
+           "Number of covenant test years whose DSCR falls below the covenant.", total(L.below_covenant)),
+    figure("money_short_of_debt_service", M, "loan", "Debt service not covered",
+           "Debt service the cash available does not cover, summed over the years.", total(L.dscr_shortfall),
+           scales=True),
+    figure("min_interest_cover", "ratio", "loan", "Lowest interest cover",
+           "Lowest CFADS / interest paid over the covenant test years.", lowest(L.interest_cover_tested)),
+    figure("llcr", "ratio", "loan", "LLCR at the first test",
+           "Loan-life cover ratio at the start of the first covenant test year.",
+           at_year(L.llcr, L.covenant_first_year)),
+    figure("min_llcr", "ratio", "loan", "Lowest LLCR", "Lowest loan-life cover ratio over the loan's life.",
+           lowest(L.llcr)),
+    figure("loan_repaid_year", "yr", "loan", "Loan repaid in", "Last year with a balance owed before it is cleared.",
+           where(L.loan_amount > 0, I.loan.grace_years + I.loan.term_years, NOTHING)),
+    figure("breakeven_price_at_covenant", "money/price unit", "loan", "Break-even price at the covenant",
+           "Market price at which the lowest DSCR of the test years equals the covenant (annuity and straight-line "
+           "profiles; a sculpted one is sized to its target).",
+           where(I.loan.profile == "sculpted", NOTHING, highest(L.price_at_covenant_by_year))),
+    figure("breakeven_yield_at_covenant_t_dm_per_ha", "t DM/ha/yr", "loan", "Break-even yield at the covenant",
+           "Mature yield at which the lowest DSCR of the test years equals the covenant.",
+           where(I.loan.profile == "sculpted", NOTHING, highest(L.yield_at_covenant_by_year))),
+    # sources and uses of funds at planting
+    figure("uses_establishment", M, "sources_uses", "Uses: establishment (year 0)",
+           "Establishment cost spent at planting.", at_year(L.establishment_cost, 0), scales=True),
+    figure("uses_reserve", M, "sources_uses", "Uses: debt service reserve", "Reserve funded at planting.",
+           at_year(L.reserve_funding, 0), scales=True),
+    figure("uses_total", M, "sources_uses", "Uses: total", "Establishment and reserve at planting.",
+           F.uses_establishment + F.uses_reserve, scales=True),
+    figure("sources_loan", M, "sources_uses", "Sources: loan", "Establishment loan drawn.", L.loan_amount + 0,
+           scales=True),
+    figure("sources_bridge", M, "sources_uses", "Sources: grant bridge", "Grant bridge drawn at planting.",
+           at_year(L.bridge_drawdown, 0), scales=True),
+    figure("sources_grant", M, "sources_uses", "Sources: grant at planting", "Grant received at planting.",
+           at_year(L.grant, 0), scales=True),
+    figure("sources_own", M, "sources_uses", "Sources: own funds", "The grower's own money at planting.",
+           F.uses_total - F.sources_loan - F.sources_bridge - F.sources_grant, scales=True),
+    figure("loan_to_cost", "fraction", "sources_uses", "Loan to cost",
+           "Loan / establishment cost at planting.",
+           where(F.uses_establishment > 0, F.sources_loan / F.uses_establishment, NOTHING)),
+    # after tax
+    figure("npv_after_tax", M, "tax", "NPV after tax", "NPV of the stand's cash flows after its own tax.",
+           npv(L.after_tax_cash_flow, RATE), scales=True),
+    figure("irr_after_tax", "fraction", "tax", "IRR after tax", "IRR of the stand's cash flows after its own tax.",
+           _irr("after_tax_cash_flow", "after_tax")),
+    figure("tax_total", M, "tax", "Tax over the stand life", "The stand's own tax, summed over the years.",
+           total(L.tax), scales=True),
     figure("equity_peak_funding_need", M, "loan", "Peak own funding after loan",
            "Deepest point of the grower's own cumulative cash, after the loan.",
            maximum(0, 0 - lowest(L.cumulative_equity_cash_flow)), scales=True),

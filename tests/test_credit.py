@@ -1,0 +1,210 @@
+"""The credit file's arithmetic: repayment profiles, cover ratios, tax, escalation, contracts, the IRR rule.
+
+Outside checks: numpy-financial 1.0 (npv, irr, pmt, ipmt, ppmt), hand-worked
+examples recomputed here step by step from their definitions in Yescombe,
+*Principles of Project Finance*, 2nd ed., 2014, ch. 12 (DSCR = CFADS / debt
+service; LLCR = present value at the loan's rate of CFADS over the remaining
+loan life / debt outstanding; interest cover = CFADS / interest; sculpting:
+debt service = CFADS / target DSCR, the debt the present value of that
+service), and Norström, C. J. (1972), "A sufficient condition for a unique
+nonnegative internal rate of return", Journal of Financial and Quantitative
+Analysis 7(3) (one sign change of the cumulative cash flow: one positive IRR).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import numpy_financial as npf
+import pytest
+from numpy.testing import assert_allclose
+
+import tea
+from tea.methods.irr import irr_by_rule, irr_rule_explained
+
+ROOT = Path(__file__).resolve().parents[1]
+CLAY = ROOT / "cases" / "clay_corner_miscanthus.toml"
+WILLOW = ROOT / "cases" / "flood_meadow_willow.toml"
+
+
+def run(path, **changes):
+    case = tea.load_case(path).replace(**changes)
+    return case, tea.build_ledger(case), tea.summarise(case)
+
+
+class TestProfiles:
+    def test_straight_line_repays_equal_principal(self):
+        case, f, res = run(CLAY, **{"loan.profile": "straight_line", "loan.grace_interest": "interest_only",
+                                    "loan.grace_years": 2})
+        r, n, g = case["loan.rate"], case["loan.term_years"], case["loan.grace_years"]
+        amount = f.loc[0, "loan_drawdown"]
+        balance = amount
+        for k in range(1, n + 1):  # hand-worked: equal principal, interest on the opening balance
+            t = g + k
+            assert f.loc[t, "loan_principal"] == pytest.approx(amount / n, rel=1e-12)
+            assert f.loc[t, "loan_interest"] == pytest.approx(balance * r, rel=1e-12)
+            balance -= amount / n
+            assert f.loc[t, "loan_balance"] == pytest.approx(balance, rel=1e-9, abs=1e-9)
+        assert res["loan_payment"] == pytest.approx(amount / n + amount * r, rel=1e-12)  # the first, largest
+
+    def test_sculpted_loan_has_the_target_dscr_in_every_test_year(self):
+        # a target high enough that the debt it repays is below the loan asked for: the loan is capped
+        case, f, res = run(WILLOW, **{"loan.profile": "sculpted", "loan.share_of_establishment": 1.0,
+                                      "loan.sculpt_dscr": 3.0})
+        test = f["covenant_test_year"] == 1
+        assert test.sum() >= 3  # the harvest years within the term
+        assert_allclose(f.loc[test, "dscr"], 3.0, rtol=1e-10)  # service = CFADS / target, year by year
+        assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
+        # the loan is capped at the present value, at its rate, of CFADS / target over the repayment years
+        g, n, r = case["loan.grace_years"], case["loan.term_years"], case["loan.rate"]
+        service = np.where((f["year"] > g) & (f["year"] <= g + n), np.maximum(f["cfads"], 0) / 3.0, 0.0)
+        capacity = npf.npv(r, np.concatenate([[0.0], service[g + 1:]]))
+        cap = capacity / (1 + r) ** g if case["loan.grace_interest"] == "capitalised" else capacity
+        asked = f.loc[0, "establishment_cost"] - case["establishment.grant_per_ha"]
+        assert cap < asked and res["loan_principal"] == pytest.approx(cap, rel=1e-10)
+
+    def test_sculpted_loan_below_its_capacity_keeps_one_ratio(self):
+        case, f, res = run(WILLOW, **{"loan.profile": "sculpted", "loan.share_of_establishment": 0.2,
+                                      "loan.sculpt_dscr": 1.4})
+        test = f["covenant_test_year"] == 1
+        ratios = f.loc[test, "dscr"].to_numpy()
+        assert ratios.min() >= 1.4 and np.ptp(ratios) <= 1e-9 * ratios.max()
+        assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
+
+
+class TestCoverRatios:
+    def test_llcr_and_interest_cover(self):
+        case, f, res = run(CLAY, **{"loan.profile": "annuity", "loan.grace_years": 2})
+        r, end = case["loan.rate"], case["loan.grace_years"] + case["loan.term_years"]
+        for t in range(1, end + 1):
+            opening = f.loc[t - 1, "loan_balance"]
+            if opening <= 0:
+                continue
+            future = f.loc[t:end, "cfads"].to_numpy()
+            pv = npf.npv(r, np.concatenate([[0.0], future])) * (1 + r)  # years t..end back to the start of t
+            assert f.loc[t, "llcr"] == pytest.approx(pv / opening, rel=1e-10)
+            paid = f.loc[t, "debt_service"] - f.loc[t, "loan_principal"]  # interest paid, not capitalised
+            if paid > 0 and f.loc[t, "cfads"] >= 0:
+                assert f.loc[t, "interest_cover"] == pytest.approx(f.loc[t, "cfads"] / paid)
+
+    def test_negative_cash_is_no_ratio_but_money_short(self):
+        case, f, res = run(WILLOW, **{"loan.profile": "annuity"})
+        short = (f["debt_service"] > 0) & (f["cfads"] < 0)
+        if short.any():
+            assert f.loc[short, "dscr"].isna().all()
+            assert_allclose(f.loc[short, "dscr_shortfall"], f.loc[short, "debt_service"] - f.loc[short, "cfads"])
+
+    def test_breakeven_price_at_the_covenant(self):
+        case, f, res = run(CLAY, **{"loan.profile": "annuity", "loan.grace_years": 2,
+                                    "loan.grace_interest": "capitalised"})
+        price = res["breakeven_price_at_covenant"]
+        again = tea.summarise(case.replace(**{"revenue.price_per_t_dm": price}))
+        assert again["min_dscr"] == pytest.approx(case["loan.dscr_covenant"], rel=1e-9)
+
+    def test_sources_equal_uses(self):
+        for path in (CLAY, WILLOW):
+            case, f, res = run(path, **{"loan.reserve_years": 0.5})
+            sources = res["sources_loan"] + res["sources_bridge"] + res["sources_grant"] + res["sources_own"]
+            assert sources == pytest.approx(res["uses_total"], rel=1e-12)
+            assert res["uses_reserve"] == pytest.approx(0.5 * f.loc[1, "debt_service"], rel=1e-12)
+            assert res["loan_to_cost"] == pytest.approx(res["sources_loan"] / res["uses_establishment"])
+
+
+class TestGrantAndWorkingCapital:
+    def test_grant_in_arrears_is_bridged(self):
+        case, f, res = run(WILLOW, **{"establishment.grant_year": 1, "loan.bridge_grant": True})
+        grant, r = case["establishment.grant_per_ha"], case["loan.rate"]
+        assert grant > 0
+        assert f.loc[0, "grant"] == 0 and f.loc[1, "grant"] == pytest.approx(grant)
+        assert f.loc[0, "bridge_drawdown"] == pytest.approx(grant)
+        assert f.loc[1, "bridge_repayment"] == pytest.approx(grant)
+        assert f.loc[1, "bridge_interest"] == pytest.approx(grant * r, rel=1e-12)
+
+    def test_working_capital_covers_the_shortfall(self):
+        case, f, res = run(WILLOW, **{"working_capital.limit_per_ha": 5000.0, "working_capital.rate": 0.08,
+                                      "loan.profile": "annuity"})
+        # with a limit large enough, the grower's own cash is never negative after planting
+        assert (f.loc[1:, "equity_cash_flow"] >= -1e-9).all()
+        assert f["working_capital_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-9)
+        drawn = f["working_capital_drawn"].sum()
+        assert drawn > 0 and f["working_capital_repaid"].sum() == pytest.approx(drawn, rel=1e-12)
+
+
+class TestTax:
+    def test_losses_carried_forward_by_hand(self):
+        case, f, res = run(CLAY, **{"tax.rate": 0.25, "tax.establishment": "expensed"})
+        # hand-worked: result = receipts - costs; a loss is carried forward and set against later profits
+        pool, expected = 0.0, []
+        for t in range(len(f)):
+            result = f.loc[t, "total_revenue"] - f.loc[t, "total_cost"]
+            used = min(pool, max(result, 0.0))
+            pool = pool - used + max(-result, 0.0)
+            expected.append(0.25 * max(result - used, 0.0))
+        assert_allclose(f["tax"], expected, rtol=1e-12, atol=1e-9)
+        assert res["npv_after_tax"] == pytest.approx(npf.npv(case.real_discount_rate, f["net_cash_flow"] - f["tax"]),
+                                                     rel=1e-12)
+
+    def test_amortised_establishment_is_deducted_over_the_years(self):
+        case, f, res = run(CLAY, **{"tax.rate": 0.2, "tax.amortisation_years": 8})
+        total = f["establishment_cost"].sum()
+        assert f["establishment_deduction"].sum() == pytest.approx(total, rel=1e-12)
+        assert_allclose(f.loc[1:8, "establishment_deduction"], total / 8, rtol=1e-12)
+
+    def test_relieved_losses_save_tax_at_once(self):
+        case, f, res = run(CLAY, **{"tax.rate": 0.25, "tax.losses": "relieved", "tax.establishment": "expensed"})
+        assert_allclose(f["tax"], 0.25 * (f["total_revenue"] - f["total_cost"]), rtol=1e-12, atol=1e-9)
+
+
+class TestEscalation:
+    def test_costs_rent_and_contract_price_by_year(self):
+        case, f, res = run(CLAY, **{"costs.change_per_year": 0.02, "costs.rent_change_per_year": 0.01,
+                                    "costs.rent_per_ha": 100.0, "revenue.contract_years": 5,
+                                    "revenue.contract_price_per_t_dm": 110.0, "revenue.contract_change_per_year": 0.0})
+        t = f["year"].to_numpy()
+        assert_allclose(f["rent"].iloc[1:], 100.0 * 1.01 ** (t[1:] - 1), rtol=1e-12)
+        base = tea.build_ledger(tea.load_case(CLAY))
+        harvest = f["harvest"] > 0
+        assert_allclose(f.loc[harvest, "harvest_cost"], base.loc[harvest, "harvest_cost"] * 1.02 ** (t[harvest] - 1),
+                        rtol=1e-12)
+        contract = (t >= 1) & (t <= 5)
+        assert_allclose(f.loc[contract, "price_per_t_dm"], 110.0, rtol=1e-12)
+        assert_allclose(f.loc[t > 5, "price_per_t_dm"], case["revenue.price_per_t_dm"], rtol=1e-12)
+        # a hand-built cash flow discounted with numpy-financial gives the same NPV
+        assert res["npv"] == pytest.approx(npf.npv(case.real_discount_rate, f["total_revenue"] - f["total_cost"]),
+                                           rel=1e-12)
+
+    def test_nominal_escalation_is_made_real(self):
+        case, f, res = run(CLAY, **{"finance.escalation_basis": "nominal", "finance.inflation": 0.02,
+                                    "costs.rent_per_ha": 100.0, "costs.rent_change_per_year": 0.02})
+        assert_allclose(f["rent"].iloc[1:], 100.0, rtol=1e-12)  # rent rising with inflation: flat in today's money
+
+
+class TestIrrRule:
+    # a stand with a removal cost: two sign changes, one change of the cumulative cash flow
+    REMOVAL = [-1000.0, 150.0, 350.0, 400.0, 400.0, 400.0, -250.0]
+
+    def test_removal_cost_gives_the_positive_root_of_numpy_financial(self):
+        rate = irr_by_rule(self.REMOVAL)
+        assert rate > 0 and rate == pytest.approx(npf.irr(self.REMOVAL), abs=1e-12)
+        assert npf.npv(rate, self.REMOVAL) == pytest.approx(0.0, abs=1e-9)
+        _, reason, note = irr_rule_explained(self.REMOVAL)
+        assert reason is None and "Norström" in note
+
+    def test_two_positive_roots_stay_undefined(self):
+        flows = [-100.0, 230.0, -132.0]  # NPV = 0 at 10 % and 20 %: the cumulative changes sign twice
+        assert np.isnan(irr_by_rule(flows))
+        x = np.roots(flows[::-1])  # NPV as a polynomial in x = 1/(1+r): numpy's roots
+        assert sorted(np.round(1 / x - 1, 12)) == [0.1, 0.2]
+
+    def test_a_case_with_a_large_removal_cost(self):
+        case, f, res = run(CLAY, **{"costs.removal_per_ha": 3000.0})
+        flows = f["net_cash_flow"].to_numpy()
+        assert np.sum(np.diff(np.sign(flows[flows != 0])) != 0) >= 2  # Descartes promises no single rate
+        x = np.roots(flows[::-1])  # NPV as a polynomial in x = 1/(1+r)
+        rates = [1 / v.real - 1 for v in x if abs(v.imag) < 1e-9 and v.real > 0]
+        positive = [r for r in rates if r > 0]
+        assert len(positive) == 1 and len(rates) >= 2  # one positive rate (Norström) and a negative one
+        assert res["irr"] == pytest.approx(positive[0], abs=1e-9)
+        assert npf.npv(res["irr"], flows) == pytest.approx(0.0, abs=1e-6)
+        assert "Norström" in res.notes["irr"]
