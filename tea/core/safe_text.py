@@ -140,6 +140,16 @@ def xlsx_text(text: str, limit: int = CELL_LIMIT) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace('"', "&quot;")
 
 
+def xlsx_literal(text: str, limit: int = CELL_LIMIT) -> str:
+    """Text for a writer that escapes control characters itself (XlsxWriter): clipped, and a literal
+    ``_xHHHH_`` protected so that a reader decoding the escapes gets it back unchanged.
+
+    >>> xlsx_literal("_x0041_ and \x01")
+    '_x005F_x0041_ and \x01'
+    """
+    return _OOXML_ESCAPE.sub(lambda m: "_x005F" + m.group(0), clip(text, limit))
+
+
 def xlsx_unescape(text: str) -> str:
     """The text an xlsx string cell holds, its ``_xHHHH_`` escapes decoded (the inverse of :func:`xlsx_text`
     once the XML parser has decoded the entities).

@@ -443,6 +443,10 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 continue
             if k.kind == "int":
                 value = int(value)
+            elif k.kind == "float":  # 150 and 150.0 are one value: one case, one hash
+                value = float(value)
+            elif k.kind == "list":
+                value = [float(v) for v in value]
             if key in aliases.get(section, {}):
                 fresh_given = True
             values[k.path] = _scale(value, factor)

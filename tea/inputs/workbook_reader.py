@@ -35,8 +35,8 @@ from tea.inputs import schema
 INPUTS = "Inputs"
 INPUT_HEAD_ROW = 4
 KEPT_HEADER = ("Section kept whole", "Content (JSON)")
-INPUT_COLUMNS = ("Section", "Key", "Value", "Unit", "Origin", "Source note", "Factor to canonical",
-                 "Canonical value", "Canonical unit", "Defined name", "As written")
+INPUT_COLUMNS = ("Input", "Value", "Unit", "Origin", "Source", "Section", "Key", "Canonical value", "Canonical unit",
+                 "Factor to canonical", "Defined name", "As written")
 
 
 _COLS: list[str] = []
