@@ -202,11 +202,13 @@ class CreditWriter(SheetWriter):
         self._check(ws, rows, "Loan repaid within the stand life", f"={lay.cell(bal.key, lay.last_year)}", b_v,
                     ("value", 0.0), lambda v, e: f"ABS({v})<={tol}*MAX(1,{amount})",
                     abs(b_v) <= CHECK_TOLERANCE * max(1.0, a_v), "the balance left in the last year of the stand")
-        term, life = lay.input("loan.term_years"), lay.input("finance.stand_life_years")
-        t_v = case.values.get("loan.term_years") or 0
-        self._check(ws, rows, "Loan term within the stand life", f"=IF(ISNUMBER({term}),{term},0)", float(t_v),
+        term, grace = lay.input("loan.term_years"), lay.input("loan.grace_years")
+        life = lay.input("finance.stand_life_years")
+        t_v = (case.values.get("loan.term_years") or 0) + (case.values.get("loan.grace_years") or 0)
+        self._check(ws, rows, "Loan term within the stand life",
+                    f"=IF(ISNUMBER({term}),{term},0)+IF(ISNUMBER({grace}),{grace},0)", float(t_v),
                     ("formula", f"={life}", float(case.stand_life)), lambda v, e: f"{v}<={e}",
-                    t_v <= case.stand_life, "a loan must be repaid from the stand's own years")
+                    t_v <= case.stand_life, "grace and repayment years: a loan is repaid from the stand's own years")
         self._check(ws, rows, "Stand life within the years this workbook holds", f"={life}", float(case.stand_life),
                     ("value", float(lay.last_year)), lambda v, e: f"{v}<={e}", True,
                     "a longer stand needs the workbook written again: tea run BOOK.xlsx --xlsx NEW.xlsx")
