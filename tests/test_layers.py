@@ -96,8 +96,8 @@ def test_no_import_circles():
     assert not circles, "import circles: " + "; ".join(" -> ".join(c) for c in circles)
 
 
-#: modules still being split (the workbook writer, rewritten for the credit file)
-BEING_SPLIT = {"tea.outputs.workbook"}
+#: modules still being split (none)
+BEING_SPLIT: set[str] = set()
 
 
 @pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.xfail(strict=True, reason="being split"))

@@ -188,28 +188,44 @@ def small_book(tmp_path_factory) -> dict[str, bytes]:
 
 def small_book_parts(folder: Path) -> dict[str, bytes]:
     """The parts of a workbook written by tea, its inputs sheet cut to the rows the case file gave and the
-    sections kept whole (the rows a reader takes; the others it derives again): a small sheet to tamper with."""
+    sections kept whole (the rows a reader takes; the others it derives again), its text written inline:
+    a small sheet to tamper with."""
+    from openpyxl import load_workbook
+    from openpyxl.utils import get_column_letter
+
+    from tea.inputs.workbook_reader import INPUT_COLUMNS
+
     case = _base()
     ledger = tea.build_ledger(case)
     path = folder / "book.xlsx"
-    tea.write_workbook(case, ledger, tea.summarise(case, ledger), path, sensitivity=False)
+    tea.write_workbook(case, ledger, tea.summarise(case, ledger), path, sensitivity=False, risk=False)
+    wb = load_workbook(path, read_only=True)
+    titles = wb.sheetnames
+    grid = [tuple(r) for r in wb["Inputs"].iter_rows(values_only=True)]
+    wb.close()
+    part = f"xl/worksheets/sheet{titles.index('Inputs') + 1}.xml"
     with zipfile.ZipFile(path) as zf:
         parts = {n: zf.read(n) for n in ("[Content_Types].xml", "_rels/.rels", "xl/workbook.xml",
-                                         "xl/_rels/workbook.xml.rels", "xl/styles.xml", "xl/worksheets/sheet1.xml")}
-    sheet = parts["xl/worksheets/sheet1.xml"].decode()
-    rows = re.findall(r'<row r="(\d+)"[^>]*>.*?</row>', sheet, re.S)
-    bodies = re.findall(r'<row r="\d+"[^>]*>.*?</row>', sheet, re.S)
-    kept_from = next(int(n) for n, b in zip(rows, bodies) if "Section kept whole" in b)
-    keep = [(int(n), b) for n, b in zip(rows, bodies)
-            if int(n) <= 4 or int(n) >= kept_from - 1
-            or re.search(rf'<c r="E{n}"[^>]*><is><t xml:space="preserve">case</t>', b)]
-    new, number = [], 0
-    for n, body in keep:
-        number += 2 if n == kept_from - 1 else 1  # a blank row ends the table of inputs
-        new.append(re.sub(rf'(r="[A-Z]*){n}"', rf'\g<1>{number}"', body))
-    sheet = re.sub(r"<sheetData>.*</sheetData>", lambda m: "<sheetData>" + "".join(new) + "</sheetData>", sheet,
-                   flags=re.S)
-    parts["xl/worksheets/sheet1.xml"] = sheet.encode()
+                                         "xl/_rels/workbook.xml.rels", "xl/styles.xml", part)}
+    origin = INPUT_COLUMNS.index("Origin")
+    kept_from = next(i for i, r in enumerate(grid) if r[:2] == ("Section kept whole", "Content (JSON)"))
+    keep = [r for i, r in enumerate(grid) if i < 4 or (i < kept_from and len(r) > origin and r[origin] == "case")]
+    keep += [()] + [r for r in grid[kept_from:] if r and r[0] is not None]
+
+    def cell(ref: str, v) -> str:
+        if isinstance(v, bool):
+            return f'<c r="{ref}" t="b"><v>{int(v)}</v></c>'
+        if isinstance(v, (int, float)):
+            return f'<c r="{ref}"><v>{v!r}</v></c>'
+        return f'<c r="{ref}" t="inlineStr"><is><t xml:space="preserve">{_xml_text(str(v))}</t></is></c>'
+
+    body = "".join(f'<row r="{n}">' + "".join(cell(f"{get_column_letter(j + 1)}{n}", v) for j, v in enumerate(r)
+                                               if v is not None and v != "") + "</row>"
+                   for n, r in enumerate(keep, start=1) if any(v not in (None, "") for v in r))
+    sheet = parts.pop(part).decode()
+    parts["xl/worksheets/sheet2.xml"] = re.sub(r"<sheetData>.*</sheetData>|<sheetData/>",
+                                               lambda m: "<sheetData>" + body + "</sheetData>", sheet,
+                                               flags=re.S).encode()
     # the defined names point into sheets left out here; the reader does not read them
     parts["xl/workbook.xml"] = re.sub(rb"<definedNames>.*</definedNames>", b"", parts["xl/workbook.xml"], flags=re.S)
     return _Parts(parts)
@@ -294,7 +310,7 @@ def tamperings(draw) -> list[tuple]:
 
 
 def _row_of(sheet: str, key: str) -> int:
-    m = re.search(rf'<c r="B(\d+)"[^>]*><is><t xml:space="preserve">{re.escape(key)}</t>', sheet)
+    m = re.search(rf'<c r="G(\d+)"[^>]*><is><t xml:space="preserve">{re.escape(key)}</t>', sheet)
     return int(m.group(1)) if m else -1
 
 
@@ -309,7 +325,7 @@ def _set_cell(sheet: str, ref: str, xml: str) -> str:
 def _apply(parts: dict[str, bytes], ops: list[tuple]) -> tuple[bytes, set[str], list[tuple]]:
     """The tampered file, the kinds of edit that change nothing the reader takes, and the numbers written."""
     parts = dict(parts)
-    sheet = parts["xl/worksheets/sheet1.xml"].decode()
+    sheet = parts["xl/worksheets/sheet2.xml"].decode()
     rows = re.findall(r'<row r="\d+"[^>]*>.*?</row>', sheet, re.S)
     zip_ops, numbers = [], []
     for op in ops:
@@ -317,23 +333,23 @@ def _apply(parts: dict[str, bytes], ops: list[tuple]) -> tuple[bytes, set[str], 
         if name == "number":
             r = _row_of(sheet, op[1])
             if r > 0:
-                sheet = _set_cell(sheet, f"C{r}", f'<c r="C{r}"><v>{op[2]}</v></c>')
+                sheet = _set_cell(sheet, f"B{r}", f'<c r="B{r}"><v>{op[2]}</v></c>')
                 numbers.append(op)
         elif name == "text":
             r = _row_of(sheet, op[1])
             if r > 0:
-                sheet = _set_cell(sheet, f"C{r}", f'<c r="C{r}" t="inlineStr"><is><t>{_xml_text(op[2])}</t></is></c>')
+                sheet = _set_cell(sheet, f"B{r}", f'<c r="B{r}" t="inlineStr"><is><t>{_xml_text(op[2])}</t></is></c>')
         elif name == "typed":
             r = _row_of(sheet, op[1])
             kind, v = op[2]
             if r > 0:
                 inner = "<is><t></t></is>" if kind == "inlineStr" else f"<v>{v}</v>"
-                sheet = _set_cell(sheet, f"C{r}", f'<c r="C{r}" t="{kind}">{inner}</c>')
+                sheet = _set_cell(sheet, f"B{r}", f'<c r="B{r}" t="{kind}">{inner}</c>')
         elif name == "formula":
             r = _row_of(sheet, op[1])
             if r > 0:
                 cached = "<v>12.5</v>" if op[2] else ""
-                sheet = _set_cell(sheet, f"C{r}", f'<c r="C{r}"><f>H{r}*1</f>{cached}</c>')
+                sheet = _set_cell(sheet, f"B{r}", f'<c r="B{r}"><f>H{r}*1</f>{cached}</c>')
         elif name == "comment":
             at = [m.end() for m in re.finditer(r"</row>|</c>", sheet)] or [len(sheet)]
             i = at[op[1] % len(at)]
@@ -352,7 +368,7 @@ def _apply(parts: dict[str, bytes], ops: list[tuple]) -> tuple[bytes, set[str], 
             if refs:
                 sheet = sheet.replace(f'<c r="{refs[op[1] % len(refs)]}"', f'<c r="{op[2]}"', 1)
         elif name == "key":
-            keys = re.findall(r'<c r="(B\d+)"[^>]*><is><t xml:space="preserve">[a-z_\[\]0-9]+</t>', sheet)
+            keys = re.findall(r'<c r="(G\d+)"[^>]*><is><t xml:space="preserve">[a-z_\[\]0-9]+</t>', sheet)
             if keys:
                 ref = keys[op[1] % len(keys)]
                 sheet = _set_cell(sheet, ref, f'<c r="{ref}" t="inlineStr"><is><t>{_xml_text(op[2])}</t></is></c>')
@@ -361,10 +377,10 @@ def _apply(parts: dict[str, bytes], ops: list[tuple]) -> tuple[bytes, set[str], 
                            lambda m: m.group(1) + _xml_text(op[1]) + m.group(2), sheet, count=1)
         else:
             zip_ops.append(op)
-    parts["xl/worksheets/sheet1.xml"] = sheet.encode("utf-8", "surrogatepass")
+    parts["xl/worksheets/sheet2.xml"] = sheet.encode("utf-8", "surrogatepass")
     for _, what, n in zip_ops:
         if what.startswith("drop"):
-            parts.pop({"drop sheet": "xl/worksheets/sheet1.xml", "drop workbook": "xl/workbook.xml",
+            parts.pop({"drop sheet": "xl/worksheets/sheet2.xml", "drop workbook": "xl/workbook.xml",
                        "drop rels": "xl/_rels/workbook.xml.rels", "drop strings": "xl/sharedStrings.xml"}[what], None)
     data = _zip(parts)
     for _, what, n in zip_ops:

@@ -81,7 +81,7 @@ def book(tmp_path_factory) -> Path:
     return path
 
 
-def _tamper(book: Path, target: Path, edit, part: str = "xl/worksheets/sheet1.xml") -> Path:
+def _tamper(book: Path, target: Path, edit, part: str = "xl/worksheets/sheet2.xml") -> Path:
     """A copy of ``book`` with one part's bytes edited."""
     with zipfile.ZipFile(book) as zin, zipfile.ZipFile(target, "w", zipfile.ZIP_DEFLATED) as zout:
         for info in zin.infolist():
@@ -195,27 +195,31 @@ def test_hole_04_negative_energy_row_is_skipped(tmp_path):
 
 
 # ----------------------------------------------------------------------------- 5. workbook edits ignored or chosen
-def _inputs_row(sheet: bytes, key: str) -> re.Match:
-    text = sheet.decode()
-    cell = re.search(rf'<c r="B(\d+)"[^>]*t="inlineStr"><is><t xml:space="preserve">{key}</t>', text)
-    assert cell, key
-    return cell
+def _inputs_row(book: Path, key: str) -> re.Match:
+    """The row of the inputs sheet holding a key (a match whose group 1 is the row number)."""
+    from tea.inputs.workbook_reader import INPUT_COLUMNS
+
+    ws = load_workbook(book, read_only=True)["Inputs"]
+    col = INPUT_COLUMNS.index("Key")
+    row = next(r for r, cells in enumerate(ws.iter_rows(values_only=True), start=1)
+               if len(cells) > col and cells[col] == key)
+    return re.match(r"(\d+)", str(row))
 
 
 def test_hole_05_formula_without_a_saved_value(book, tmp_path):
     def edit(data: bytes) -> bytes:
-        row = _inputs_row(data, "mature_t_dm_per_ha").group(1)
-        return re.sub(rf'<c r="C{row}"([^>]*)><v>[^<]*</v></c>'.encode(),
-                      rf'<c r="C{row}"\1><f>B1*2</f></c>'.encode(), data)
+        row = _inputs_row(book, "mature_t_dm_per_ha").group(1)
+        return re.sub(rf'<c r="B{row}"([^>]*)><v>[^<]*</v></c>'.encode(),
+                      rf'<c r="B{row}"\1><f>B1*2</f></c>'.encode(), data)
     result = run_cli(["run", _tamper(book, tmp_path / "formula.xlsx", edit), "--brief"])
     assert result.code == 2
-    assert "yield.mature_t_dm_per_ha (Inputs!C" in result.err and "formula (=B1*2) with no saved result" in result.err
+    assert "yield.mature_t_dm_per_ha (Inputs!B" in result.err and "formula (=B1*2) with no saved result" in result.err
     _one_line_errors(result)
 
 
 def test_hole_05_a_repeated_input_row(book, tmp_path):
     def edit(data: bytes) -> bytes:  # the row below the mature yield's becomes a copy of it
-        row = int(_inputs_row(data, "mature_t_dm_per_ha").group(1))
+        row = int(_inputs_row(book, "mature_t_dm_per_ha").group(1))
         whole = re.search(rf'<row r="{row}"[^>]*>.*?</row>'.encode(), data, re.S).group(0)
         below = re.search(rf'<row r="{row + 1}"[^>]*>.*?</row>'.encode(), data, re.S).group(0)
         copy = re.sub(rf'r="([A-Z]*){row}"'.encode(), lambda m: b'r="' + m.group(1) + str(row + 1).encode() + b'"',
@@ -223,7 +227,7 @@ def test_hole_05_a_repeated_input_row(book, tmp_path):
         return data.replace(below, copy, 1)
     result = run_cli(["run", _tamper(book, tmp_path / "twice.xlsx", edit), "--brief"])
     assert result.code == 2, result.err
-    assert re.search(r"yield\.mature_t_dm_per_ha \(Inputs!B\d+\): given twice \(also on row \d+\)", result.err)
+    assert re.search(r"yield\.mature_t_dm_per_ha \(Inputs![A-Z]+\d+\): given twice \(also on row \d+\)", result.err)
     _one_line_errors(result)
 
 
@@ -242,9 +246,9 @@ def test_hole_06_deeply_nested_json_in_a_kept_section(tmp_path):
     book = tmp_path / "kept.xlsx"
     tea.write_workbook(case, ledger, tea.summarise(case, ledger), book, sensitivity=False)
     deep = "[" * 30_000 + "]" * 30_000
-    edited = _tamper(book, tmp_path / "deep.xlsx", lambda d: re.sub(
-        rb'(<c r="B(\d+)"[^>]*t="inlineStr"><is><t xml:space="preserve">)\{[^<]*(</t>)',
-        lambda m: m.group(1) + deep.encode() + m.group(3), d, count=1))
+    edited = _tamper(book, tmp_path / "deep.xlsx", lambda d: re.sub(  # the kept section's JSON text
+        rb'(<t[^>]*>)\{[^<]*(</t>)', lambda m: m.group(1) + deep.encode() + m.group(2), d, count=1),
+        part="xl/sharedStrings.xml")
     result = run_cli(["check", edited])
     assert result.code == 2 and "malformed JSON: nested too deeply" in result.err, result.err
     _one_line_errors(result)
@@ -513,8 +517,8 @@ def test_hole_12_names_beyond_spreadsheet_limits(tmp_path, base_mapping):
         for row in ws.iter_rows(values_only=True):
             assert all(len(v) <= CELL_LIMIT for v in row if isinstance(v, str))
     with zipfile.ZipFile(tmp_path / "b.xlsx") as zf:
-        sheet = zf.read("xl/worksheets/sheet1.xml").decode()
-    raw = re.search(r"<oddHeader>(.*?)</oddHeader>", sheet).group(1).replace("&amp;", "&").replace("&quot;", '"')
+        sheet = zf.read("xl/worksheets/sheet2.xml").decode()
+    raw = re.search(r"<oddFooter>(.*?)</oddFooter>", sheet).group(1).replace("&amp;", "&").replace("&quot;", '"')
     assert len(raw) <= HEADER_LIMIT and "[cut: 50,000 characters]" in raw
     assert any("[cut: 50,000 characters]" in str(v) for row in wb["Inputs"].iter_rows(values_only=True) for v in row)
 
