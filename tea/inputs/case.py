@@ -373,9 +373,16 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str |
                 fractions = [f"{x / 100:g}" for x in items]
                 written = f"[{', '.join(fractions)}]" if isinstance(value, list) else fractions[0]
                 return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
-                        f"write fractions, {written} for {value!r}")
+                        f"write fractions, {written} for {_as_typed(value)}")
             return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
     return None
+
+
+def _as_typed(value: Any) -> str:
+    """A number or list of numbers as a person types it (40, not 40.0)."""
+    if isinstance(value, list):
+        return "[" + ", ".join(_as_typed(v) for v in value) + "]"
+    return f"{value:g}" if isinstance(value, float) else repr(value)
 
 
 def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:

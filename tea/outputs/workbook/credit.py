@@ -34,6 +34,8 @@ LENDER_LABELS = {"npv": "NPV", "npv_vs_current_use": "NPV against the current us
 #: relative tolerance of the checks that compare two computations of one number
 CHECK_TOLERANCE = 1e-9
 STATUS_COL = 4
+#: summary columns holding the factors to the case's unit system (beside the printed page)
+FACTOR_COL = 15
 
 
 class CreditWriter(SheetWriter):
@@ -59,7 +61,7 @@ class CreditWriter(SheetWriter):
         if case["case.demo"]:
             text(ws, 2, 0, "DEMO DATA: invented farm, field, prices and climate.", st("flag"))
         if self.headline is not None:
-            ws.merge_range(3, 0, 3, 11, "", st("wrap"))
+            ws.merge_range(3, 0, 3, 13, "", st("wrap"))
             text(ws, 3, 0, f"{self.headline.verdict}. {self.headline.sentence}", st("wrap"))
             ws.set_row(3, 30)
             text(ws, 4, 0, "(the decision in words, as tea wrote it; the figures below are live)", st("keyname"))
@@ -67,7 +69,8 @@ class CreditWriter(SheetWriter):
         head = st("head")
         text(ws, r, 0, "Key figures", st("group"))
         r += 1
-        for c, label in enumerate(("Figure", "Whole field", "Per ha", "Unit")):
+        per = "Per acre" if case.unit_system == "us_customary" else "Per ha"
+        for c, label in enumerate(("Figure", "Whole field", per, "Unit")):
             text(ws, r, c, label, head)
         r += 1
         for name in KEY_FIGURES:
@@ -75,7 +78,7 @@ class CreditWriter(SheetWriter):
         r += 1
         text(ws, r, 0, "Sources and uses of the establishment money", st("group"))
         r += 1
-        for c, label in enumerate(("Item", "Whole field", "Per ha", "Unit")):
+        for c, label in enumerate(("Item", "Whole field", per, "Unit")):
             text(ws, r, c, label, head)
         r += 1
         for name in SOURCES_USES:
@@ -90,7 +93,7 @@ class CreditWriter(SheetWriter):
         text(ws, r, 0, "Cautions", st("group"))
         r += 1
         for line in CAUTIONS:
-            ws.merge_range(r, 0, r, 11, "", st("wrap"))
+            ws.merge_range(r, 0, r, 13, "", st("wrap"))
             text(ws, r, 0, line, st("wrap"))
             ws.set_row(r, 26)
             r += 1
@@ -102,20 +105,39 @@ class CreditWriter(SheetWriter):
         ws.set_column(4, 4, 2)
         self.page_setup(ws)
         ws.fit_to_pages(1, 1)
-        ws.print_area(0, 0, max(end, 30), 11)
+        ws.print_area(0, 0, max(end, 30), 13)
         ws.activate()
 
     def _figure_row(self, ws, r: int, d: Def) -> int:
-        st, lay = self.st, self.lay
+        """A figure whole field and per unit of area, in the case's unit system.
+
+        In US customary units the factor from the canonical unit (``t DM/ha`` to ``short ton DM/acre``) sits
+        in a column beside the page (no number is typed inside a formula).
+        """
+        st, lay, case = self.st, self.lay, self.case
         fmt = st("key", number_format(d.unit))
         text(ws, r, 0, d.label, st("label"))
         v = cached(self.values[d.key])
+        whole_unit = whole_field_unit(d.unit)
+        f_per, unit = _factor(d.unit, case.unit_system)
+        f_whole, whole_shown = _factor(whole_unit, case.unit_system)
         if d.scales:
             whole = lay.ref(FIGURES, lay.fig_row[d.key], FIG_FIELD_COL)
-            ws.write_formula(r, 1, f"={whole}", fmt, v * self.case["field.area_ha"] if isinstance(v, float) else v)
-        ws.write_formula(r, 2, f"={lay.cell(d.key, None)}", fmt, v)
-        unit = self.unit(d.unit)
-        text(ws, r, 3, unit if not d.scales else f"{self.unit(whole_field_unit(d.unit))} | {unit}", st("keyname"))
+            wv = v * case["field.area_ha"] * f_whole if isinstance(v, float) else v
+            if f_whole == 1.0:
+                ws.write_formula(r, 1, f"={whole}", fmt, wv)
+            else:
+                ws.write_number(r, FACTOR_COL + 1, f_whole, st("keyname"))
+                ws.write_formula(r, 1, f'=IF(ISNUMBER({whole}),{whole}*{xl(r, FACTOR_COL + 1)},"")', fmt, wv)
+        cell = lay.cell(d.key, None)
+        if f_per == 1.0:
+            ws.write_formula(r, 2, f"={cell}", fmt, v)
+        else:
+            ws.write_number(r, FACTOR_COL, f_per, st("keyname"))
+            ws.write_formula(r, 2, f'=IF(ISNUMBER({cell}),{cell}*{xl(r, FACTOR_COL)},"")', fmt,
+                             v * f_per if isinstance(v, float) else v)
+        unit = self.unit(unit)
+        text(ws, r, 3, unit if not d.scales else f"{self.unit(whole_shown)} | {unit}", st("keyname"))
         return r + 1
 
     def _lender(self, ws, r: int) -> int:
@@ -142,36 +164,39 @@ class CreditWriter(SheetWriter):
         return r + 1
 
     def _dscr_chart(self, ws, helper_row: int) -> None:
-        """DSCR by year against the covenant: a column per year, the covenant a line."""
+        """DSCR by year against the covenant: a column per year, the covenant a line.
+
+        The chart reads a small table of formulas below the printed page: year, DSCR, covenant, a row per year.
+        """
         lay, st = self.lay, self.st
         last = lay.last_year
         dscr, cov = lay.model.line("dscr"), self.fig("dscr_covenant")
-        text(ws, helper_row, 0, "Chart data: year, DSCR, covenant (formulas)", st("keyname"))
+        text(ws, helper_row, 0, "Chart data (formulas): year, DSCR, covenant", st("keyname"))
+        top = helper_row + 1
         for y in range(last + 1):
-            c = 1 + y
-            ws.write_formula(helper_row + 1, c, f"={lay.year(y)}", st("keyname"), y)
-            ws.write_formula(helper_row + 2, c, f"=IF(ISNUMBER({lay.cell(dscr.key, y)}),{lay.cell(dscr.key, y)},NA())",
-                             st("keyname", "0.00"), cached(self.values[dscr.key][y]) if not _nan(self.values[dscr.key][y]) else "#N/A")
-            ws.write_formula(helper_row + 3, c, f"={lay.cell(cov.key, None)}", st("keyname", "0.00"),
-                             cached(self.values[cov.key]))
+            r = top + y
+            v = self.values[dscr.key][y]
+            ws.write_formula(r, 1, f"={lay.year(y)}", st("keyname"), y)
+            ws.write_formula(r, 2, f"=IF(ISNUMBER({lay.cell(dscr.key, y)}),{lay.cell(dscr.key, y)},NA())",
+                             st("keyname", "0.00"), "#N/A" if _nan(v) else cached(v))
+            ws.write_formula(r, 3, f"={lay.cell(cov.key, None)}", st("keyname", "0.00"), cached(self.values[cov.key]))
         title = lay.title(SUMMARY)
+        years = [title, top, 1, top + last, 1]
         chart = self.wb.add_chart({"type": "column"})
-        chart.add_series({"name": "DSCR", "categories": [title, helper_row + 1, 1, helper_row + 1, 1 + last],
-                          "values": [title, helper_row + 2, 1, helper_row + 2, 1 + last],
-                          "fill": {"color": PALETTE["series"][0]}})
+        chart.add_series({"name": "DSCR", "categories": years, "values": [title, top, 2, top + last, 2],
+                          "fill": {"color": PALETTE["series"][0]}, "gap": 60})
         line = self.wb.add_chart({"type": "line"})
-        line.add_series({"name": "Covenant", "categories": [title, helper_row + 1, 1, helper_row + 1, 1 + last],
-                         "values": [title, helper_row + 3, 1, helper_row + 3, 1 + last],
+        line.add_series({"name": "Covenant", "categories": years, "values": [title, top, 3, top + last, 3],
                          "line": {"color": PALETTE["series"][1], "dash_type": "dash", "width": 1.5},
                          "marker": {"type": "none"}})
         chart.combine(line)
         chart.set_title({"name": "DSCR by year against the covenant (covenant test years)",
                          "name_font": {"size": 10, "bold": True}})
-        chart.set_x_axis({"name": "Year"})
+        chart.set_x_axis({"name": "Year", "interval_unit": 1 if last <= 25 else 5})
         chart.set_y_axis({"name": "DSCR", "major_gridlines": {"visible": True, "line": {"color": "#DDDDDD"}}})
         chart.set_legend({"position": "bottom"})
         chart.show_na_as_empty_cell()
-        ws.insert_chart(6, 5, chart, {"x_scale": 1.15, "y_scale": 1.2})
+        ws.insert_chart(6, 5, chart, {"x_scale": 1.1, "y_scale": 1.2})
 
     # -- checks
     def checks(self) -> None:
@@ -468,6 +493,14 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     ws.set_landscape()
     ws.fit_to_pages(1, 0)
     ws.repeat_rows(3)
+
+
+def _factor(unit: str, system: str) -> tuple[float, str]:
+    """The factor from a canonical unit to the unit system's, and that unit."""
+    from tea.inputs import display
+
+    f, shown = display.convert(1.0, unit, system)
+    return f, shown
 
 
 def _nan(v: Any) -> bool:

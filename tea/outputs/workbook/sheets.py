@@ -224,7 +224,11 @@ class SheetWriter:
         lay, st = self.lay, self.st
         ws = self.wb.add_worksheet(lay.title(sheet))
         text(ws, 0, 0, f"{sheet}: {self.case.name}", st("title"))
-        text(ws, 1, 0, SUBTITLES[sheet], st("subtitle"))
+        subtitle = SUBTITLES[sheet]
+        if self.case.unit_system == "us_customary":
+            subtitle += (" The schedules keep the model's metric units (per ha, t); the summary and the inputs "
+                         "are in US customary units (1 acre = 0.404686 ha).")
+        text(ws, 1, 0, subtitle, st("subtitle"))
         head = st("head")
         text(ws, HEAD_ROW, LABEL_COL, "Line", head)
         text(ws, HEAD_ROW, UNIT_COL, "Unit", head)
