@@ -23,8 +23,7 @@ RAINFALL = f"{SECTION}.rainfall_mm"
 PET = f"{SECTION}.pet_mm"
 MONTHS = 12
 #: the note a yield estimated from the site climate carries (its origin on every output)
-ESTIMATED = ("estimated from the site climate (Monteith's light-use efficiency; `tea yield` shows the terms): "
-             "a potential for a well-managed stand, field yields are commonly lower")
+ESTIMATED = "estimated from the site climate (Monteith's light-use efficiency; `tea yield` shows it)"
 
 
 def given(values: Mapping[str, Any]) -> bool:

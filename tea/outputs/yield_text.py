@@ -42,7 +42,7 @@ def yield_text(case: Case) -> str:
     s = site.season_for(case.values)
     pot = site.potential(case.values, case.origin)
     system = case.unit_system
-    out = [f"{safe(case.name)}: yield potential from the site climate (Monteith: Y = S x f x e x H)"]
+    out = [f"{safe(case.name)}: yield potential from the site climate", "Monteith: Y = S x f x e x H"]
     if case["case.demo"]:
         out.append("DEMO DATA: invented case and site climate.")
     p = s.parameters
@@ -74,7 +74,13 @@ def yield_text(case: Case) -> str:
     out.append("")
     for text in (POTENTIAL_NOTE, CAUTIONS[0], CAUTIONS[3]):
         out.extend(textwrap.wrap(text, 100))
-    return "\n".join(out).rstrip() + "\n"
+    return "\n".join(_wrap(line) for line in out).rstrip() + "\n"
+
+
+def _wrap(line: str) -> str:
+    """A line within 100 characters, continued lines indented like the first."""
+    indent = " " * (len(line) - len(line.lstrip(" ")))
+    return line if len(line) <= 100 else textwrap.fill(line, 100, subsequent_indent=indent + "  ")
 
 
 def assumed_lines(case: Case, pot: dict | None) -> list[str]:
@@ -144,3 +150,16 @@ def site_payload(case: Case) -> dict[str, Any] | None:
             "assumed_share_of_potential": pot["assumed_share"],
             "yield_estimated_from_climate": pot["estimated"],
             "note": POTENTIAL_NOTE}
+
+
+def page_line(case: Case) -> str:
+    """The grower page's words on the site's potential, after the mature yield (empty without a site climate)."""
+    pot = site.potential(case.values, case.origin)
+    if pot is None:
+        return ""
+    share = pot["assumed_share"]
+    if share is None:
+        return "; the site climate gives the crop no growing season"
+    what = "estimated from" if pot["estimated"] else f"{share:.0%} of"
+    return (f"; {what} the site's potential, {_yield_text(pot['potential_t_dm_per_ha'], case.unit_system)} "
+            "(light and warmth; fields commonly yield less)" + (": check it" if share > 1.0 else ""))
