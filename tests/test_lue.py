@@ -344,3 +344,36 @@ def test_tea_run_shows_the_potential_and_the_share(tmp_path):
     js = json.loads(run_cli(["run", path, "--json"]).out)["site_climate_yield"]
     assert js["assumed_share_of_potential"] == pytest.approx(js["assumed_t_dm_per_ha"] / js["potential_t_dm_per_ha"])
     assert js["yield_estimated_from_climate"] is False
+
+
+# ----------------------------------------------------------------------------- uncertainty
+class TestSensitivity:
+    def test_the_estimate_moves_over_the_published_parameter_ranges(self):
+        from tea import load_case, summarise
+        from tea.analysis import sensitivity
+
+        case = load_case(CASES_DIR / "clay_corner_miscanthus.toml")  # yield estimated from its site climate
+        run = sensitivity.run(case, with_surface=False)
+        i = [m.path for m in run.moved].index(sensitivity.LIGHT_USE)
+        m = run.moved[i]
+        assert m.low < m.base == case["yield.mature_t_dm_per_ha"] < m.high
+        # the high end the long way: every parameter at the end of its range that raises the estimate
+        entries = published.light_use_entries(MISCANTHUS)
+        high = {name: e["value"] for name, e in entries.items()}
+        high.update(rue_g_per_mj_par=entries["rue_g_per_mj_par"]["high"],  # more conversion: more dry matter
+                    par_share=entries["par_share"]["high"],  # more PAR per MJ of global radiation
+                    extinction_coefficient=entries["extinction_coefficient"]["high"],  # more interception
+                    leaf_area_per_degree_day=entries["leaf_area_per_degree_day"]["high"],  # canopy up sooner
+                    lai_max=entries["lai_max"]["high"],  # a denser full canopy
+                    base_temperature_c=entries["base_temperature_c"]["low"],  # the season starts sooner
+                    end_temperature_c=entries["end_temperature_c"]["low"])  # and ends later
+        assert m.high == pytest.approx(site.season_for(case.values, high).peak_t_per_ha, rel=1e-12)
+        own = summarise(case.replace(**{"yield.mature_t_dm_per_ha": m.high}))
+        assert run.high["npv"][i] == pytest.approx(own["npv"], rel=1e-9)
+
+    def test_no_light_use_row_when_the_case_gives_its_yield(self):
+        from tea import load_case
+        from tea.analysis import sensitivity
+
+        case = load_case(CASES_DIR / "flood_meadow_willow.toml")  # gives 9.5 t DM/ha
+        assert sensitivity.LIGHT_USE not in [m.path for m in sensitivity.moved_inputs(case)]
