@@ -25,7 +25,7 @@ MISCANTHUS, SWITCHGRASS, WILLOW = "rhizome_grass", "seeded_grass", "coppice"
 # ----------------------------------------------------------------------------- the equation
 class TestEquation:
     def test_monteith_factorial_analysis_of_british_crops(self):
-        # Monteith 1977, Phil. Trans. R. Soc. Lond. B 281:277 (abstract): British crops form carbohydrate at
+        # Monteith 1977, Phil. Trans. R. Soc. Lond. B, doi:10.1098/rstb.1977.0140 (abstract): British crops form carbohydrate at
         # about 1.4 g per MJ of intercepted solar energy, "equivalent to 2.4 % efficiency"; they intercept about
         # 40 % of annual solar radiation, and the efficiency of the economic yield is about 0.3 %.
         energy_per_g = 0.024 / 1.4  # MJ per g of carbohydrate implied by the two published figures
@@ -83,14 +83,14 @@ class TestEquation:
 # ----------------------------------------------------------------------------- published crop parameters
 class TestParameters:
     def test_par_share(self):
-        # Stanhill & Fuchs 1977, J. Appl. Ecol. 14:317: monthly PAR/global 0.49 +- 0.02 at three stations;
-        # Szeicz 1974, J. Appl. Ecol. 11:617: 0.50 +- 0.03 of total radiation
+        # Stanhill & Fuchs 1977, J. Appl. Ecol. (abstract): monthly PAR/global 0.49 +- 0.02 at three stations;
+        # Szeicz 1974, Solar radiation for plant growth, J. Appl. Ecol. (abstract): 0.50 +- 0.03 of total radiation
         e = published.light_use_entries(MISCANTHUS)["par_share"]
         assert 0.47 <= e["low"] <= e["value"] <= e["high"] <= 0.51
         assert abs(e["value"] - 0.50) <= 0.03
 
     def test_miscanthus_extinction_coefficient(self):
-        # Davey et al. 2017, GCB Bioenergy 9:385 (abstract): k of mature Miscanthus stands 0.55-0.65
+        # Davey et al. 2017, GCB Bioenergy (PMC5310369, abstract): k of mature Miscanthus stands 0.55-0.65
         e = published.light_use_entries(MISCANTHUS)["extinction_coefficient"]
         assert 0.55 <= e["low"] <= e["value"] <= e["high"] <= 0.65
 
@@ -100,7 +100,7 @@ class TestParameters:
         assert e["value"] == 10.0 and e["low"] == 9.0
 
     def test_willow_conversion_efficiency(self):
-        # Tharakan et al. 2008, BioEnergy Res. 1:229 (abstract): light-use efficiency of five willow
+        # Tharakan et al. 2008, BioEnergy Res. 1:229-238 (abstract): light-use efficiency of five willow
         # varieties 1.21-2.52 g MJ-1
         e = published.light_use_entries(WILLOW)["rue_g_per_mj_par"]
         assert 1.21 <= e["low"] <= e["value"] <= e["high"] <= 2.52
@@ -161,25 +161,28 @@ RATIO = 1.4
 #: (id, crop, climate, what is compared, measured t DM ha-1, source)
 SITES = [
     ("miscanthus-rothamsted-mean", MISCANTHUS, "rothamsted", "harvested", 12.8,
-     "Christian et al. 2008, Ind. Crops Prod. 28:320: 178.9 t ha-1 over 14 winter harvests = 12.8 t ha-1 yr-1"),
+     "Christian, Riche & Yates 2008, Industrial Crops and Products: 178.9 t ha-1 over 14 winter harvests = 12.8 t ha-1 yr-1"),
     ("miscanthus-england-year3", MISCANTHUS, "rothamsted", "peak", 18.7,
-     "Clifton-Brown et al. 2001, Agron. J. 93:1013: highest autumn yield at the English site, M. x giganteus "
+     "Clifton-Brown et al., Performance of 15 Miscanthus genotypes at five sites in Europe (Agron. J. 2001, from memory): "
+     "highest autumn yield at the English site, M. x giganteus "
      "no. 3, third year (site normals taken as Rothamsted's, from memory)"),
     ("miscanthus-germany-year3", MISCANTHUS, "braunschweig", "peak", 29.1,
-     "Clifton-Brown et al. 2001, Agron. J. 93:1013: highest autumn yield at the German site, M. x giganteus "
+     "Clifton-Brown et al., Performance of 15 Miscanthus genotypes at five sites in Europe: highest autumn yield at the "
+     "German site, M. x giganteus "
      "no. 4, third year (site normals taken as Braunschweig's, from memory)"),
     ("miscanthus-illinois", MISCANTHUS, "urbana", "harvested", 10.5 * SHORT_TON_PER_ACRE,
-     "Arundale et al. 2014, GCB Bioenergy (University of Illinois news release): 10.5 short tons/acre, mean of "
+     "University of Illinois news release on the ten-year trials in GCB Bioenergy (Arundale et al. 2014, from memory): "
+     "10.5 short tons/acre, mean of "
      "seven Illinois locations over 8-10 years"),
     ("switchgrass-illinois", SWITCHGRASS, "urbana", "harvested", 4.5 * SHORT_TON_PER_ACRE,
-     "Arundale et al. 2014 (same release): switchgrass 4.5 short tons/acre side by side in Illinois"),
+     "the same release: switchgrass 4.5 short tons/acre side by side in Illinois"),
     ("switchgrass-urbana-year2", SWITCHGRASS, "urbana", "peak", 12.55,
      "Heaton, Voigt & Long, Urbana trial planted 2002: August peak 12.55 Mg ha-1 in the second year "
      "(conference abstract, K-State soil carbon center)"),
     ("willow-edinburgh-1984", WILLOW, "edinburgh", "peak", 11.0,
-     "Cannell et al. 1988, J. Appl. Ecol. 25:665: 11 t ha-1 annually, first year's growth on 2-year stools"),
+     "Cannell et al. 1988, J. Appl. Ecol., doi:10.2307/2403803: 11 t ha-1 annually, growth on 2-year stools"),
     ("willow-edinburgh-1985", WILLOW, "edinburgh", "peak", 14.0,
-     "Cannell et al. 1988, J. Appl. Ecol. 25:665: 14 t ha-1 annually, first year's growth from cuttings"),
+     "Cannell et al. 1988, J. Appl. Ecol., doi:10.2307/2403803: 14 t ha-1 annually, first growth from cuttings"),
 ]
 #: where the simple model is known to miss, and why (strict: an unexpected pass fails the run)
 OVERESTIMATES = {

@@ -35,15 +35,15 @@ so that the season starts and ends on a day, not on a month boundary.
 References
 ----------
 .. [1] Monteith, J. L. (1977). Climate and the efficiency of crop production in
-   Britain. *Phil. Trans. R. Soc. Lond. B* 281, 277-294. doi:10.1098/rstb.1977.0140
+   Britain. *Phil. Trans. R. Soc. Lond. B* 281 (pages from memory). doi:10.1098/rstb.1977.0140
 .. [2] Stanhill, G. & Fuchs, M. (1977). The relative flux density of
-   photosynthetically active radiation. *J. Appl. Ecol.* 14, 317-322.
-.. [3] Szeicz, G. (1974). Solar radiation for plant growth. *J. Appl. Ecol.* 11, 617-636.
+   photosynthetically active radiation. *J. Appl. Ecol.* 14 (pages from memory).
+.. [3] Szeicz, G. (1974). Solar radiation for plant growth. *J. Appl. Ecol.* 11 (volume and pages from memory).
 .. [4] Monsi, M. & Saeki, T. (1953). Über den Lichtfaktor in den
    Pflanzengesellschaften und seine Bedeutung für die Stoffproduktion.
-   *Jap. J. Bot.* 14, 22-52.
+   *Jap. J. Bot.* 14, 22-52 (from memory).
 .. [5] Thornthwaite, C. W. & Mather, J. R. (1955). The water balance.
-   *Publications in Climatology* 8(1). Drexel Institute of Technology.
+   *Publications in Climatology* 8(1). Drexel Institute of Technology (from memory).
 """
 
 from __future__ import annotations
