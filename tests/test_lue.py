@@ -62,6 +62,16 @@ class TestEquation:
         s = lue.season([10.0] * 12, [5.0] * 12, published.light_use_parameters(MISCANTHUS))
         assert s.season_days == 0 and s.peak_t_per_ha == 0.0
 
+    def test_a_mild_winter_above_the_base_still_ends_and_restarts_the_season(self):
+        # a coppice (base 5 degC, leaves shed below 7 degC) where winter days stay between the two: the season
+        # runs from the day after the last day below 7 degC to the first day below it again, around the summer
+        t = 6.0 + 8.0 * np.sin(np.linspace(0.0, 2.0 * np.pi, 12, endpoint=False) - 2.0)  # invented: a mild climate
+        t = np.maximum(t, 5.5)  # never at or below the base
+        day = lue.daily_temperature(t)
+        season, start = lue.growing_season(day, 5.0, 7.0)
+        assert start >= 0 and day[(start - 1) % 365] < 7.0 <= day[start]
+        assert season.sum() == int((day >= 7.0).sum())  # one warm spell: the season is exactly those days
+
     def test_southern_hemisphere_season_spans_the_new_year(self):
         r, t = _CLIMATES["rothamsted"]
         north = lue.season(r, t, published.light_use_parameters(MISCANTHUS))

@@ -179,10 +179,13 @@ def growing_season(daily_temp, base_temperature, end_temperature):
         return season, -1
     if np.all(t > base_temperature) and np.all(t >= end_temperature):
         return np.ones(n, dtype=bool), int(np.argmin(t))
+    # the canopy starts the day after the last day at or below the base temperature; where no day is that cold,
+    # the day after the last day below the end temperature (the season that day ended)
+    cold = (t <= base_temperature) if np.any(t <= base_temperature) else (t < end_temperature)
     start = warmest
     for _ in range(n):  # back to the day after the last cold day
         prev = (start - 1) % n
-        if t[prev] <= base_temperature:
+        if cold[prev]:
             break
         start = prev
     day = warmest
