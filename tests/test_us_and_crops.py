@@ -106,7 +106,11 @@ def test_new_from_a_case_keeps_the_field_and_deal_and_changes_the_crop(tmp_path)
     for path in ("field.area_ha", "field.climate", "field.soil", "field.current_margin_per_ha", "finance.discount_rate",
                  "finance.inflation", "costs.overheads_per_ha", "revenue.price_per_t_dm", "yield.site_factor"):
         assert new[path] == (base[path] if isinstance(base[path], str) else pytest.approx(base[path], rel=1e-9))
-    assert new["yield.mature_t_dm_per_ha"] == new.preset.values["yield.mature_t_dm_per_ha"]  # the crop's own
+    # the crop's own yield: the field's site climate comes along, so the new crop's yield is estimated from it
+    from tea.inputs import site
+
+    assert new.origin["yield.mature_t_dm_per_ha"] == "estimated"
+    assert new["yield.mature_t_dm_per_ha"] == pytest.approx(site.season_for(new.values).peak_t_per_ha)
     assert new.stand_life == new.preset.values["finance.stand_life_years"]
 
 

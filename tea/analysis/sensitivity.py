@@ -25,7 +25,7 @@ from typing import Any, Mapping, Sequence
 import numpy as np
 
 from tea import __version__
-from tea.inputs import riskspec, units
+from tea.inputs import published, riskspec, site, units
 from tea.model.evaluate import evaluate
 from tea.inputs.case import Case
 from tea.core.errors import CaseError, Problem
@@ -34,6 +34,13 @@ from tea.inputs.case import case_header as json_header
 
 #: the figures recomputed for each variant
 FIGURES = ("npv", "eav", "npv_vs_current_use", "eav_vs_current_use", "min_dscr", "llcr")
+
+#: the pseudo-input of the mature yield estimated from the site climate (moved over the published ranges of
+#: the light-use parameters, tea/inputs/data/light_use.toml)
+LIGHT_USE = "light_use.estimate"
+#: the parameters whose ranges make the estimate's range
+LIGHT_USE_PARAMETERS = ("rue_g_per_mj_par", "extinction_coefficient", "leaf_area_per_degree_day",
+                        "lai_max", "base_temperature_c", "end_temperature_c", "par_share")
 
 
 # ----------------------------------------------------------------------------- inputs of a case
@@ -50,7 +57,7 @@ class Moved:
     note: str = ""
 
     def unit_text(self, case: Case) -> str:
-        inp, _ = riskspec.resolve(self.path)
+        inp, _ = riskspec.resolve(_key_path(self.path))
         return inp.unit_text(case.unit_system, case.currency) if inp else ""
 
     def range_text(self, case: Case) -> str:
@@ -59,7 +66,7 @@ class Moved:
 
         f = self.display_factor(case)
         unit = self.unit_text(case)
-        inp, _ = riskspec.resolve(self.path)
+        inp, _ = riskspec.resolve(_key_path(self.path))
         if inp is not None and inp.integer:
             return f"{self.low * f:.0f} / {self.high * f:.0f} {unit}".strip()
         if unit.startswith("fraction"):
@@ -68,10 +75,15 @@ class Moved:
         return f"{display.number(self.low * f)} / {display.number(self.high * f)} {unit}".strip()
 
     def display_factor(self, case: Case) -> float:
-        inp, _ = riskspec.resolve(self.path)
+        inp, _ = riskspec.resolve(_key_path(self.path))
         if inp is None or inp.key is None:
             return 1.0
         return units.display_factor(inp.key.template, case.unit_system)
+
+
+def _key_path(path: str) -> str:
+    """The case key an input is shown as: the site-climate estimate is a mature yield."""
+    return "yield.mature_t_dm_per_ha" if path == LIGHT_USE else path
 
 
 def price_key(case: Case) -> str:
@@ -85,6 +97,10 @@ def base_value(case: Case, path: str) -> float | None:
         return 1.0
     if path == riskspec.SUCCESS:
         return 1.0 - float(case["establishment.failure_probability"])
+    if path == LIGHT_USE:
+        if case.origin.get("yield.mature_t_dm_per_ha") != "estimated":
+            return None  # moves nothing unless the yield is estimated from the site climate
+        return float(case["yield.mature_t_dm_per_ha"])
     v = case.values.get(path)
     return None if v is None else float(v)
 
@@ -118,6 +134,8 @@ def real_changes(case: Case, path: str, value: float) -> dict[str, Any]:
 
 def check_value(case: Case, path: str, value: float, where: str) -> list[Problem]:
     """Problems a case would have with one input set to ``value`` (the loader's own rules)."""
+    if path == LIGHT_USE:  # a range of the estimated mature yield: checked as that yield
+        path = "yield.mature_t_dm_per_ha"
     try:
         case.replace(**real_changes(case, path, value))
     except CaseError as exc:
@@ -191,6 +209,10 @@ def moved_inputs(case: Case) -> list[Moved]:
                 problems.extend(Problem(p.source, p.key, f"the default {side} value {p.message}; declare a range "
                                         "in [sensitivity.ranges]") for p in found)
         out.append(Moved(path, label, base, low, high, False, note))
+    if listed is None and case.origin.get("yield.mature_t_dm_per_ha") == "estimated":
+        low, high = light_use_range(case)
+        out.append(Moved(LIGHT_USE, "Yield from site climate", float(case["yield.mature_t_dm_per_ha"]), low, high,
+                         False, "light-use parameters at the ends of their published ranges"))
     if problems:
         raise CaseError(problems)
     return out
@@ -204,6 +226,8 @@ def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names
     """
     n = len(variants)
     values: dict[str, Any] = dict(case.values)
+    if any(LIGHT_USE in v for v in variants):  # the estimate's range is a range of the mature yield
+        variants = [{("yield.mature_t_dm_per_ha" if p == LIGHT_USE else p): x for p, x in v.items()} for v in variants]
     paths = list(dict.fromkeys(p for v in variants for p in v))
     direct = [p for p in paths if p != riskspec.COST_MULTIPLIER]
     if riskspec.COST_MULTIPLIER in paths:
@@ -215,6 +239,20 @@ def evaluate_variants(case: Case, variants: Sequence[Mapping[str, float]], names
             col = np.round(col).astype(np.int64)
         apply(values, path, col)
     return evaluate(values, figures=names, rows=n).figures
+
+
+def light_use_range(case: Case) -> tuple[float, float]:
+    """The lowest and highest mature yield the site climate gives with every light-use parameter at the end of
+    its published range that lowers (raises) the estimate [t DM ha⁻¹]."""
+    entries = published.light_use_entries(case["crop.preset"])
+    base = {name: e["value"] for name, e in entries.items()}
+    low, high = dict(base), dict(base)
+    for name in LIGHT_USE_PARAMETERS:
+        e = entries[name]
+        at = {end: site.season_for(case.values, {**base, name: e[end]}).peak_t_per_ha for end in ("low", "high")}
+        down, up = ("low", "high") if at["low"] <= at["high"] else ("high", "low")
+        low[name], high[name] = e[down], e[up]
+    return site.season_for(case.values, low).peak_t_per_ha, site.season_for(case.values, high).peak_t_per_ha
 
 
 # ----------------------------------------------------------------------------- the run

@@ -21,6 +21,7 @@ from typing import Sequence
 from tea import __version__
 from tea.cli import analysis as analysis_cli
 from tea.cli import explain as explain_cli
+from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
 from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say
 from tea.core.errors import CaseError, OutputError, TeaError, WriteError
@@ -186,6 +187,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     analysis_cli.add_commands(sub)
     explain_cli.add_commands(sub)
+    yield_cli.add_commands(sub)
     return parser
 
 

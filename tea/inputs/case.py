@@ -24,7 +24,7 @@ from typing import Any, Mapping
 
 from tea.methods import finance
 from tea.inputs import published
-from tea.inputs import schema, units
+from tea.inputs import schema, site, units
 from tea.core.errors import CaseError, Problem
 from tea.core.safe_text import SHOWN_LIMIT, brief, clip
 
@@ -542,7 +542,10 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 warnings.append(f"{source}: {k.section}.{spelling}: {item / f:g} is unusual "
                                 f"(expected {lo}..{hi}{f' [{unit}]' if unit else ''}); check it")
 
-    # 6. rules that tie keys together
+    # 6. the site climate: the yield estimate when none is given, a warning above it
+    site.apply(values, origin, notes, problems, warnings, source, spelled)
+
+    # 7. rules that tie keys together
     rate = values.get("loan.rate")
     if isinstance(rate, float) and rate != 0.0 and 1.0 + rate == 1.0 and "loan.rate" not in rejected:
         # the annuity and the interest lines cannot tell it from 0, but would divide by it

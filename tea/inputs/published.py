@@ -386,3 +386,40 @@ def tables() -> dict[str, dict]:
             "source": _data()["gwp100"]["n2o"]["source"],
         },
     }
+
+
+# ----------------------------------------------------------------------------- light-use efficiency
+@functools.lru_cache(maxsize=1)
+def _light_use() -> dict:
+    raw = (resources.files("tea.inputs.data") / "light_use.toml").read_bytes()
+    return tomllib.loads(raw.decode("utf-8"))
+
+
+def light_use_entries(crop: str) -> dict[str, dict]:
+    """Parameters of Monteith's equation for a crop preset (or a reference crop), each entry with
+    ``value``, ``low``, ``high``, ``unit`` and ``source`` (``data/light_use.toml``); the shared
+    entries (PAR share, soil water) first. A copy: changing it does not change the packaged data.
+
+    Raises KeyError naming the crops the file holds.
+
+    >>> light_use_entries("rhizome_grass")["extinction_coefficient"]["value"]
+    0.6
+    """
+    data = _light_use()
+    crops = {**data["crops"], **data.get("reference", {})}
+    _check_name("crop", crop, tuple(crops))
+    return copy.deepcopy({**data["common"], **crops[crop]})
+
+
+def light_use_parameters(crop: str, which: str = "value") -> dict[str, float]:
+    """The values (or the ``low``/``high`` ends) of :func:`light_use_entries`, by name.
+
+    >>> light_use_parameters("coppice")["rue_g_per_mj_par"], light_use_parameters("coppice", "low")["par_share"]
+    (1.8, 0.47)
+    """
+    return {name: entry[which] for name, entry in light_use_entries(crop).items()}
+
+
+def light_use_crops() -> tuple[str, ...]:
+    """The crop presets the light-use data covers."""
+    return tuple(_light_use()["crops"])

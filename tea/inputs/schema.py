@@ -174,6 +174,18 @@ KEYS: tuple[Key, ...] = (
     _k("yield", "decline_per_year", "float", 0.0, "Yield lost per year after decline_start_year, compounding.", **FRACTION, warn_hi=0.2),
     _k("yield", "site_factor", "float", 1.0, "Yield of this field relative to the crop's mature yield (marginal land < 1).",
        lo=0.0, hi=2.0, lo_open=True, warn_hi=1.2, unit="fraction"),
+    # --- site climate (optional: the yield potential by Monteith's equation, `tea yield`) ----------
+    _k("site_climate", "radiation_mj_per_m2_per_day", "list", None,
+       "Mean daily incident global radiation of each month, January first (12 values); with temperature_c it "
+       "gives the site's yield potential (no mature yield given: the estimate is used).",
+       lo=0.0, hi=45.0, unit="MJ/m2/d", source="site climate normals (e.g. a national weather service)"),
+    _k("site_climate", "temperature_c", "list", None, "Mean air temperature of each month, January first (12 values).",
+       lo=-60.0, hi=50.0, unit="degC", source="site climate normals"),
+    _k("site_climate", "rainfall_mm", "list", None,
+       "Rainfall of each month (12 values); with pet_mm it limits the estimate in dry months.",
+       lo=0.0, hi=3000.0, unit="mm", source="site climate normals"),
+    _k("site_climate", "pet_mm", "list", None, "Potential (reference) evapotranspiration of each month (12 values).",
+       lo=0.0, hi=1000.0, unit="mm", source="site climate normals"),
     # --- harvest -----------------------------------------------------------------
     _k("harvest", "timing", "enum", PRESET, "When the crop is cut.", choices=("autumn", "late_winter")),
     _k("harvest", "interval_years", "int", PRESET, "Years between harvests (1 for grasses, 2-5 for coppice).", lo=1, hi=10),

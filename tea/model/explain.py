@@ -33,7 +33,8 @@ from tea.model.evaluate import LIST_KEYS, _Compiler, _Env, _column, evaluate, pl
 from tea.model.separable import dense
 from tea.model.slopes import expanded
 
-ORIGINS = {"case": "case file", "preset": "preset", "derived": "looked up", "default": "default"}
+ORIGINS = {"case": "case file", "preset": "preset", "derived": "looked up", "default": "default",
+           "estimated": "site climate"}
 _INFIX = {"+": " + ", "-": " - ", "*": " × ", "/": " / ", "**": "^", "<": " < ", "<=": " ≤ ", ">": " > ",
           ">=": " ≥ ", "==": " = ", "!=": " ≠ ", "&": " and ", "|": " or "}
 _PREC = {"|": 0, "&": 1, "<": 2, "<=": 2, ">": 2, ">=": 2, "==": 2, "!=": 2, "+": 3, "-": 3, "*": 4, "/": 4, "**": 5}

@@ -560,3 +560,51 @@ def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[f
 def finite(values: Sequence[float]) -> list[float]:
     """Values with NaN and infinities replaced by 0 (blank ledger cells such as DSCR)."""
     return [float(v) if math.isfinite(float(v)) else 0.0 for v in values]
+
+
+def season_light_figure(months: Sequence[str], par_in_season: Sequence[float], intercepted: Sequence[float], *,
+                        height_in: float = HEIGHT_IN, width_in: float = WIDTH_IN) -> Figure:
+    """PAR of the growing season and the part the canopy intercepts, month by month (Monteith's S and S x f).
+
+    Parameters
+    ----------
+    months : sequence of str
+        Month labels, January first.
+    par_in_season : sequence of float
+        PAR incident on the days of the growing season [MJ m⁻²].
+    intercepted : sequence of float
+        PAR the canopy intercepts [MJ m⁻²].
+    """
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(width_in, height_in)
+        ax = fig.add_subplot()
+        x = list(range(1, len(months) + 1))
+        ax.bar(x, par_in_season, width=0.75, color=MUTED, alpha=0.35, label="PAR in the season", linewidth=0)
+        ax.bar(x, intercepted, width=0.75, color=GAIN, alpha=0.85, label="intercepted by the canopy", linewidth=0)
+        ax.set_facecolor("none")
+        ax.set_xticks(x)
+        ax.set_xticklabels([m[:1] for m in months])
+        ax.set_xlim(0.4, len(months) + 0.6)
+        ax.yaxis.set_major_formatter(formatter())
+        ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+        ax.grid(axis="y", color="#dddddd", linewidth=0.4)
+        ax.set_axisbelow(True)
+        top = max(list(par_in_season) + [0.0])
+        ax.set_ylim(0.0, top * 1.08 if top > 0 else 1.0)
+        ax.set_ylabel("MJ PAR per m²")
+        ax.set_xlabel("month")
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.2, columnspacing=0.8,
+                  borderaxespad=0.1, borderpad=0.1)
+        fig.tight_layout(pad=0.3)
+    return fig
+
+
+def season_light(months: Sequence[str], par_in_season: Sequence[float], intercepted: Sequence[float], *,
+                 name: str = "season", height_in: float = HEIGHT_IN, width_in: float = WIDTH_IN) -> Chart:
+    """:func:`season_light_figure` as a :class:`Chart` for the page."""
+    fig = season_light_figure(months, par_in_season, intercepted, height_in=height_in, width_in=width_in)
+    total_s, total_i = sum(par_in_season), sum(intercepted)
+    share = total_i / total_s if total_s > 0 else 0.0
+    alt = (f"PAR of the growing season by month and the part the canopy intercepts: {_num(total_i)} of "
+           f"{_num(total_s)} MJ per m² over the season ({share:.0%}).")
+    return _finish(fig, name, "Light over the season", alt)

@@ -22,6 +22,7 @@ from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.inputs import display
 from tea.outputs import charts, terminal
+from tea.outputs.yield_text import page_line
 from tea.outputs.advice import crop_name, grower_warnings, non_native_caution, source_text
 from tea.outputs.headline import headline
 
@@ -269,7 +270,8 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
         ("Crop", case.preset.title, f"crop preset {_words(case.preset.name)}"),
         ("Stand life", f"{case.stand_life} years", _source(case, "finance.stand_life_years")),
         ("Mature yield", f"{_quantity(case, v['yield.mature_t_dm_per_ha'], 't DM/ha/yr')} "
-                         f"× site factor {v['yield.site_factor']:.2f}", _source(case, "yield.mature_t_dm_per_ha")),
+                         f"× site factor {v['yield.site_factor']:.2f}" + page_line(case),
+         _source(case, "yield.mature_t_dm_per_ha")),
         ("Harvest", _harvest_text(case), _source(case, "harvest.first_year")),
         ("Price", f"{_price(case)}" + _price_change_text(case),
          _source(case, "revenue.price_per_gj" if case.price_basis == "gj" else "revenue.price_per_t_dm")),

@@ -13,6 +13,7 @@ from tea.inputs.case import Case, case_header, load_preset, preset_names
 from tea.analysis.lender import lender_cases
 from tea.outputs.advice import non_native_caution
 from tea.outputs.headline import headline
+from tea.outputs import yield_text
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
 from tea.core.texts import CAUTIONS
@@ -169,6 +170,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
         out.append("")
+    block = yield_text.site_lines(case)
+    if block:
+        out.extend(block + [""])
     if yearly:
         out.append(f"Yearly ledger (per {per}; {case.currency}; `tea run --json` gives every line)")
         out.append(yearly_table(case, frame))
@@ -236,6 +240,7 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
         "lines": {name: [_json_number(v) for v in frame[name]] for name in LINE_NAMES if name != "year"},
     }
     payload["inputs"] = {path: value for path, value in sorted(case.values.items())}
+    payload["site_climate_yield"] = yield_text.site_payload(case)
     lender = lender_cases(case)
     payload["lender"] = {"bankable": {k: _json_number(v) for k, v in lender.base.items()},
                          "downside": {k: _json_number(v) for k, v in lender.downside.items()},
