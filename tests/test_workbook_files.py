@@ -266,8 +266,8 @@ def test_sheets_print_setup_and_properties(tmp_path, demo):
     case = demo["clay_corner_miscanthus"][0]
     path = _write(tmp_path, case)
     wb = load_workbook(path)
-    # the demo case has [sensitivity] and [risk] sections: their sheets of values follow the checks
-    assert wb.sheetnames == [*SHEETS, "Sensitivity", "Risk", "Tables", "Notes"]
+    # the demo case has [sensitivity], [risk] and [site_climate] sections: their sheets of values follow the checks
+    assert wb.sheetnames == [*SHEETS, "Sensitivity", "Risk", "Site climate", "Tables", "Notes"]
     assert wb.active.title == "Summary"
     for title in ("Cash flow", "Debt and tax", "Carbon"):
         ws = wb[title]
@@ -395,3 +395,16 @@ def test_a_missing_spreadsheet_engine_fails_in_ci_and_skips_loudly_elsewhere(mon
         engine.require_engine()
 
 
+
+
+def test_site_climate_sheet_holds_the_potential_tea_computed(tmp_path, demo):
+    from tea.inputs.site import potential
+
+    case = demo["clay_corner_miscanthus"][0]
+    wb = load_workbook(_write(tmp_path, case, sensitivity=False, risk=False), data_only=True)
+    ws = wb["Site climate"]
+    pot = potential(case.values, case.origin)
+    assert ws["B4"].value == pytest.approx(pot["potential_t_dm_per_ha"], rel=1e-12)
+    assert ws["B7"].value == pytest.approx(pot["assumed_share"], rel=1e-12)
+    months = [ws.cell(r, 1).value for r in range(10, 22)]
+    assert months == list(range(1, 13))

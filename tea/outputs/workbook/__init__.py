@@ -93,6 +93,10 @@ def _case_sheets(wb, st: Styles, case: Case, layout: CaseLayout, sensitivity: bo
         w.sensitivity()
     if risk_res is not None:
         w.risk_sheet()
+    from tea.inputs.site import given
+
+    if given(case.values):
+        w.site_climate()
     w.tables()
     w.notes(list(model))
     w.summary(summary_first)

@@ -15,7 +15,7 @@ from tea import __version__
 from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.declare import Def
-from tea.outputs.workbook.layout import (CHECKS, FIG_FIELD_COL, FIG_VALUE_COL, FIGURES, NOTES, RISK, SENSITIVITY,
+from tea.outputs.workbook.layout import (CHECKS, CLIMATE, FIG_FIELD_COL, FIG_VALUE_COL, FIGURES, NOTES, RISK, SENSITIVITY,
                                          SUMMARY, CaseLayout)
 from tea.outputs.workbook.sheets import SheetWriter, cached, text, xl
 from tea.outputs.workbook.style import PALETTE, number_format, unit_shown, whole_field_unit
@@ -415,6 +415,51 @@ class CreditWriter(SheetWriter):
         ws.set_column(0, 0, 44)
         ws.set_column(1, len(cols), 13)
         self.page_setup(ws, head_row=3)
+
+    def site_climate(self) -> None:
+        """The yield potential of the site's climate (Monteith's equation), month by month: values tea computed."""
+        from tea.inputs.site import potential, season_for
+
+        lay, st, case = self.lay, self.st, self.case
+        season = season_for(case.values)
+        pot = potential(case.values, case.origin)
+        ws = self.wb.add_worksheet(lay.title(CLIMATE))
+        text(ws, 0, 0, f"Yield potential from the site climate: {case.name}", st("title"))
+        text(ws, 1, 0, "Values tea computed when it wrote the file: Y = S x f x e x H (Monteith 1977), seasonal "
+                       "radiation times the share intercepted times the conversion efficiency times the share "
+                       "harvested. A planning check on the assumed yield, not a forecast.", st("subtitle"))
+        r = 3
+        summary = [("Potential dry matter at the autumn peak", pot["potential_t_dm_per_ha"], "t DM/ha/yr"),
+                   ("Harvested in late winter, after the loss from the peak", pot["harvested_t_dm_per_ha"],
+                    "t DM/ha/yr"),
+                   ("Assumed in the case (mature yield x site factor)", pot["assumed_t_dm_per_ha"], "t DM/ha/yr"),
+                   ("Assumed as a share of the potential", pot["assumed_share"], "fraction")]
+        for label, v, unit in summary:
+            text(ws, r, 0, label, st("label"))
+            if v is not None and not _nan(v):
+                ws.write_number(r, 1, float(v), st("value", number_format(unit)))
+            text(ws, r, 2, self.unit(unit), st("keyname"))
+            r += 1
+        if pot.get("estimated"):
+            text(ws, r, 0, "The case gives no mature yield: this estimate is used.", st("flag"))
+            r += 1
+        r += 1
+        rows = season.rows()
+        keys = list(rows[0]) if rows else []
+        heads = {"month": "Month", "global_radiation_mj_per_m2": "Global radiation [MJ/m2]",
+                 "par_in_season_mj_per_m2": "PAR in the season [MJ/m2]",
+                 "intercepted_par_mj_per_m2": "PAR intercepted [MJ/m2]", "share_intercepted": "Share intercepted",
+                 "water_factor": "Water factor", "dry_matter_t_per_ha": "Dry matter [t/ha]"}
+        for c, k in enumerate(keys):
+            text(ws, r, c, heads.get(k, k), st("head"))
+        for i, row in enumerate(rows, start=1):
+            for c, k in enumerate(keys):
+                v = row[k]
+                if isinstance(v, (int, float)) and not _nan(float(v)):
+                    ws.write_number(r + i, c, float(v), st("value", "0" if k == "month" else "#,##0.00"))
+        ws.set_column(0, 0, 50)
+        ws.set_column(1, len(keys), 14)
+        self.page_setup(ws, landscape=False)
 
     def notes(self, defs: Sequence[Def]) -> None:
         lay, st, case = self.lay, self.st, self.case
