@@ -70,8 +70,24 @@ def dense(x: Any) -> Any:
             coefs = np.empty((x.rows, len(x.terms)))
             for i, (c, _) in enumerate(x.terms):
                 coefs[:, i:i + 1] = c
-            x.made = coefs @ np.vstack([p for _, p in x.terms])
+            x.made = _product(coefs, np.vstack([p for _, p in x.terms]))
     return x.made
+
+
+#: rows of one matrix product: small enough that the BLAS library computes it on the calling thread (its
+#: threads cost more to wake than such a product takes, and on a shared machine they wait for a core)
+PRODUCT_ROWS = 2048
+
+
+def _product(coefs: np.ndarray, patterns: np.ndarray) -> np.ndarray:
+    """coefs (rows, terms) @ patterns (terms, years), in blocks of rows."""
+    rows = coefs.shape[0]
+    if rows <= PRODUCT_ROWS:
+        return coefs @ patterns
+    out = np.empty((rows, patterns.shape[1]))
+    for start in range(0, rows, PRODUCT_ROWS):
+        np.matmul(coefs[start:start + PRODUCT_ROWS], patterns, out=out[start:start + PRODUCT_ROWS])
+    return out
 
 
 def _merge(terms: list[tuple[Any, np.ndarray]]) -> list[tuple[Any, np.ndarray]]:
