@@ -442,10 +442,16 @@ def irr(flows):
         return irr_scalar(f[0])
     out = np.empty(f.shape[0])
     with np.errstate(all="ignore"):
-        for start in range(0, f.shape[0], _CHUNK_ROWS):
-            stop = min(start + _CHUNK_ROWS, f.shape[0])
+        for start, stop in _blocks(f.shape[0]):
             out[start:stop] = _irr_block(f[start:stop])
     return out
+
+
+def _blocks(rows: int) -> list[tuple[int, int]]:
+    """(start, stop) of blocks of at most _CHUNK_ROWS rows, of equal size (no small remainder)."""
+    count = max(1, -(-rows // _CHUNK_ROWS))
+    size = -(-rows // count)
+    return [(start, min(start + size, rows)) for start in range(0, rows, size)] if rows else []
 
 
 # ---------------------------------------------------------------------------
@@ -745,8 +751,7 @@ def irr_by_rule(flows):
     # block by block, on one transposed copy of each block: the unique rate, then Norström's rows
     rates = np.empty(f.shape[0])
     with np.errstate(all="ignore"):
-        for start in range(0, f.shape[0], _CHUNK_ROWS):
-            stop = min(start + _CHUNK_ROWS, f.shape[0])
+        for start, stop in _blocks(f.shape[0]):
             rates[start:stop] = _irr_block(f[start:stop], norstrom=True)
     return float(rates[0]) if one else rates
 

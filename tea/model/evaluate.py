@@ -42,11 +42,12 @@ D = S.dense
 class _Env:
     """What a chunk's formulas read: inputs, computed declarations, the year row."""
 
-    __slots__ = ("inputs", "values", "t", "years", "rows", "cache")
+    __slots__ = ("inputs", "values", "stepped", "t", "years", "rows", "cache")
 
     def __init__(self, inputs: dict[str, Any], years: int, rows: int):
         self.inputs = inputs
         self.values: dict[tuple[str, str], Array] = {}
+        self.stepped: dict[tuple[str, str], Array] = {}  # members of a recursion being stepped: (years, rows)
         self.t = np.arange(years, dtype=float)[None, :]
         self.years = years
         self.rows = rows
@@ -451,7 +452,13 @@ def _same_year_order(model: Model, comp: list[Def]) -> list[Def]:
 
 
 class _StepCompiler(_Compiler):
-    """Closures (env, year) -> the value of one year, for lines that refer to themselves through a lag."""
+    """Closures (env, year) -> the value of one year, for lines that refer to themselves through a lag.
+
+    The years are stepped in year-major layout: a year of a value is a contiguous (1, rows) row of its
+    transposed (years, rows) array (members in ``env.stepped``, anything else transposed once and
+    cached), so that each step reads and writes whole cache lines. Row-level values are (1, rows),
+    year patterns give (1, 1), so the shapes broadcast as in the whole-array evaluation.
+    """
 
     def __init__(self, model: Model, members: set[tuple[str, str]]):
         super().__init__(model)
@@ -469,12 +476,15 @@ class _StepCompiler(_Compiler):
             def outside(env, s, f=f, node_id=node_id):
                 v = env.cache.get(node_id)
                 if v is None:
-                    v = env.cache[node_id] = np.asarray(D(f(env)))
-                return v[:, s:s + 1] if v.ndim == 2 and v.shape[1] > 1 else v
+                    v = np.asarray(D(f(env)))
+                    if v.ndim == 2:  # (rows or 1, years or 1) -> (years or 1, rows or 1)
+                        v = np.ascontiguousarray(v.T)
+                    env.cache[node_id] = v
+                return v[s:s + 1] if v.ndim == 2 and v.shape[0] > 1 else v
             return outside
         if isinstance(n, E.Ref):
             key = self.model.get(n).key
-            return lambda env, s: env.values[key][:, s:s + 1]
+            return lambda env, s: env.stepped[key][s:s + 1]
         if isinstance(n, E.Bin):
             fa, fb, op = self.step(n.a), self.step(n.b), _BIN[n.op]
             return lambda env, s: op(fa(env, s), fb(env, s))
@@ -537,10 +547,12 @@ class Plan:
                     env.values[d.key] = _shape(d, v, env)
                     continue
                 for d in step.defs:
-                    env.values[d.key] = np.zeros((rows, years))
+                    env.stepped[d.key] = np.zeros((years, rows))
                 for s in range(years):
                     for d, f in zip(step.defs, step.fns):
-                        env.values[d.key][:, s:s + 1] = f(env, s)
+                        env.stepped[d.key][s:s + 1] = f(env, s)
+                for d in step.defs:
+                    env.values[d.key] = np.ascontiguousarray(env.stepped.pop(d.key).T)
         return env.values
 
 
