@@ -39,6 +39,23 @@ Fn = Callable[["_Env"], Any]
 D = S.dense
 
 
+class _Values(dict):
+    """Computed declarations by key; a declaration not yet computed is computed when first read
+    (``fill``), so that a branch or factor the chunk's values make irrelevant is never computed."""
+
+    __slots__ = ("fill",)
+
+    def __init__(self, fill: Callable[[tuple[str, str]], None] | None = None):
+        super().__init__()
+        self.fill = fill
+
+    def __missing__(self, key):
+        if self.fill is None:
+            raise KeyError(key)
+        self.fill(key)
+        return dict.__getitem__(self, key)
+
+
 class _Env:
     """What a chunk's formulas read: inputs, computed declarations, the year row."""
 
@@ -46,7 +63,7 @@ class _Env:
 
     def __init__(self, inputs: dict[str, Any], years: int, rows: int):
         self.inputs = inputs
-        self.values: dict[tuple[str, str], Array] = {}
+        self.values: dict[tuple[str, str], Array] = _Values()
         self.stepped: dict[tuple[str, str], Array] = {}  # members of a recursion being stepped: (years, rows)
         self.t = np.arange(years, dtype=float)[None, :]
         self.years = years
@@ -218,6 +235,23 @@ class _Compiler:
     def __init__(self, model: Model):
         self.model = model
 
+    def _product(self, n: E.Bin, fa: Fn, fb: Fn) -> Fn:
+        """a * b; where a factor is zero for the whole chunk (a rate, a share or a flag of the case), the
+        other is not computed: the product is that zero (which also spares the lines only it needs)."""
+        mul = np.multiply
+        if _cheap(self.model, n.b) and not _cheap(self.model, n.a):
+            def product(env):
+                b = fb(env)
+                z = _zero(b)
+                return z if z is not None else S.binop("*", fa(env), b, mul)
+            return product
+
+        def product_ab(env):
+            a = fa(env)
+            z = _zero(a)
+            return z if z is not None else S.binop("*", a, fb(env), mul)
+        return product_ab
+
     def compile(self, n: E.Node) -> Fn:  # noqa: C901 - one case per node type
         if isinstance(n, E.Const):
             v = n.value
@@ -235,6 +269,8 @@ class _Compiler:
             return lambda env: env.t
         if isinstance(n, E.Bin):
             fa, fb, op, name = self.compile(n.a), self.compile(n.b), _BIN[n.op], n.op
+            if name == "*":
+                return self._product(n, fa, fb)
             return lambda env: S.binop(name, fa(env), fb(env), op)
         if isinstance(n, E.Not):
             fa = self.compile(n.a)
@@ -357,6 +393,30 @@ class _Compiler:
         raise TypeError(f"cannot evaluate {type(n).__name__}")
 
 
+def _zero(x: Any) -> Any:
+    """x as a float array where it is a number or row or year value that is zero throughout (not a
+    dense (rows, years) array: that check would cost a pass), else None."""
+    if isinstance(x, np.ndarray):
+        if x.ndim <= 2 and (x.ndim < 2 or x.shape[0] == 1 or x.shape[1] == 1) and x.dtype.kind in "fiub" \
+                and not x.any():
+            return x if x.dtype.kind == "f" else x.astype(float)
+        return None
+    if isinstance(x, (float, int)) and x == 0:
+        return float(x)
+    return None
+
+
+def _all_zero(x: Array) -> bool:
+    """Whether a value (numbers, any shape) is zero throughout; not a number is not zero."""
+    return x.dtype.kind in "fiub" and not x.any()
+
+
+def _cheap(model: Model, n: E.Node) -> bool:
+    """Whether a node is read rather than computed: an input, a constant or a parameter."""
+    return isinstance(n, (E.Input, E.Const, E.Constant)) or (isinstance(n, E.Ref) and model.get(n).kind != "line"
+                                                             and model.get(n).kind != "figure")
+
+
 def _is_yearly(model: Model, n: E.Node) -> bool:
     """Whether an argument is a line (one value per year) rather than a row-level value."""
     return isinstance(n, E.Ref) and model.get(n).kind == "line"
@@ -468,18 +528,57 @@ class _StepCompiler(_Compiler):
     def _inside(self, n: E.Node) -> bool:
         return any(isinstance(x, E.Ref) and self.model.get(x).key in self.members for x in E.walk(n))
 
+    def _whole(self, n: E.Node) -> Callable[[_Env], Any]:
+        """A part of a formula outside the recursion, over all years, computed once per chunk."""
+        f = self.whole.compile(n)
+        node_id = id(n)
+
+        def whole(env):
+            v = env.cache.get(node_id)
+            if v is None:
+                v = env.cache[node_id] = np.asarray(D(f(env)))
+            return v
+        return whole
+
+    def at_zero(self, n: E.Node) -> Callable[[_Env], Any]:  # noqa: C901
+        """The formula over all years with the recursion's own lines read as zero: where every member
+        is zero so, stepping the years gives zero throughout (by induction over the years)."""
+        if not self._inside(n):
+            return self._whole(n)
+        if isinstance(n, E.Ref):
+            return lambda env: 0.0
+        if isinstance(n, E.Bin):
+            fa, fb, op = self.at_zero(n.a), self.at_zero(n.b), _BIN[n.op]
+            return lambda env: op(fa(env), fb(env))
+        if isinstance(n, E.Not):
+            fa = self.at_zero(n.a)
+            return lambda env: np.logical_not(fa(env))
+        if isinstance(n, E.Call) and n.fn in ("where", "minimum", "maximum", "sign", "exp", "abs", "or_default"):
+            fs = [self.at_zero(a) for a in n.args]
+            if n.fn == "where":
+                return lambda env: np.where(fs[0](env), fs[1](env), fs[2](env))
+            if n.fn == "or_default":
+                return lambda env: (lambda x: np.where(np.isnan(x), fs[1](env), x))(
+                    np.asarray(fs[0](env), dtype=float))
+            op = {"minimum": np.minimum, "maximum": np.maximum, "sign": np.sign, "exp": np.exp, "abs": np.abs}[n.fn]
+            return lambda env: op(*(f(env) for f in fs))
+        if isinstance(n, E.Lag) and isinstance(n.k, int) and n.k >= 1:
+            fx, ffill, k = self.at_zero(n.x), self.at_zero(n.fill), n.k
+            return lambda env: _shift(D(_full(fx(env), env)), k, D(_full(ffill(env), env)))
+        raise ValueError(f"{type(n).__name__} cannot take part in a formula that refers to itself through a lag")
+
     def step(self, n: E.Node) -> Callable[[_Env, int], Any]:  # noqa: C901
         if not self._inside(n):
-            f = self.whole.compile(n)
-            node_id = id(n)
+            whole = self._whole(n)
+            key = (id(n), "by year")
 
-            def outside(env, s, f=f, node_id=node_id):
-                v = env.cache.get(node_id)
+            def outside(env, s, whole=whole, key=key):
+                v = env.cache.get(key)
                 if v is None:
-                    v = np.asarray(D(f(env)))
+                    v = whole(env)
                     if v.ndim == 2:  # (rows or 1, years or 1) -> (years or 1, rows or 1)
                         v = np.ascontiguousarray(v.T)
-                    env.cache[node_id] = v
+                    env.cache[key] = v
                 return v[s:s + 1] if v.ndim == 2 and v.shape[0] > 1 else v
             return outside
         if isinstance(n, E.Ref):
@@ -511,6 +610,7 @@ class _Step:
     defs: list[Def]
     fns: list[Callable]
     stepped: bool
+    zero: list[Callable] = ()  # a recursion's formulas over all years with its own lines read as zero
 
 
 class Plan:
@@ -535,25 +635,40 @@ class Plan:
                 raise ValueError(f"only lines may refer to themselves through a lag: {', '.join(bad)}")
             ordered = _same_year_order(self.model, comp)
             sc = _StepCompiler(self.model, keys)
-            self.steps.append(_Step(ordered, [sc.step(d.expr) for d in ordered], True))
+            self.steps.append(_Step(ordered, [sc.step(d.expr) for d in ordered], True,
+                                    [sc.at_zero(d.expr) for d in ordered]))
+        self.step_of = {d.key: step for step in self.steps for d in step.defs}
 
     def run(self, inputs: dict[str, Any], years: int, rows: int) -> dict[tuple[str, str], Array]:
+        """The wanted declarations (and those they needed) of one chunk, each computed when first read."""
         env = _Env(inputs, years, rows)
+        env.values.fill = lambda key: self._fill(env, key)
         with np.errstate(all="ignore"):
-            for step in self.steps:
-                if not step.stepped:
-                    d = step.defs[0]
-                    v = step.fns[0](env)
-                    env.values[d.key] = _shape(d, v, env)
-                    continue
-                for d in step.defs:
-                    env.stepped[d.key] = np.zeros((years, rows))
-                for s in range(years):
-                    for d, f in zip(step.defs, step.fns):
-                        env.stepped[d.key][s:s + 1] = f(env, s)
-                for d in step.defs:
-                    env.values[d.key] = np.ascontiguousarray(env.stepped.pop(d.key).T)
+            for key in self.wanted:
+                env.values[key]
         return env.values
+
+    def _fill(self, env: _Env, key: tuple[str, str]) -> None:
+        step = self.step_of[key]
+        if not step.stepped:
+            d = step.defs[0]
+            env.values[d.key] = _shape(d, step.fns[0](env), env)
+            return
+        # a recursion whose lines are all zero when their own earlier values are zero (no loan, no
+        # working-capital line) is zero in every year: checked over all years at once, member by member
+        if all(_all_zero(np.asarray(D(f(env)))) for f in step.zero):
+            zero = np.zeros((1, env.years))
+            for d in step.defs:
+                env.values[d.key] = _full(zero, env)
+            return
+        years, rows = env.years, env.rows
+        for d in step.defs:
+            env.stepped[d.key] = np.zeros((years, rows))
+        for s in range(years):
+            for d, f in zip(step.defs, step.fns):
+                env.stepped[d.key][s:s + 1] = f(env, s)
+        for d in step.defs:
+            env.values[d.key] = np.ascontiguousarray(env.stepped.pop(d.key).T)
 
 
 def _shape(d: Def, v: Any, env: _Env) -> Array:
