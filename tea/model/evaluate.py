@@ -643,9 +643,12 @@ class Plan:
         """The wanted declarations (and those they needed) of one chunk, each computed when first read."""
         env = _Env(inputs, years, rows)
         env.values.fill = lambda key: self._fill(env, key)
-        with np.errstate(all="ignore"):
-            for key in self.wanted:
-                env.values[key]
+        try:
+            with np.errstate(all="ignore"):
+                for key in self.wanted:
+                    env.values[key]
+        finally:
+            env.values.fill = None  # no reference cycle: the chunk's arrays go as soon as it is done
         return env.values
 
     def _fill(self, env: _Env, key: tuple[str, str]) -> None:
