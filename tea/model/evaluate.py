@@ -751,10 +751,11 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
             raise ValueError(f"{path}: {cols[path].shape[0]} rows in a batch of {n}")
     if chunk_rows is None:
         chunk_rows = max(1, CACHE_ELEMENTS // max(years, 1))
+    order, chunks = _chunks(cols, per_row, n, chunk_rows)
     out = Evaluated({}, {})
-    for start in range(0, n, chunk_rows):
-        stop = min(start + chunk_rows, n)
-        sub = {path: (c[start:stop] if path in per_row else c) for path, c in cols.items()}
+    for start, stop in chunks:
+        at = slice(start, stop) if order is None else order[start:stop]
+        sub = {path: (_same(c[at]) if path in per_row else c) for path, c in cols.items()}
         got = p.run(sub, years, stop - start)
         for space, names, shape in (("figure", figures, (stop - start, 1)), ("line", lines, (stop - start, years))):
             target = out.figures if space == "figure" else out.lines
@@ -763,10 +764,68 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
                 if name not in target:  # allocated with the first chunk's kind of value (numbers or labels)
                     full = (n,) if space == "figure" else (n, years)
                     target[name] = np.empty(full, dtype=float if v.dtype.kind in "fiub" else object)
-                target[name][start:stop] = v[:, 0] if space == "figure" else v
+                target[name][at] = v[:, 0] if space == "figure" else v
         if progress is not None:
             progress(stop - start)
     return out
+
+
+#: case keys whose values shape the year patterns or pick branches: rows that share them are evaluated together
+GROUP_KINDS = frozenset({"int", "list", "enum", "bool", "str"})
+GROUP_KEYS = frozenset(k.path for k in schema.KEYS if k.kind in GROUP_KINDS)
+#: rows of a batch per group at least, on average, for grouping to pay
+GROUP_ROWS = 1024
+
+
+def _same(c: Array) -> Array:
+    """A chunk's column as one row where every row holds the same value (NaN padding included), so that
+    the chunk's lines keep their separable form and its branches are taken once."""
+    if c.shape[0] <= 1:
+        return c
+    first = c[:1]
+    same = c == first
+    if c.dtype.kind == "f":
+        same |= np.isnan(c) & np.isnan(first)
+    return first if same.all() else c
+
+
+def _codes(c: Array) -> Array:
+    """Group number of each row of a per-row column (numbers, labels or a NaN-padded list)."""
+    if c.dtype.kind == "f":
+        c = np.where(np.isnan(c), -np.inf, c)
+    code = np.unique(c[:, 0], return_inverse=True)[1].reshape(-1)
+    for j in range(1, c.shape[1]):  # item by item: the groups so far split by the item's values
+        values, item = np.unique(c[:, j], return_inverse=True)
+        code = np.unique(code * len(values) + item.reshape(-1), return_inverse=True)[1].reshape(-1)
+    return code
+
+
+def _chunks(cols: dict[str, Any], per_row: set[str], n: int, chunk_rows: int) -> tuple[Array | None, list]:
+    """The order in which to take the rows and the (start, stop) of each chunk in it.
+
+    Where the rows vary in a stand life, a list or a choice (a Monte Carlo of stand lives and failure
+    events) and fall into few groups of equal such values, the rows of a group are taken together
+    (a stable order), so that each chunk keeps the shared year patterns of its group; else in order.
+    """
+    plain = (None, [(start, min(start + chunk_rows, n)) for start in range(0, n, chunk_rows)])
+    keys = sorted(p for p in per_row if p in GROUP_KEYS)
+    if not keys or n < 2 * GROUP_ROWS:
+        return plain
+    codes = [_codes(cols[p]) for p in keys]
+    order = np.lexsort(codes[::-1])
+    change = np.zeros(n, dtype=bool)
+    for c in codes:
+        sc = c[order]
+        change[1:] |= sc[1:] != sc[:-1]
+    edges = [0, *np.flatnonzero(change).tolist(), n]
+    if len(edges) - 1 > n // GROUP_ROWS:
+        return plain
+    chunks = []
+    for g0, g1 in zip(edges[:-1], edges[1:]):
+        count = -(-(g1 - g0) // chunk_rows)
+        size = -(-(g1 - g0) // count)
+        chunks.extend((start, min(start + size, g1)) for start in range(g0, g1, size))
+    return order, chunks
 
 
 __all__ = ["evaluate", "Evaluated", "plan", "Plan", "batch_rows", "CACHE_ELEMENTS", "LIST_KEYS"]
