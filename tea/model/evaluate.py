@@ -540,6 +540,22 @@ class _StepCompiler(_Compiler):
             return v
         return whole
 
+    def _branch(self, n: E.Call) -> Callable[[_Env], bool | None]:
+        """For a where() whose condition lies outside the recursion: True or False when every row and
+        year of the chunk takes the same branch (only that one is then computed, year by year), else None."""
+        if self._inside(n.args[0]):
+            return lambda env: None
+        cond = self._whole(n.args[0])
+        key = (id(n), "branch")
+
+        def branch(env):
+            got = env.cache.get(key)
+            if got is None:
+                c = cond(env)
+                got = env.cache[key] = (bool(c.flat[0]) if _uniform(c) else None,)
+            return got[0]
+        return branch
+
     def at_zero(self, n: E.Node) -> Callable[[_Env], Any]:  # noqa: C901
         """The formula over all years with the recursion's own lines read as zero: where every member
         is zero so, stepping the years gives zero throughout (by induction over the years)."""
@@ -556,7 +572,13 @@ class _StepCompiler(_Compiler):
         if isinstance(n, E.Call) and n.fn in ("where", "minimum", "maximum", "sign", "exp", "abs", "or_default"):
             fs = [self.at_zero(a) for a in n.args]
             if n.fn == "where":
-                return lambda env: np.where(fs[0](env), fs[1](env), fs[2](env))
+                branch = self._branch(n)
+
+                def where_at_zero(env):
+                    took = branch(env)
+                    return (fs[1] if took else fs[2])(env) if took is not None else \
+                        np.where(fs[0](env), fs[1](env), fs[2](env))
+                return where_at_zero
             if n.fn == "or_default":
                 return lambda env: (lambda x: np.where(np.isnan(x), fs[1](env), x))(
                     np.asarray(fs[0](env), dtype=float))
@@ -593,7 +615,13 @@ class _StepCompiler(_Compiler):
         if isinstance(n, E.Call) and n.fn in ("where", "minimum", "maximum", "sign", "exp", "abs", "or_default"):
             fs = [self.step(a) for a in n.args]
             if n.fn == "where":
-                return lambda env, s: np.where(fs[0](env, s), fs[1](env, s), fs[2](env, s))
+                branch = self._branch(n)
+
+                def where_by_year(env, s):
+                    took = branch(env)
+                    return (fs[1] if took else fs[2])(env, s) if took is not None else \
+                        np.where(fs[0](env, s), fs[1](env, s), fs[2](env, s))
+                return where_by_year
             if n.fn == "or_default":
                 return lambda env, s: (lambda x: np.where(np.isnan(x), fs[1](env, s), x))(
                     np.asarray(fs[0](env, s), dtype=float))
