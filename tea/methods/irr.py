@@ -87,8 +87,11 @@ _TRANSPOSE_ROWS = 512
 
 
 def _transpose(f: np.ndarray) -> np.ndarray:
-    """(cases, years) -> C-contiguous (years, cases), copied in cache-sized blocks."""
+    """(cases, years) -> (years, cases) with each year contiguous: a view where the cases are already
+    the inner axis in memory, else a copy in cache-sized blocks."""
     rows, years = f.shape
+    if f.strides[0] == f.itemsize and f.dtype == float:
+        return f.T
     t = np.empty((years, rows))
     for start in range(0, rows, _TRANSPOSE_ROWS):
         t[:, start : start + _TRANSPOSE_ROWS] = f[start : start + _TRANSPOSE_ROWS].T

@@ -167,6 +167,19 @@ def _by_year(a: Array, t: Array, start: int, default: float, hold_last: bool) ->
     return np.where(inside, got, default)
 
 
+def _cumsum(x: Array) -> Array:
+    """Running total along the years, year by year over all rows at once: the same additions in the same
+    order as ``np.cumsum(x, axis=1)``, which loops over the short rows one at a time."""
+    x = np.asarray(x)
+    if x.ndim != 2 or x.shape[0] < 64 or x.dtype.kind not in "fiub":
+        return np.cumsum(x, axis=1)
+    out = np.empty(x.shape, dtype=np.result_type(x.dtype, np.int64) if x.dtype.kind in "iub" else x.dtype)
+    out[:, 0] = x[:, 0]
+    for k in range(1, x.shape[1]):
+        np.add(out[:, k - 1], x[:, k], out=out[:, k])
+    return out
+
+
 def _shift(x: Array, k: int, fill: Array) -> Array:
     """x k years later (k < 0: |k| years earlier, a lead); ``fill`` where the years run out."""
     years = x.shape[1]
@@ -224,8 +237,9 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
         none = np.all(np.isnan(x), axis=1, keepdims=True)
         return np.where(none, np.nan, np.argmin(filled, axis=1)[:, None].astype(float))
     if kind == "first_year":
-        hit = (x != 0) & ~np.isnan(x)
-        return np.where(hit.any(axis=1, keepdims=True), np.argmax(hit, axis=1)[:, None].astype(float), np.nan)
+        hit = np.abs(x) > 0  # not zero and not "no value"
+        first = np.argmax(hit, axis=1)[:, None]
+        return np.where(np.take_along_axis(hit, first, axis=1), first.astype(float), np.nan)
     raise ValueError(f"unknown reduction {kind!r}")
 
 
@@ -352,9 +366,9 @@ class _Compiler:
                 if _uniform(k):  # the same window for every row: a shift
                     if isinstance(x, S.Sep):
                         return S.window(x, int(k.flat[0]))
-                    c = np.cumsum(x, axis=1)
+                    c = _cumsum(x)
                     return c - _shift(c, int(k.flat[0]), np.zeros((1, 1)))
-                c = np.cumsum(D(x), axis=1)
+                c = _cumsum(D(x))
                 idx = (env.t - k).astype(np.int64)
                 before, ok = _gather(c, idx)
                 return c - np.where(ok, before, 0.0)
@@ -363,7 +377,7 @@ class _Compiler:
             fx = self.compile(n.x)
             def cum(env, fx=fx):
                 x = _full(fx(env), env)
-                return S.cumsum(x) if isinstance(x, S.Sep) else np.cumsum(x, axis=1)
+                return S.cumsum(x) if isinstance(x, S.Sep) else _cumsum(x)
             return cum
         if isinstance(n, E.ByYear):
             fx = self.compile(n.x)
@@ -384,7 +398,9 @@ class _Compiler:
             yearly = [_is_yearly(self.model, a) for a in n.args]
 
             def call(env, m=m, fargs=fargs, yearly=yearly):
-                args = [D(_full(f(env), env)) if y else D(f(env)) for f, y in zip(fargs, yearly)]
+                # a line kept separable is made dense year-major ((years, rows), handed over as its
+                # (rows, years) view): a method working year by year over the rows (IRR) reads it as is
+                args = [S.dense_by_year(_full(f(env), env)) if y else D(f(env)) for f, y in zip(fargs, yearly)]
                 if any(y for y in yearly):
                     rows = max(np.asarray(a).shape[0] for a in args if np.ndim(a) == 2)
                     args = [np.broadcast_to(a, (rows, env.years)) if y else a for a, y in zip(args, yearly)]
