@@ -24,7 +24,9 @@ from tea.inputs import published, schema
 from tea.model import expr as E
 from tea.model.declare import Def, Model
 from tea.model.definition import MODEL
+from tea.model import chunks as chunked
 from tea.model import separable as S
+from tea.model.order import components, edges, same_year_order
 from tea.model.methods import METHODS
 from tea.model.slopes import expanded
 
@@ -438,95 +440,7 @@ def _is_yearly(model: Model, n: E.Node) -> bool:
     return isinstance(n, E.Ref) and model.get(n).kind == "line"
 
 
-# ----------------------------------------------------------------------------- order and recursion
-def _edges(model: Model, d: Def) -> list[tuple[tuple[str, str], bool]]:
-    """(key, lagged) for each reference of a formula: lagged when it sits under a lag of >= 1 year."""
-    out: list[tuple[tuple[str, str], bool]] = []
-
-    def visit(n: E.Node, lagged: bool) -> None:
-        if isinstance(n, E.Ref):
-            out.append((model.get(n).key, lagged))
-            return
-        if isinstance(n, E.Lag):
-            visit(n.x, lagged or (isinstance(n.k, int) and n.k >= 1))
-            visit(n.fill, lagged)
-            if isinstance(n.k, E.Node):
-                visit(n.k, lagged)
-            return
-        for c in (n.args if isinstance(n, E.Method) else E.children(n)):
-            visit(c, lagged)
-
-    visit(d.expr, False)
-    return out
-
-
-def _components(model: Model, defs: list[Def]) -> list[list[Def]]:
-    """Strongly connected components in dependency order (Tarjan's algorithm, iterative)."""
-    by_key = {d.key: d for d in defs}
-    graph = {d.key: [k for k, _ in _edges(model, d) if k in by_key] for d in defs}
-    index: dict = {}
-    low: dict = {}
-    on: set = set()
-    stack: list = []
-    out: list[list[Def]] = []
-    counter = 0
-    for root in graph:
-        if root in index:
-            continue
-        work = [(root, iter(graph[root]))]
-        index[root] = low[root] = counter
-        counter += 1
-        stack.append(root)
-        on.add(root)
-        while work:
-            v, it = work[-1]
-            advanced = False
-            for w in it:
-                if w not in index:
-                    index[w] = low[w] = counter
-                    counter += 1
-                    stack.append(w)
-                    on.add(w)
-                    work.append((w, iter(graph[w])))
-                    advanced = True
-                    break
-                if w in on:
-                    low[v] = min(low[v], index[w])
-            if advanced:
-                continue
-            work.pop()
-            if work:
-                low[work[-1][0]] = min(low[work[-1][0]], low[v])
-            if low[v] == index[v]:
-                comp = []
-                while True:
-                    w = stack.pop()
-                    on.discard(w)
-                    comp.append(by_key[w])
-                    if w == v:
-                        break
-                out.append(comp)
-    return out
-
-
-def _same_year_order(model: Model, comp: list[Def]) -> list[Def]:
-    """Members of a recursive group ordered so that same-year references come first."""
-    keys = {d.key for d in comp}
-    deps = {d.key: {k for k, lagged in _edges(model, d) if k in keys and not lagged} for d in comp}
-    order: list[Def] = []
-    done: set = set()
-    by_key = {d.key: d for d in comp}
-    while len(order) < len(comp):
-        ready = [k for k in deps if k not in done and deps[k] <= done]
-        if not ready:
-            names = ", ".join(sorted(k[1] for k in deps if k not in done))
-            raise ValueError(f"these formulas refer to each other in the same year (no lag between them): {names}")
-        for k in sorted(ready, key=lambda k: [d.key for d in comp].index(k)):
-            order.append(by_key[k])
-            done.add(k)
-    return order
-
-
+# ----------------------------------------------------------------------------- recursion
 class _StepCompiler(_Compiler):
     """Closures (env, year) -> the value of one year, for lines that refer to themselves through a lag.
 
@@ -668,16 +582,16 @@ class Plan:
         self.inputs = sorted({p for d in defs for p in E.inputs(d.expr)})
         compiler = _Compiler(self.model)
         self.steps: list[_Step] = []
-        for comp in _components(self.model, defs):
+        for comp in components(self.model, defs):
             keys = {d.key for d in comp}
-            recursive = len(comp) > 1 or any(k in keys for k, _ in _edges(self.model, comp[0]))
+            recursive = len(comp) > 1 or any(k in keys for k, _ in edges(self.model, comp[0]))
             if not recursive:
                 self.steps.append(_Step(comp, [compiler.compile(comp[0].expr)], False))
                 continue
             bad = [d.name for d in comp if d.kind != "line"]
             if bad:
                 raise ValueError(f"only lines may refer to themselves through a lag: {', '.join(bad)}")
-            ordered = _same_year_order(self.model, comp)
+            ordered = same_year_order(self.model, comp)
             sc = _StepCompiler(self.model, keys)
             self.steps.append(_Step(ordered, [sc.step(d.expr) for d in ordered], True,
                                     [sc.at_zero(d.expr) for d in ordered]))
@@ -795,11 +709,11 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
             raise ValueError(f"{path}: {cols[path].shape[0]} rows in a batch of {n}")
     if chunk_rows is None:
         chunk_rows = max(1, CACHE_ELEMENTS // max(years, 1))
-    order, chunks = _chunks(cols, per_row, n, chunk_rows)
+    order, chunks = chunked.order(cols, per_row, n, chunk_rows)
     out = Evaluated({}, {})
     for start, stop in chunks:
         at = slice(start, stop) if order is None else order[start:stop]
-        sub = {path: (_same(c[at]) if path in per_row else c) for path, c in cols.items()}
+        sub = {path: (chunked.same(c[at]) if path in per_row else c) for path, c in cols.items()}
         got = p.run(sub, years, stop - start)
         for space, names, shape in (("figure", figures, (stop - start, 1)), ("line", lines, (stop - start, years))):
             target = out.figures if space == "figure" else out.lines
@@ -812,64 +726,6 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
         if progress is not None:
             progress(stop - start)
     return out
-
-
-#: case keys whose values shape the year patterns or pick branches: rows that share them are evaluated together
-GROUP_KINDS = frozenset({"int", "list", "enum", "bool", "str"})
-GROUP_KEYS = frozenset(k.path for k in schema.KEYS if k.kind in GROUP_KINDS)
-#: rows of a batch per group at least, on average, for grouping to pay
-GROUP_ROWS = 1024
-
-
-def _same(c: Array) -> Array:
-    """A chunk's column as one row where every row holds the same value (NaN padding included), so that
-    the chunk's lines keep their separable form and its branches are taken once."""
-    if c.shape[0] <= 1:
-        return c
-    first = c[:1]
-    same = c == first
-    if c.dtype.kind == "f":
-        same |= np.isnan(c) & np.isnan(first)
-    return first if same.all() else c
-
-
-def _codes(c: Array) -> Array:
-    """Group number of each row of a per-row column (numbers, labels or a NaN-padded list)."""
-    if c.dtype.kind == "f":
-        c = np.where(np.isnan(c), -np.inf, c)
-    code = np.unique(c[:, 0], return_inverse=True)[1].reshape(-1)
-    for j in range(1, c.shape[1]):  # item by item: the groups so far split by the item's values
-        values, item = np.unique(c[:, j], return_inverse=True)
-        code = np.unique(code * len(values) + item.reshape(-1), return_inverse=True)[1].reshape(-1)
-    return code
-
-
-def _chunks(cols: dict[str, Any], per_row: set[str], n: int, chunk_rows: int) -> tuple[Array | None, list]:
-    """The order in which to take the rows and the (start, stop) of each chunk in it.
-
-    Where the rows vary in a stand life, a list or a choice (a Monte Carlo of stand lives and failure
-    events) and fall into few groups of equal such values, the rows of a group are taken together
-    (a stable order), so that each chunk keeps the shared year patterns of its group; else in order.
-    """
-    plain = (None, [(start, min(start + chunk_rows, n)) for start in range(0, n, chunk_rows)])
-    keys = sorted(p for p in per_row if p in GROUP_KEYS)
-    if not keys or n < 2 * GROUP_ROWS:
-        return plain
-    codes = [_codes(cols[p]) for p in keys]
-    order = np.lexsort(codes[::-1])
-    change = np.zeros(n, dtype=bool)
-    for c in codes:
-        sc = c[order]
-        change[1:] |= sc[1:] != sc[:-1]
-    edges = [0, *np.flatnonzero(change).tolist(), n]
-    if len(edges) - 1 > n // GROUP_ROWS:
-        return plain
-    chunks = []
-    for g0, g1 in zip(edges[:-1], edges[1:]):
-        count = -(-(g1 - g0) // chunk_rows)
-        size = -(-(g1 - g0) // count)
-        chunks.extend((start, min(start + size, g1)) for start in range(g0, g1, size))
-    return order, chunks
 
 
 __all__ = ["evaluate", "Evaluated", "plan", "Plan", "batch_rows", "CACHE_ELEMENTS", "LIST_KEYS"]
