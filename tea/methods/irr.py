@@ -328,7 +328,10 @@ def _irr_block(f: np.ndarray, norstrom: bool = False) -> np.ndarray:
     sign = np.where(first_negative, 1.0, -1.0)
     # Signed so that the costs come first: NPV(0) > 0 means r > 0.
     at_zero = total * sign
-    forward = np.flatnonzero(solve & (at_zero > 0))
+    forward = solve & (at_zero > 0)
+    if norstrom:  # Norström's rows (a cost first, a positive end) are solved with the forward ones
+        forward[_norstrom_rows(t, ~solve)] = True
+    forward = np.flatnonzero(forward)
     # For r < 0 the root is solved in y = 1 + r in (0, 1): coefficients reversed.
     backward = np.flatnonzero(solve & (at_zero < 0))
     out[solve & (at_zero == 0)] = 0.0
@@ -344,30 +347,30 @@ def _irr_block(f: np.ndarray, norstrom: bool = False) -> np.ndarray:
         z = _solve_unit(g)
         out[idx] = z - 1.0 if reverse else (1.0 - z) / z
     if norstrom:
-        _norstrom_fill(t, out)
+        # a unique rate outside double precision (rare): Norström's criterion may still give one
+        left = solve & np.isnan(out)
+        cand = _norstrom_rows(t, left) if left.any() else left[:0]
+        if cand.size:
+            g = np.take(t, cand, axis=1)
+            g /= np.abs(g).max(axis=0)
+            out[cand] = 1.0 / _solve_unit(g) - 1.0
     return out
 
 
-def _norstrom_fill(t: np.ndarray, out: np.ndarray) -> None:
-    """Where ``out`` is NaN and the column of t (years, cases) starts with a cost, ends with a positive
-    running total and its running total changes sign once (Norström's criterion), the one positive
-    rate, solved in z = 1/(1+r) on (0, 1) with the coefficients scaled by their largest magnitude."""
-    todo = np.isnan(out)
+def _norstrom_rows(t: np.ndarray, todo: np.ndarray) -> np.ndarray:
+    """The columns of t (years, cases) among ``todo`` that start with a cost, end with a positive
+    running total and whose running total changes sign once (Norström's criterion): exactly one rate
+    is positive, solved in z = 1/(1+r) on (0, 1) as the forward rows of the unique-rate rule are."""
     if not todo.any():
-        return
+        return np.flatnonzero(todo)
     cum = np.empty_like(t)  # the running total year by year, one row of cases at a time (as cumsum adds)
     cum[0] = t[0]
     for k in range(1, t.shape[0]):
         np.add(cum[k - 1], t[k], out=cum[k])
     cand = np.flatnonzero(todo & (cum[-1] > 0) & (t[0] < 0))  # the cheap tests first
     if cand.size == 0:
-        return
-    cand = cand[_sign_structure(np.take(cum, cand, axis=1))[0] == 1]
-    if cand.size == 0:
-        return
-    g = np.take(t, cand, axis=1)
-    g /= np.abs(g).max(axis=0)
-    out[cand] = 1.0 / _solve_unit(g) - 1.0
+        return cand
+    return cand[_sign_structure(np.take(cum, cand, axis=1))[0] == 1]
 
 
 def irr(flows):
