@@ -252,21 +252,23 @@ class _Compiler:
         self.model = model
 
     def _product(self, n: E.Bin, fa: Fn, fb: Fn) -> Fn:
-        """a * b; where a factor is zero for the whole chunk (a rate, a share or a flag of the case), the
-        other is not computed: the product is that zero (which also spares the lines only it needs)."""
+        """a * b; where a factor made of case inputs and constants alone (a tax rate, a share, a number
+        of reserve years) is zero for the whole chunk, the other is not computed: the product is that
+        zero (which also spares the lines only the other factor needs)."""
         mul = np.multiply
-        if _cheap(self.model, n.b) and not _cheap(self.model, n.a):
-            def product(env):
+        if _governing(n.b):
+            def product_b(env):
                 b = fb(env)
                 z = _zero(b)
                 return z if z is not None else S.binop("*", fa(env), b, mul)
-            return product
-
-        def product_ab(env):
-            a = fa(env)
-            z = _zero(a)
-            return z if z is not None else S.binop("*", a, fb(env), mul)
-        return product_ab
+            return product_b
+        if _governing(n.a):
+            def product_a(env):
+                a = fa(env)
+                z = _zero(a)
+                return z if z is not None else S.binop("*", a, fb(env), mul)
+            return product_a
+        return lambda env: S.binop("*", fa(env), fb(env), mul)
 
     def compile(self, n: E.Node) -> Fn:  # noqa: C901 - one case per node type
         if isinstance(n, E.Const):
@@ -429,10 +431,10 @@ def _all_zero(x: Array) -> bool:
     return x.dtype.kind in "fiub" and not x.any()
 
 
-def _cheap(model: Model, n: E.Node) -> bool:
-    """Whether a node is read rather than computed: an input, a constant or a parameter."""
-    return isinstance(n, (E.Input, E.Const, E.Constant)) or (isinstance(n, E.Ref) and model.get(n).kind != "line"
-                                                             and model.get(n).kind != "figure")
+def _governing(n: E.Node) -> bool:
+    """Whether a factor is made of case inputs and constants alone (no line, no year)."""
+    return all(isinstance(x, (E.Input, E.Const, E.Constant, E.Bin, E.Not)) or (isinstance(x, E.Call) and x.fn in (
+        "where", "minimum", "maximum", "given", "or_default", "abs", "sign")) for x in E.walk(n))
 
 
 def _is_yearly(model: Model, n: E.Node) -> bool:
