@@ -249,22 +249,20 @@ def percentiles_by_column(x: np.ndarray, qs=PERCENTILES) -> list[np.ndarray]:
     The q-th percentile of n sorted values v is v[h] interpolated linearly at
     h = (n - 1) q / 100 (R. J. Hyndman and Y. Fan, "Sample quantiles in
     statistical packages", *The American Statistician* 50(4), 361-365, 1996,
-    definition 7). Sorting each column once is faster than numpy's
-    percentile along axis 0.
+    definition 7). Only the order statistics the percentiles read are put in
+    place (a partition of each column, linear time), not the whole column sorted.
 
     >>> [v.tolist() for v in percentiles_by_column(np.array([[1.0, 10.0], [2.0, 30.0], [4.0, 20.0]]), (50, 75))]
     [[2.0, 20.0], [3.0, 25.0]]
     """
-    ordered = np.sort(np.ascontiguousarray(x.T), axis=1)
-    n = ordered.shape[1]
-    out = []
+    n = x.shape[0]
+    at = []
     for q in qs:
         h = (n - 1) * q / 100.0
         lo = int(math.floor(h))
-        hi = min(lo + 1, n - 1)
-        frac = h - lo
-        out.append(ordered[:, lo] + frac * (ordered[:, hi] - ordered[:, lo]))
-    return out
+        at.append((lo, min(lo + 1, n - 1), h - lo))
+    ordered = np.partition(np.ascontiguousarray(x.T), sorted({i for lo, hi, _ in at for i in (lo, hi)}), axis=1)
+    return [ordered[:, lo] + frac * (ordered[:, hi] - ordered[:, lo]) for lo, hi, frac in at]
 
 
 @dataclass

@@ -81,14 +81,17 @@ _EXTRA_NEWTON_STEPS = 16
 # narrow any bracket within the float range to the float resolution.
 _BISECTION_STEPS = 64
 # Rows solved together: keeps the working vectors in the processor cache.
-_CHUNK_ROWS = 32768
+_CHUNK_ROWS = 16384
 # Rows per block when transposing (cases, years) to (years, cases).
 _TRANSPOSE_ROWS = 512
 
 
 def _transpose(f: np.ndarray) -> np.ndarray:
-    """(cases, years) -> C-contiguous (years, cases), copied in cache-sized blocks."""
+    """(cases, years) -> (years, cases) with each year contiguous: a view where the cases are already
+    the inner axis in memory, else a copy in cache-sized blocks."""
     rows, years = f.shape
+    if f.strides[0] == f.itemsize and f.dtype == float:
+        return f.T
     t = np.empty((years, rows))
     for start in range(0, rows, _TRANSPOSE_ROWS):
         t[:, start : start + _TRANSPOSE_ROWS] = f[start : start + _TRANSPOSE_ROWS].T
@@ -298,8 +301,9 @@ def _solve_unit(g: np.ndarray) -> np.ndarray:
     return z
 
 
-def _irr_block(f: np.ndarray) -> np.ndarray:
-    """IRR of each row of a (cases, years) block; NaN where not unique."""
+def _irr_block(f: np.ndarray, norstrom: bool = False) -> np.ndarray:
+    """IRR of each row of a (cases, years) block; NaN where not unique (with ``norstrom``, where it is
+    not unique and Norström's criterion does not give the one positive rate either)."""
     rows, years = f.shape
     out = np.full(rows, np.nan)
     if years < 2 or rows == 0:
@@ -324,7 +328,10 @@ def _irr_block(f: np.ndarray) -> np.ndarray:
     sign = np.where(first_negative, 1.0, -1.0)
     # Signed so that the costs come first: NPV(0) > 0 means r > 0.
     at_zero = total * sign
-    forward = np.flatnonzero(solve & (at_zero > 0))
+    forward = solve & (at_zero > 0)
+    if norstrom:  # Norström's rows (a cost first, a positive end) are solved with the forward ones
+        forward[_norstrom_rows(t, ~solve)] = True
+    forward = np.flatnonzero(forward)
     # For r < 0 the root is solved in y = 1 + r in (0, 1): coefficients reversed.
     backward = np.flatnonzero(solve & (at_zero < 0))
     out[solve & (at_zero == 0)] = 0.0
@@ -339,7 +346,31 @@ def _irr_block(f: np.ndarray) -> np.ndarray:
         g *= signs / np.maximum(g.max(axis=0), -g.min(axis=0))
         z = _solve_unit(g)
         out[idx] = z - 1.0 if reverse else (1.0 - z) / z
+    if norstrom:
+        # a unique rate outside double precision (rare): Norström's criterion may still give one
+        left = solve & np.isnan(out)
+        cand = _norstrom_rows(t, left) if left.any() else left[:0]
+        if cand.size:
+            g = np.take(t, cand, axis=1)
+            g /= np.abs(g).max(axis=0)
+            out[cand] = 1.0 / _solve_unit(g) - 1.0
     return out
+
+
+def _norstrom_rows(t: np.ndarray, todo: np.ndarray) -> np.ndarray:
+    """The columns of t (years, cases) among ``todo`` that start with a cost, end with a positive
+    running total and whose running total changes sign once (Norström's criterion): exactly one rate
+    is positive, solved in z = 1/(1+r) on (0, 1) as the forward rows of the unique-rate rule are."""
+    if not todo.any():
+        return np.flatnonzero(todo)
+    cum = np.empty_like(t)  # the running total year by year, one row of cases at a time (as cumsum adds)
+    cum[0] = t[0]
+    for k in range(1, t.shape[0]):
+        np.add(cum[k - 1], t[k], out=cum[k])
+    cand = np.flatnonzero(todo & (cum[-1] > 0) & (t[0] < 0))  # the cheap tests first
+    if cand.size == 0:
+        return cand
+    return cand[_sign_structure(np.take(cum, cand, axis=1))[0] == 1]
 
 
 def irr(flows):
@@ -417,10 +448,16 @@ def irr(flows):
         return irr_scalar(f[0])
     out = np.empty(f.shape[0])
     with np.errstate(all="ignore"):
-        for start in range(0, f.shape[0], _CHUNK_ROWS):
-            stop = min(start + _CHUNK_ROWS, f.shape[0])
+        for start, stop in _blocks(f.shape[0]):
             out[start:stop] = _irr_block(f[start:stop])
     return out
+
+
+def _blocks(rows: int) -> list[tuple[int, int]]:
+    """(start, stop) of blocks of at most _CHUNK_ROWS rows, of equal size (no small remainder)."""
+    count = max(1, -(-rows // _CHUNK_ROWS))
+    size = -(-rows // count)
+    return [(start, min(start + size, rows)) for start in range(0, rows, size)] if rows else []
 
 
 # ---------------------------------------------------------------------------
@@ -685,14 +722,6 @@ def cumulative_sign_changes(flows):
     return out if not one else int(np.asarray(out).reshape(-1)[0])
 
 
-def _positive_root(f: np.ndarray) -> np.ndarray:
-    """The rate r > 0 of rows with one root of sum_t f_t z^t for z = 1/(1+r) in (0, 1), f_0 < 0 and a
-    positive sum (Norström's case): the safeguarded Newton solver of the unique-IRR rows, on (0, 1)."""
-    scale = np.max(np.abs(f), axis=1, keepdims=True)
-    z = _solve_unit(_transpose(f / scale))
-    return 1.0 / z - 1.0
-
-
 def irr_by_rule(flows):
     """The IRR under the project's rule: the unique rate in (-100 %, inf) where there is one
     (:func:`irr`), else, where the cumulative cash flow changes sign exactly once and ends
@@ -725,15 +754,11 @@ def irr_by_rule(flows):
     0.185813
     """
     f, one = _flows_2d(flows)
-    rates = np.atleast_1d(np.asarray(irr(f), dtype=float)).copy()
-    todo = np.isnan(rates)
-    if todo.any():
-        cum = np.cumsum(f[todo], axis=1)
-        first = f[todo][:, 0]
-        ok = (np.atleast_1d(sign_changes(cum)) == 1) & (cum[:, -1] > 0) & (first < 0)
-        if ok.any():
-            idx = np.flatnonzero(todo)[ok]
-            rates[idx] = _positive_root(f[idx])
+    # block by block, on one transposed copy of each block: the unique rate, then Norström's rows
+    rates = np.empty(f.shape[0])
+    with np.errstate(all="ignore"):
+        for start, stop in _blocks(f.shape[0]):
+            rates[start:stop] = _irr_block(f[start:stop], norstrom=True)
     return float(rates[0]) if one else rates
 
 

@@ -24,7 +24,9 @@ from tea.inputs import published, schema
 from tea.model import expr as E
 from tea.model.declare import Def, Model
 from tea.model.definition import MODEL
+from tea.model import chunks as chunked
 from tea.model import separable as S
+from tea.model.order import components, edges, same_year_order
 from tea.model.methods import METHODS
 from tea.model.slopes import expanded
 
@@ -39,14 +41,32 @@ Fn = Callable[["_Env"], Any]
 D = S.dense
 
 
+class _Values(dict):
+    """Computed declarations by key; a declaration not yet computed is computed when first read
+    (``fill``), so that a branch or factor the chunk's values make irrelevant is never computed."""
+
+    __slots__ = ("fill",)
+
+    def __init__(self, fill: Callable[[tuple[str, str]], None] | None = None):
+        super().__init__()
+        self.fill = fill
+
+    def __missing__(self, key):
+        if self.fill is None:
+            raise KeyError(key)
+        self.fill(key)
+        return dict.__getitem__(self, key)
+
+
 class _Env:
     """What a chunk's formulas read: inputs, computed declarations, the year row."""
 
-    __slots__ = ("inputs", "values", "t", "years", "rows", "cache")
+    __slots__ = ("inputs", "values", "stepped", "t", "years", "rows", "cache")
 
     def __init__(self, inputs: dict[str, Any], years: int, rows: int):
         self.inputs = inputs
-        self.values: dict[tuple[str, str], Array] = {}
+        self.values: dict[tuple[str, str], Array] = _Values()
+        self.stepped: dict[tuple[str, str], Array] = {}  # members of a recursion being stepped: (years, rows)
         self.t = np.arange(years, dtype=float)[None, :]
         self.years = years
         self.rows = rows
@@ -149,6 +169,19 @@ def _by_year(a: Array, t: Array, start: int, default: float, hold_last: bool) ->
     return np.where(inside, got, default)
 
 
+def _cumsum(x: Array) -> Array:
+    """Running total along the years, year by year over all rows at once: the same additions in the same
+    order as ``np.cumsum(x, axis=1)``, which loops over the short rows one at a time."""
+    x = np.asarray(x)
+    if x.ndim != 2 or x.shape[0] < 64 or x.dtype.kind not in "fiub":
+        return np.cumsum(x, axis=1)
+    out = np.empty(x.shape, dtype=np.result_type(x.dtype, np.int64) if x.dtype.kind in "iub" else x.dtype)
+    out[:, 0] = x[:, 0]
+    for k in range(1, x.shape[1]):
+        np.add(out[:, k - 1], x[:, k], out=out[:, k])
+    return out
+
+
 def _shift(x: Array, k: int, fill: Array) -> Array:
     """x k years later (k < 0: |k| years earlier, a lead); ``fill`` where the years run out."""
     years = x.shape[1]
@@ -206,8 +239,9 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
         none = np.all(np.isnan(x), axis=1, keepdims=True)
         return np.where(none, np.nan, np.argmin(filled, axis=1)[:, None].astype(float))
     if kind == "first_year":
-        hit = (x != 0) & ~np.isnan(x)
-        return np.where(hit.any(axis=1, keepdims=True), np.argmax(hit, axis=1)[:, None].astype(float), np.nan)
+        hit = np.abs(x) > 0  # not zero and not "no value"
+        first = np.argmax(hit, axis=1)[:, None]
+        return np.where(np.take_along_axis(hit, first, axis=1), first.astype(float), np.nan)
     raise ValueError(f"unknown reduction {kind!r}")
 
 
@@ -216,6 +250,25 @@ class _Compiler:
 
     def __init__(self, model: Model):
         self.model = model
+
+    def _product(self, n: E.Bin, fa: Fn, fb: Fn) -> Fn:
+        """a * b; where a factor made of case inputs and constants alone (a tax rate, a share, a number
+        of reserve years) is zero for the whole chunk, the other is not computed: the product is that
+        zero (which also spares the lines only the other factor needs)."""
+        mul = np.multiply
+        if _governing(n.b):
+            def product_b(env):
+                b = fb(env)
+                z = _zero(b)
+                return z if z is not None else S.binop("*", fa(env), b, mul)
+            return product_b
+        if _governing(n.a):
+            def product_a(env):
+                a = fa(env)
+                z = _zero(a)
+                return z if z is not None else S.binop("*", a, fb(env), mul)
+            return product_a
+        return lambda env: S.binop("*", fa(env), fb(env), mul)
 
     def compile(self, n: E.Node) -> Fn:  # noqa: C901 - one case per node type
         if isinstance(n, E.Const):
@@ -234,6 +287,8 @@ class _Compiler:
             return lambda env: env.t
         if isinstance(n, E.Bin):
             fa, fb, op, name = self.compile(n.a), self.compile(n.b), _BIN[n.op], n.op
+            if name == "*":
+                return self._product(n, fa, fb)
             return lambda env: S.binop(name, fa(env), fb(env), op)
         if isinstance(n, E.Not):
             fa = self.compile(n.a)
@@ -315,9 +370,9 @@ class _Compiler:
                 if _uniform(k):  # the same window for every row: a shift
                     if isinstance(x, S.Sep):
                         return S.window(x, int(k.flat[0]))
-                    c = np.cumsum(x, axis=1)
+                    c = _cumsum(x)
                     return c - _shift(c, int(k.flat[0]), np.zeros((1, 1)))
-                c = np.cumsum(D(x), axis=1)
+                c = _cumsum(D(x))
                 idx = (env.t - k).astype(np.int64)
                 before, ok = _gather(c, idx)
                 return c - np.where(ok, before, 0.0)
@@ -326,7 +381,7 @@ class _Compiler:
             fx = self.compile(n.x)
             def cum(env, fx=fx):
                 x = _full(fx(env), env)
-                return S.cumsum(x) if isinstance(x, S.Sep) else np.cumsum(x, axis=1)
+                return S.cumsum(x) if isinstance(x, S.Sep) else _cumsum(x)
             return cum
         if isinstance(n, E.ByYear):
             fx = self.compile(n.x)
@@ -347,7 +402,9 @@ class _Compiler:
             yearly = [_is_yearly(self.model, a) for a in n.args]
 
             def call(env, m=m, fargs=fargs, yearly=yearly):
-                args = [D(_full(f(env), env)) if y else D(f(env)) for f, y in zip(fargs, yearly)]
+                # a line kept separable is made dense year-major ((years, rows), handed over as its
+                # (rows, years) view): a method working year by year over the rows (IRR) reads it as is
+                args = [S.dense_by_year(_full(f(env), env)) if y else D(f(env)) for f, y in zip(fargs, yearly)]
                 if any(y for y in yearly):
                     rows = max(np.asarray(a).shape[0] for a in args if np.ndim(a) == 2)
                     args = [np.broadcast_to(a, (rows, env.years)) if y else a for a, y in zip(args, yearly)]
@@ -356,102 +413,44 @@ class _Compiler:
         raise TypeError(f"cannot evaluate {type(n).__name__}")
 
 
+def _zero(x: Any) -> Any:
+    """x as a float array where it is a number or row or year value that is zero throughout (not a
+    dense (rows, years) array: that check would cost a pass), else None."""
+    if isinstance(x, np.ndarray):
+        if x.ndim <= 2 and (x.ndim < 2 or x.shape[0] == 1 or x.shape[1] == 1) and x.dtype.kind in "fiub" \
+                and not x.any():
+            return x if x.dtype.kind == "f" else x.astype(float)
+        return None
+    if isinstance(x, (float, int)) and x == 0:
+        return float(x)
+    return None
+
+
+def _all_zero(x: Array) -> bool:
+    """Whether a value (numbers, any shape) is zero throughout; not a number is not zero."""
+    return x.dtype.kind in "fiub" and not x.any()
+
+
+def _governing(n: E.Node) -> bool:
+    """Whether a factor is made of case inputs and constants alone (no line, no year)."""
+    return all(isinstance(x, (E.Input, E.Const, E.Constant, E.Bin, E.Not)) or (isinstance(x, E.Call) and x.fn in (
+        "where", "minimum", "maximum", "given", "or_default", "abs", "sign")) for x in E.walk(n))
+
+
 def _is_yearly(model: Model, n: E.Node) -> bool:
     """Whether an argument is a line (one value per year) rather than a row-level value."""
     return isinstance(n, E.Ref) and model.get(n).kind == "line"
 
 
-# ----------------------------------------------------------------------------- order and recursion
-def _edges(model: Model, d: Def) -> list[tuple[tuple[str, str], bool]]:
-    """(key, lagged) for each reference of a formula: lagged when it sits under a lag of >= 1 year."""
-    out: list[tuple[tuple[str, str], bool]] = []
-
-    def visit(n: E.Node, lagged: bool) -> None:
-        if isinstance(n, E.Ref):
-            out.append((model.get(n).key, lagged))
-            return
-        if isinstance(n, E.Lag):
-            visit(n.x, lagged or (isinstance(n.k, int) and n.k >= 1))
-            visit(n.fill, lagged)
-            if isinstance(n.k, E.Node):
-                visit(n.k, lagged)
-            return
-        for c in (n.args if isinstance(n, E.Method) else E.children(n)):
-            visit(c, lagged)
-
-    visit(d.expr, False)
-    return out
-
-
-def _components(model: Model, defs: list[Def]) -> list[list[Def]]:
-    """Strongly connected components in dependency order (Tarjan's algorithm, iterative)."""
-    by_key = {d.key: d for d in defs}
-    graph = {d.key: [k for k, _ in _edges(model, d) if k in by_key] for d in defs}
-    index: dict = {}
-    low: dict = {}
-    on: set = set()
-    stack: list = []
-    out: list[list[Def]] = []
-    counter = 0
-    for root in graph:
-        if root in index:
-            continue
-        work = [(root, iter(graph[root]))]
-        index[root] = low[root] = counter
-        counter += 1
-        stack.append(root)
-        on.add(root)
-        while work:
-            v, it = work[-1]
-            advanced = False
-            for w in it:
-                if w not in index:
-                    index[w] = low[w] = counter
-                    counter += 1
-                    stack.append(w)
-                    on.add(w)
-                    work.append((w, iter(graph[w])))
-                    advanced = True
-                    break
-                if w in on:
-                    low[v] = min(low[v], index[w])
-            if advanced:
-                continue
-            work.pop()
-            if work:
-                low[work[-1][0]] = min(low[work[-1][0]], low[v])
-            if low[v] == index[v]:
-                comp = []
-                while True:
-                    w = stack.pop()
-                    on.discard(w)
-                    comp.append(by_key[w])
-                    if w == v:
-                        break
-                out.append(comp)
-    return out
-
-
-def _same_year_order(model: Model, comp: list[Def]) -> list[Def]:
-    """Members of a recursive group ordered so that same-year references come first."""
-    keys = {d.key for d in comp}
-    deps = {d.key: {k for k, lagged in _edges(model, d) if k in keys and not lagged} for d in comp}
-    order: list[Def] = []
-    done: set = set()
-    by_key = {d.key: d for d in comp}
-    while len(order) < len(comp):
-        ready = [k for k in deps if k not in done and deps[k] <= done]
-        if not ready:
-            names = ", ".join(sorted(k[1] for k in deps if k not in done))
-            raise ValueError(f"these formulas refer to each other in the same year (no lag between them): {names}")
-        for k in sorted(ready, key=lambda k: [d.key for d in comp].index(k)):
-            order.append(by_key[k])
-            done.add(k)
-    return order
-
-
+# ----------------------------------------------------------------------------- recursion
 class _StepCompiler(_Compiler):
-    """Closures (env, year) -> the value of one year, for lines that refer to themselves through a lag."""
+    """Closures (env, year) -> the value of one year, for lines that refer to themselves through a lag.
+
+    The years are stepped in year-major layout: a year of a value is a contiguous (1, rows) row of its
+    transposed (years, rows) array (members in ``env.stepped``, anything else transposed once and
+    cached), so that each step reads and writes whole cache lines. Row-level values are (1, rows),
+    year patterns give (1, 1), so the shapes broadcast as in the whole-array evaluation.
+    """
 
     def __init__(self, model: Model, members: set[tuple[str, str]]):
         super().__init__(model)
@@ -461,20 +460,84 @@ class _StepCompiler(_Compiler):
     def _inside(self, n: E.Node) -> bool:
         return any(isinstance(x, E.Ref) and self.model.get(x).key in self.members for x in E.walk(n))
 
+    def _whole(self, n: E.Node) -> Callable[[_Env], Any]:
+        """A part of a formula outside the recursion, over all years, computed once per chunk."""
+        f = self.whole.compile(n)
+        node_id = id(n)
+
+        def whole(env):
+            v = env.cache.get(node_id)
+            if v is None:
+                v = env.cache[node_id] = np.asarray(D(f(env)))
+            return v
+        return whole
+
+    def _branch(self, n: E.Call) -> Callable[[_Env], bool | None]:
+        """For a where() whose condition lies outside the recursion: True or False when every row and
+        year of the chunk takes the same branch (only that one is then computed, year by year), else None."""
+        if self._inside(n.args[0]):
+            return lambda env: None
+        cond = self._whole(n.args[0])
+        key = (id(n), "branch")
+
+        def branch(env):
+            got = env.cache.get(key)
+            if got is None:
+                c = cond(env)
+                got = env.cache[key] = (bool(c.flat[0]) if _uniform(c) else None,)
+            return got[0]
+        return branch
+
+    def at_zero(self, n: E.Node) -> Callable[[_Env], Any]:  # noqa: C901
+        """The formula over all years with the recursion's own lines read as zero: where every member
+        is zero so, stepping the years gives zero throughout (by induction over the years)."""
+        if not self._inside(n):
+            return self._whole(n)
+        if isinstance(n, E.Ref):
+            return lambda env: 0.0
+        if isinstance(n, E.Bin):
+            fa, fb, op = self.at_zero(n.a), self.at_zero(n.b), _BIN[n.op]
+            return lambda env: op(fa(env), fb(env))
+        if isinstance(n, E.Not):
+            fa = self.at_zero(n.a)
+            return lambda env: np.logical_not(fa(env))
+        if isinstance(n, E.Call) and n.fn in ("where", "minimum", "maximum", "sign", "exp", "abs", "or_default"):
+            fs = [self.at_zero(a) for a in n.args]
+            if n.fn == "where":
+                branch = self._branch(n)
+
+                def where_at_zero(env):
+                    took = branch(env)
+                    return (fs[1] if took else fs[2])(env) if took is not None else \
+                        np.where(fs[0](env), fs[1](env), fs[2](env))
+                return where_at_zero
+            if n.fn == "or_default":
+                return lambda env: (lambda x: np.where(np.isnan(x), fs[1](env), x))(
+                    np.asarray(fs[0](env), dtype=float))
+            op = {"minimum": np.minimum, "maximum": np.maximum, "sign": np.sign, "exp": np.exp, "abs": np.abs}[n.fn]
+            return lambda env: op(*(f(env) for f in fs))
+        if isinstance(n, E.Lag) and isinstance(n.k, int) and n.k >= 1:
+            fx, ffill, k = self.at_zero(n.x), self.at_zero(n.fill), n.k
+            return lambda env: _shift(D(_full(fx(env), env)), k, D(_full(ffill(env), env)))
+        raise ValueError(f"{type(n).__name__} cannot take part in a formula that refers to itself through a lag")
+
     def step(self, n: E.Node) -> Callable[[_Env, int], Any]:  # noqa: C901
         if not self._inside(n):
-            f = self.whole.compile(n)
-            node_id = id(n)
+            whole = self._whole(n)
+            key = (id(n), "by year")
 
-            def outside(env, s, f=f, node_id=node_id):
-                v = env.cache.get(node_id)
+            def outside(env, s, whole=whole, key=key):
+                v = env.cache.get(key)
                 if v is None:
-                    v = env.cache[node_id] = np.asarray(D(f(env)))
-                return v[:, s:s + 1] if v.ndim == 2 and v.shape[1] > 1 else v
+                    v = whole(env)
+                    if v.ndim == 2:  # (rows or 1, years or 1) -> (years or 1, rows or 1)
+                        v = np.ascontiguousarray(v.T)
+                    env.cache[key] = v
+                return v[s:s + 1] if v.ndim == 2 and v.shape[0] > 1 else v
             return outside
         if isinstance(n, E.Ref):
             key = self.model.get(n).key
-            return lambda env, s: env.values[key][:, s:s + 1]
+            return lambda env, s: env.stepped[key][s:s + 1]
         if isinstance(n, E.Bin):
             fa, fb, op = self.step(n.a), self.step(n.b), _BIN[n.op]
             return lambda env, s: op(fa(env, s), fb(env, s))
@@ -484,7 +547,13 @@ class _StepCompiler(_Compiler):
         if isinstance(n, E.Call) and n.fn in ("where", "minimum", "maximum", "sign", "exp", "abs", "or_default"):
             fs = [self.step(a) for a in n.args]
             if n.fn == "where":
-                return lambda env, s: np.where(fs[0](env, s), fs[1](env, s), fs[2](env, s))
+                branch = self._branch(n)
+
+                def where_by_year(env, s):
+                    took = branch(env)
+                    return (fs[1] if took else fs[2])(env, s) if took is not None else \
+                        np.where(fs[0](env, s), fs[1](env, s), fs[2](env, s))
+                return where_by_year
             if n.fn == "or_default":
                 return lambda env, s: (lambda x: np.where(np.isnan(x), fs[1](env, s), x))(
                     np.asarray(fs[0](env, s), dtype=float))
@@ -501,6 +570,7 @@ class _Step:
     defs: list[Def]
     fns: list[Callable]
     stepped: bool
+    zero: list[Callable] = ()  # a recursion's formulas over all years with its own lines read as zero
 
 
 class Plan:
@@ -514,34 +584,54 @@ class Plan:
         self.inputs = sorted({p for d in defs for p in E.inputs(d.expr)})
         compiler = _Compiler(self.model)
         self.steps: list[_Step] = []
-        for comp in _components(self.model, defs):
+        for comp in components(self.model, defs):
             keys = {d.key for d in comp}
-            recursive = len(comp) > 1 or any(k in keys for k, _ in _edges(self.model, comp[0]))
+            recursive = len(comp) > 1 or any(k in keys for k, _ in edges(self.model, comp[0]))
             if not recursive:
                 self.steps.append(_Step(comp, [compiler.compile(comp[0].expr)], False))
                 continue
             bad = [d.name for d in comp if d.kind != "line"]
             if bad:
                 raise ValueError(f"only lines may refer to themselves through a lag: {', '.join(bad)}")
-            ordered = _same_year_order(self.model, comp)
+            ordered = same_year_order(self.model, comp)
             sc = _StepCompiler(self.model, keys)
-            self.steps.append(_Step(ordered, [sc.step(d.expr) for d in ordered], True))
+            self.steps.append(_Step(ordered, [sc.step(d.expr) for d in ordered], True,
+                                    [sc.at_zero(d.expr) for d in ordered]))
+        self.step_of = {d.key: step for step in self.steps for d in step.defs}
 
     def run(self, inputs: dict[str, Any], years: int, rows: int) -> dict[tuple[str, str], Array]:
+        """The wanted declarations (and those they needed) of one chunk, each computed when first read."""
         env = _Env(inputs, years, rows)
-        with np.errstate(all="ignore"):
-            for step in self.steps:
-                if not step.stepped:
-                    d = step.defs[0]
-                    v = step.fns[0](env)
-                    env.values[d.key] = _shape(d, v, env)
-                    continue
-                for d in step.defs:
-                    env.values[d.key] = np.zeros((rows, years))
-                for s in range(years):
-                    for d, f in zip(step.defs, step.fns):
-                        env.values[d.key][:, s:s + 1] = f(env, s)
+        env.values.fill = lambda key: self._fill(env, key)
+        try:
+            with np.errstate(all="ignore"):
+                for key in self.wanted:
+                    env.values[key]
+        finally:
+            env.values.fill = None  # no reference cycle: the chunk's arrays go as soon as it is done
         return env.values
+
+    def _fill(self, env: _Env, key: tuple[str, str]) -> None:
+        step = self.step_of[key]
+        if not step.stepped:
+            d = step.defs[0]
+            env.values[d.key] = _shape(d, step.fns[0](env), env)
+            return
+        # a recursion whose lines are all zero when their own earlier values are zero (no loan, no
+        # working-capital line) is zero in every year: checked over all years at once, member by member
+        if all(_all_zero(np.asarray(D(f(env)))) for f in step.zero):
+            zero = np.zeros((1, env.years))
+            for d in step.defs:
+                env.values[d.key] = _full(zero, env)
+            return
+        years, rows = env.years, env.rows
+        for d in step.defs:
+            env.stepped[d.key] = np.zeros((years, rows))
+        for s in range(years):
+            for d, f in zip(step.defs, step.fns):
+                env.stepped[d.key][s:s + 1] = f(env, s)
+        for d in step.defs:
+            env.values[d.key] = np.ascontiguousarray(env.stepped.pop(d.key).T)
 
 
 def _shape(d: Def, v: Any, env: _Env) -> Array:
@@ -621,10 +711,11 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
             raise ValueError(f"{path}: {cols[path].shape[0]} rows in a batch of {n}")
     if chunk_rows is None:
         chunk_rows = max(1, CACHE_ELEMENTS // max(years, 1))
+    order, chunks = chunked.order(cols, per_row, n, chunk_rows)
     out = Evaluated({}, {})
-    for start in range(0, n, chunk_rows):
-        stop = min(start + chunk_rows, n)
-        sub = {path: (c[start:stop] if path in per_row else c) for path, c in cols.items()}
+    for start, stop in chunks:
+        at = slice(start, stop) if order is None else order[start:stop]
+        sub = {path: (chunked.same(c[at]) if path in per_row else c) for path, c in cols.items()}
         got = p.run(sub, years, stop - start)
         for space, names, shape in (("figure", figures, (stop - start, 1)), ("line", lines, (stop - start, years))):
             target = out.figures if space == "figure" else out.lines
@@ -633,7 +724,7 @@ def evaluate(values: Mapping[str, Any], figures: Sequence[str] = (), lines: Sequ
                 if name not in target:  # allocated with the first chunk's kind of value (numbers or labels)
                     full = (n,) if space == "figure" else (n, years)
                     target[name] = np.empty(full, dtype=float if v.dtype.kind in "fiub" else object)
-                target[name][start:stop] = v[:, 0] if space == "figure" else v
+                target[name][at] = v[:, 0] if space == "figure" else v
         if progress is not None:
             progress(stop - start)
     return out

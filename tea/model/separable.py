@@ -70,8 +70,40 @@ def dense(x: Any) -> Any:
             coefs = np.empty((x.rows, len(x.terms)))
             for i, (c, _) in enumerate(x.terms):
                 coefs[:, i:i + 1] = c
-            x.made = coefs @ np.vstack([p for _, p in x.terms])
+            x.made = _product(coefs, np.vstack([p for _, p in x.terms]))
     return x.made
+
+
+def dense_by_year(x: Any) -> Any:
+    """A value as an ordinary (rows, years) array whose years are the outer axis in memory (the
+    transpose of a C-ordered (years, rows) array), made by one matrix product from a :class:`Sep`
+    not yet made dense; anything else as :func:`dense` gives it."""
+    if not isinstance(x, Sep) or x.made is not None or not x.terms or x.rows < PRODUCT_ROWS:
+        return dense(x)
+    coefs = np.empty((len(x.terms), x.rows))
+    for i, (c, _) in enumerate(x.terms):
+        coefs[i] = np.reshape(c, -1)
+    patterns = np.ascontiguousarray(np.vstack([p for _, p in x.terms]).T)  # (years, terms)
+    out = np.empty((x.years, x.rows))
+    for start in range(0, x.rows, PRODUCT_ROWS):
+        np.matmul(patterns, coefs[:, start:start + PRODUCT_ROWS], out=out[:, start:start + PRODUCT_ROWS])
+    return out.T
+
+
+#: rows of one matrix product: small enough that the BLAS library computes it on the calling thread (its
+#: threads cost more to wake than such a product takes, and on a shared machine they wait for a core)
+PRODUCT_ROWS = 2048
+
+
+def _product(coefs: np.ndarray, patterns: np.ndarray) -> np.ndarray:
+    """coefs (rows, terms) @ patterns (terms, years), in blocks of rows."""
+    rows = coefs.shape[0]
+    if rows <= PRODUCT_ROWS:
+        return coefs @ patterns
+    out = np.empty((rows, patterns.shape[1]))
+    for start in range(0, rows, PRODUCT_ROWS):
+        np.matmul(coefs[start:start + PRODUCT_ROWS], patterns, out=out[start:start + PRODUCT_ROWS])
+    return out
 
 
 def _merge(terms: list[tuple[Any, np.ndarray]]) -> list[tuple[Any, np.ndarray]]:
