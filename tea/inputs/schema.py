@@ -186,6 +186,29 @@ KEYS: tuple[Key, ...] = (
        lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
     _k("harvest", "moisture_late_winter", "float", PRESET, "Moisture content (wet basis) at a late-winter harvest.",
        lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
+    _k("harvest", "storage_loss_wet", "float", PRESET,
+       "Share of harvested dry matter lost in storage when it is stored wetter than storage_safe_moisture.",
+       **FRACTION, warn_hi=0.4),
+    _k("harvest", "storage_safe_moisture", "float", 0.25,
+       "Highest moisture content (wet basis) at which biomass keeps in store with the dry storage loss.",
+       lo=0.0, hi=1.0, hi_open=True, unit="fraction",
+       source="common practice: bales keep at 20-25 % moisture; wetter ones heat and lose dry matter"),
+    _k("harvest", "green_cut_yield_factor", "float", PRESET,
+       "Growth in the years after an autumn (green) harvest relative to the growth under a late-winter "
+       "harvest: below 1 where cutting before senescence weakens the next years' regrowth.",
+       lo=0.0, hi=1.5, lo_open=True, unit="fraction"),
+    _k("harvest", "buyer_moisture_max", "float", None,
+       "Highest moisture content (wet basis) the buyer accepts; wetter biomass is dried to it or its price is "
+       "cut (above_spec). Not given: no specification.", lo=0.0, hi=1.0, hi_open=True, unit="fraction"),
+    _k("harvest", "above_spec", "enum", "dry",
+       "What happens to biomass wetter than the buyer's specification: dried to it (drying_per_t_water), or "
+       "sold wet at a price cut per point of moisture above it (price_cut_per_point).",
+       choices=("dry", "price_cut")),
+    _k("harvest", "drying_per_{t}_water", "float", 0.0,
+       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA),
+    _k("harvest", "price_cut_per_point", "float", 0.0,
+       "Share of the price deducted per percentage point of moisture above the buyer's specification.",
+       lo=0.0, hi=0.2, unit="fraction/point"),
     # --- nutrients -----------------------------------------------------------------
     *(
         _k("nutrients", f"{nut}_{timing}_{{kg}}_per_{{t}}_dm", "float", PRESET,
@@ -195,8 +218,14 @@ KEYS: tuple[Key, ...] = (
     ),
     *(
         _k("nutrients", f"{nut}_replace_share", "float", PRESET,
-           f"Share of the {label} removed that is put back as fertiliser in the harvest year.",
-           lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
+           f"Share of the {label} removed by a late-winter harvest that is put back as fertiliser in the harvest "
+           "year.", lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+    ),
+    *(
+        _k("nutrients", f"{nut}_replace_share_autumn", "float", PRESET,
+           f"Share of the {label} removed by an autumn (green) harvest that is put back as fertiliser in the "
+           "harvest year.", lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     *(

@@ -25,3 +25,5 @@ TIE_TOLERANCE = const(
     "tie_tolerance", 1e-9, "fraction",
     "Values within this share of the lowest count as the lowest (the first such year is reported)",
     "numerical: values equal but for rounding tie, in the engine and in a spreadsheet alike")
+POINTS_PER_WHOLE = const("points_per_whole", 100.0, "points", "Percentage points in a whole (a share of 1)",
+                         "unit identity: 1 = 100 %")
