@@ -113,8 +113,8 @@ class TestPresetValuesAgainstSources:
         # (autumn-peak) yield x (1 - overwinter loss) falls in that range
         harvested = v["yield.mature_t_dm_per_ha"] * (1 - v["harvest.overwinter_dm_loss"])
         assert 12.0 <= harvested <= 14.0
-        # IPCC 2006 Vol.4 Table 5.5 (via ILCD 2010 Annex B Table 11): F_LU perennial crop = 1.00
-        assert v["carbon.crop_f_lu"] == 1.0
+        # IPCC 2006 Vol.4 Ch.6 (cropland converted to grassland takes the Table 5.5 set-aside factor)
+        assert v["carbon.crop_land_use"] == "perennial_grass"
 
     def test_coppice(self):
         v = load_preset("coppice").values

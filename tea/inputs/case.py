@@ -595,6 +595,13 @@ def _derive(values, origin, notes, problems, source) -> None:
         f_lu, f_mg, f_i = published.land_use_factors(use, climate)
         for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
             put(f"carbon.current_{name}", f, f"IPCC 2006 Vol.4 Tables 5.5/6.2, {use}, {climate}")
+        crop_use = values.get("carbon.crop_land_use")
+        if crop_use in schema.LAND_USES:
+            under = published.crop_land_use(crop_use, use)
+            f_lu, f_mg, f_i = published.land_use_factors(under, climate)
+            for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
+                put(f"carbon.crop_{name}", f, f"IPCC 2006 Vol.4 Table 5.5 (Ch.6 rule for cropland converted to "
+                    f"perennial grass) / Table 6.2, {under} after {use}, {climate}")
     factors = published.default_input_factors()
     for path, key in (
         ("carbon.diesel_kg_co2e_per_l", "diesel_kg_co2_per_l"),
@@ -730,6 +737,9 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     if "yield.fresh_moisture" in given and "yield.mature_t_dm_per_ha" in given and \
             not spelled["yield.mature_t_dm_per_ha"].startswith("mature_fresh"):
         warn("yield.fresh_moisture", "is ignored: the mature yield is given as dry matter")
+    if values.get("carbon.soc_method") == "measured_rate" and values.get("carbon.soc_rate_t_c_per_ha_per_year") is None:
+        problems.append(Problem(source, "carbon.soc_method", "measured_rate needs its rate: give "
+                                "carbon.soc_rate_t_c_per_ha_per_year (t C/ha/yr, a gain positive)"))
     if values.get("revenue.contract_years") and values.get("revenue.contract_price_per_t_dm") is None \
             and values.get("revenue.contract_price_per_gj") is None:
         problems.append(Problem(source, "revenue.contract_years", "a fixed-price contract needs its price: give "

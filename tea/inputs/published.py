@@ -197,6 +197,28 @@ def land_use_factors(land_use: str, climate: str) -> tuple[float, float, float]:
     )
 
 
+def crop_land_use(crop_use: str, current_use: str) -> str:
+    """The land use whose factors hold under a stand, given what the field was before.
+
+    A perennial grass harvested every year (``perennial_grass``) takes, on
+    former cropland, the set-aside factor of Table 5.5: IPCC 2006 Vol. 4
+    Ch. 6 (Land converted to grassland, mineral soils, Tier 1) calls it good
+    practice to use it for cultivated annual cropland converted to grassland,
+    which gains carbon at a rate similar to set-aside land. On former
+    grassland the stand stays grassland, nominally managed. Any other crop
+    land use is taken as it is.
+
+    >>> crop_land_use("perennial_grass", "cropland_full_till"), crop_land_use("perennial_grass", "grassland")
+    ('set_aside', 'grassland')
+    >>> crop_land_use("perennial_crop", "grassland")
+    'perennial_crop'
+    """
+    _check_name("land use", crop_use, LAND_USES)
+    if crop_use == "perennial_grass" and str(current_use).startswith("grassland"):
+        return "grassland"
+    return crop_use
+
+
 def n2o_factors(version, wet, disaggregated: bool = True) -> dict[str, float]:
     """N2O emission factors for synthetic fertiliser N, by guideline version and climate.
 

@@ -277,12 +277,15 @@ KEYS: tuple[Key, ...] = (
        "Receipt at removal (e.g. rhizomes or stools sold, a terminal value), in the last year.", **MONEY_HA),
     # --- carbon ------------------------------------------------------------------
     _k("carbon", "soc_method", "enum", "stock_change",
-       "SOC path: IPCC Tier 1 linear stock change over the transition, or a first-order approach to the new equilibrium.",
-       choices=("stock_change", "first_order")),
+       "SOC path: IPCC Tier 1 linear stock change over the transition, a first-order approach to the new "
+       "equilibrium, or a measured rate per year (soc_rate_t_c_per_ha_per_year) over the transition.",
+       choices=("stock_change", "first_order", "measured_rate")),
     _k("carbon", "transition_years", "int", 20, "Years to the new SOC equilibrium.", lo=1, hi=200,
        source="IPCC 2006 Vol.4 Ch.2, default time dependence of stock change factors (D = 20 yr)"),
-    _k("carbon", "first_order_rate_per_year", "float", 0.15, "Rate constant k of the first-order option.",
-       lo=0.0, hi=5.0, lo_open=True, unit="1/yr", source="from memory: k = 3/D puts 95 % of the change within D = 20 yr"),
+    _k("carbon", "first_order_rate_per_year", "float", None,
+       "Rate constant k of the first-order option; not given: k = ln(20) / transition_years, which puts 95 % of "
+       "the change within the transition period.", lo=0.0, hi=5.0, lo_open=True, unit="1/yr",
+       source="first-order decay: 1 - exp(-k D) = 0.95 at k = ln(20) / D"),
     _k("carbon", "soc_ref_{t}_c_per_{ha}", "float", DERIVED, "Reference SOC stock, 0-30 cm, native vegetation.",
        lo=0.0, lo_open=True, warn_hi=200.0, source="IPCC 2006 Vol.4 Ch.2 Table 2.3 by climate and soil"),
     *(
@@ -290,10 +293,23 @@ KEYS: tuple[Key, ...] = (
            source="IPCC 2006 Vol.4 Table 5.5 (cropland) / Table 6.2 (grassland) by current_use and climate")
         for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
     ),
+    _k("carbon", "crop_land_use", "enum", PRESET,
+       "Land use whose SOC factors hold under the stand: perennial_grass (a grass harvested every year: the set-aside "
+       "factor on former cropland, grassland on former grassland), perennial_crop (perennial/tree crop, e.g. "
+       "coppice), or any other land use named.", choices=LAND_USES,
+       source="IPCC 2006 Vol.4 Ch.5 Table 5.5; Ch.6, land converted to grassland (set-aside factor for cropland "
+              "converted to grassland)"),
     *(
-        _k("carbon", f"crop_{f}", "float", PRESET, f"{label} under the stand.", lo=0.0, hi=3.0, lo_open=True)
+        _k("carbon", f"crop_{f}", "float", DERIVED, f"{label} under the stand.", lo=0.0, hi=3.0, lo_open=True,
+           source="IPCC 2006 Vol.4 Table 5.5 / Table 6.2 by crop_land_use, current_use and climate")
         for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
     ),
+    _k("carbon", "soc_rate_{t}_c_per_{ha}_per_year", "float", None,
+       "SOC change per year under the stand with soc_method = measured_rate (a gain positive), from a field "
+       "measurement or a published synthesis, until the transition period ends.", lo=-5.0, hi=5.0,
+       warn_lo=-1.5, warn_hi=1.5,
+       source="e.g. Poeplau & Don 2014, GCB Bioenergy, doi:10.1111/gcbb.12043: 0.40 +/- 0.20 t C/ha/yr "
+              "for Miscanthus on former cropland in Europe"),
     _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
        choices=("ipcc2006", "ipcc2019")),
     _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),

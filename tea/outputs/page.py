@@ -322,7 +322,11 @@ def _soc_target(case: Case) -> float:
 def _soc_method(case: Case) -> str:
     v = case.values
     if v.get("carbon.soc_method") == "first_order":
-        return f"first-order approach, {display.percent(v['carbon.first_order_rate_per_year'], 0)} a year"
+        k = v.get("carbon.first_order_rate_per_year") or math.log(20.0) / v["carbon.transition_years"]
+        return f"first-order approach, {display.percent(k, 0)} a year"
+    if v.get("carbon.soc_method") == "measured_rate":
+        return (f"measured rate, {v['carbon.soc_rate_t_c_per_ha_per_year']:g} t C/ha a year over "
+                f"{v['carbon.transition_years']} years")
     return f"IPCC Tier 1 stock change over {v['carbon.transition_years']} years"
 
 

@@ -3,15 +3,20 @@
 Greenhouse-gas lines are emissions positive, removals (SOC gain) negative.
 SOC follows the IPCC 2006 Tier 1 stock-change method (Vol. 4 Eq. 2.25): the
 stock moves from the current use's equilibrium to the stand's, linearly over
-the transition period, or by a first-order approach; it is held at its last
-value after the stand is removed.
+the transition period, or by a first-order approach whose rate comes from the
+transition period (95 % of the change within it) unless the case gives one, or
+at a measured rate per year over the transition period; it is held at its last
+value after the stand is removed. The stand's factors follow the land use the
+case (or preset) names: a grass harvested every year on former cropland takes
+the Table 5.5 set-aside factor, as IPCC 2006 Vol. 4 Ch. 6 advises for cropland
+converted to grassland; a coppice the perennial/tree-crop factor.
 """
 
 from __future__ import annotations
 
 from tea.model.declare import line, param
-from tea.model.definition.constants import C_TO_CO2, KG_PER_T, N2O_N_TO_N2O
-from tea.model.expr import I, L, exp, lag, lookup, maximum, minimum, t, where
+from tea.model.definition.constants import C_TO_CO2, FIRST_ORDER_REACH, KG_PER_T, N2O_N_TO_N2O
+from tea.model.expr import I, L, exp, lag, lookup, maximum, minimum, or_default, t, where
 
 CB = I.carbon
 LIFE = I.finance.stand_life_years
@@ -35,6 +40,12 @@ DEFS = (
           source="IPCC 2006 Vol.4 Ch.2 Eq. 2.25"),
     param("soc_first_order", "flag", "carbon", "First-order SOC path",
           "1 for the first-order SOC path, 0 for the IPCC linear stock change.", CB.soc_method == "first_order"),
+    param("soc_measured_rate", "flag", "carbon", "Measured SOC rate",
+          "1 for a measured SOC rate per year over the transition period.", CB.soc_method == "measured_rate"),
+    param("first_order_k", "1/yr", "carbon", "First-order rate constant",
+          "Rate constant of the first-order path: the case's, or ln(20) / transition years.",
+          or_default(CB.first_order_rate_per_year, FIRST_ORDER_REACH / CB.transition_years),
+          source="first-order decay: 95 % of the change within the transition period"),
     param("climate_moisture", "label", "carbon", "Moisture regime", "Wet (moist or wet climates) or dry.",
           lookup("climate_moisture", "moisture", I.field.climate), source="IPCC 2006 Vol.4 Ch.3 climate zones"),
     _n2o("ef1", "EF1, direct N2O", "kg N2O-N/kg N"),
@@ -46,9 +57,12 @@ DEFS = (
           lookup("gwp100", "n2o", CB.gwp), source="IPCC AR4/AR5/AR6 WG1"),
     line("soc_t_c", "t C/ha", "carbon", "SOC stock", "SOC stock (0-30 cm) at the end of the year under the stand.",
          where(L.soc_first_order,
-               L.soc_target_t_c + (L.soc_start_t_c - L.soc_target_t_c) * exp(0 - CB.first_order_rate_per_year * HELD),
-               L.soc_start_t_c + (L.soc_target_t_c - L.soc_start_t_c)
-               * minimum(maximum(HELD / CB.transition_years, 0), 1)),
+               L.soc_target_t_c + (L.soc_start_t_c - L.soc_target_t_c) * exp(0 - L.first_order_k * HELD),
+               where(L.soc_measured_rate,
+                     L.soc_start_t_c + or_default(CB.soc_rate_t_c_per_ha_per_year, 0)
+                     * minimum(maximum(HELD, 0), CB.transition_years),
+                     L.soc_start_t_c + (L.soc_target_t_c - L.soc_start_t_c)
+                     * minimum(maximum(HELD / CB.transition_years, 0), 1))),
          source="IPCC 2006 Vol.4 Ch.2 Eq. 2.25 (linear over the transition period)"),
     line("soc_current_use_t_c", "t C/ha", "carbon", "SOC under current use",
          "SOC stock had the current use continued (its equilibrium).", L.soc_start_t_c + 0 * t),

@@ -6,6 +6,8 @@ formula) and in ``tea explain`` with their source.
 
 from __future__ import annotations
 
+import math
+
 from tea.model.expr import const
 
 C_TO_CO2 = const("c_to_co2", 44.0 / 12.0, "t CO2/t C", "Mass of CO2 per mass of its carbon (44/12)",
@@ -17,6 +19,10 @@ WATER_VAPORISATION = const(
     "water_vaporisation_gj_per_t", 2.443, "GJ/t water",
     "Energy to evaporate the water delivered with the fuel, per tonne of water (at 25 °C)",
     "ISO 18125:2017, net calorific value as received: q_net,ar = q_net,d (1 - M) - 2.443 M [MJ/kg]")
+FIRST_ORDER_REACH = const(
+    "first_order_reach", math.log(20.0), "-",
+    "k D of a first-order SOC path that covers 95 % of the change within the transition period D: ln(1 / 0.05)",
+    "first-order decay: 1 - exp(-k D) = 0.95 gives k D = ln(20)")
 REPAID_TOLERANCE = const(
     "repaid_tolerance", 1e-9, "fraction",
     "A loan balance within this share of being repaid by the year's scheduled principal is repaid in full",
