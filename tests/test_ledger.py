@@ -200,7 +200,8 @@ class TestCashIdentities:
     def test_totals_are_sums_of_their_lines(self, stem, demo):
         _, f, _ = demo[stem]
         costs = ["establishment_cost", "fertiliser_cost", "harvest_cost", "baling_chipping_cost", "haulage_cost",
-                 "storage_cost", "rent", "overheads", "insurance", "upkeep", "removal_cost"]
+                 "storage_cost", "drying_cost", "rent", "overheads", "insurance", "upkeep", "removal_cost",
+                 "grant_clawback", "credit_payback_cost", "verification_cost"]
         assert_allclose(f["total_cost"], f[costs].sum(axis=1), rtol=1e-12)
         revenue = ["biomass_revenue", "grant", "annual_payment", "carbon_credit_revenue"]
         assert_allclose(f["total_revenue"], f[revenue].sum(axis=1), rtol=1e-12)

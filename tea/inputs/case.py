@@ -616,6 +616,8 @@ def _derive(values, origin, notes, problems, source) -> None:
         if k.default is schema.DERIVED and k.path not in values and not any(p.key == k.path for p in problems):
             if not known_site or use not in schema.LAND_USES:
                 continue  # the climate/soil/use problem is reported already
+            if k.path.startswith("carbon.crop_f_") and crop_use not in schema.LAND_USES:
+                continue  # the missing or wrong crop land use (or preset) is reported already
             problems.append(Problem(source, k.path, f"missing value: expected {_expected(k)}"))
 
 

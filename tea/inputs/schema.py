@@ -327,7 +327,21 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
        lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)"),
     _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
-    _k("carbon", "credit_first_year", "int", 1, "First year credits are paid.", lo=0),
+    _k("carbon", "credit_first_year", "int", 1,
+       "First verification year: the removals up to it are credited in it, later ones in their own year; none "
+       "in the removal year.", lo=0),
+    _k("carbon", "verification_per_{ha}", "float", 0.0,
+       "Cost of one verification (audit, soil sampling), in the first verification year and every "
+       "verification_interval_years after it while the stand stands.", **MONEY_HA),
+    _k("carbon", "verification_interval_years", "int", 5, "Years between verifications.", lo=1, hi=20,
+       source="common practice: soil-carbon registries verify every few years (commonly up to 5)"),
+    _k("carbon", "registry_per_{ha}", "float", 0.0,
+       "Yearly registry and account fees while credits are sold, from year 1 to the year before removal.",
+       **MONEY_HA, unit="/yr"),
+    _k("carbon", "credit_reversal", "enum", "payback",
+       "At removal the soil carbon gained is lost again: payback = the credited removals lost beyond the buffer "
+       "are paid back at the credit price in the removal year; buffer_only = the registry's buffer bears the loss.",
+       choices=("payback", "buffer_only")),
     _k("carbon", "credit_buffer_share", "float", 0.2, "Share of removals held back in a non-permanence buffer.", **FRACTION,
        source="common practice: registries hold back 10-30 % of soil-carbon removals"),
     # --- finance -------------------------------------------------------------------

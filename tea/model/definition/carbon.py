@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from tea.model.declare import line, param
 from tea.model.definition.constants import C_TO_CO2, FIRST_ORDER_REACH, KG_PER_T, N2O_N_TO_N2O
-from tea.model.expr import I, L, exp, lag, lookup, maximum, minimum, or_default, t, where
+from tea.model.expr import I, L, cumsum, exp, lag, lookup, maximum, minimum, mod, or_default, t, total, where
 
 CB = I.carbon
 LIFE = I.finance.stand_life_years
@@ -92,8 +92,32 @@ DEFS = (
          "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
     line("ghg_net_t_co2e", "t CO2e/ha", "carbon", "Net GHG",
          "Emissions + SOC line: the net balance (negative = net removal).", L.ghg_emissions_t_co2e + L.ghg_soc_t_co2e),
+    # credits: removals credited at verification, a buffer held back, the loss at removal paid back
+    param("credit_enrolled", "flag", "carbon", "Credits sold", "1 where the case sells credits (a credit price > 0).",
+          CB.credit_price_per_t_co2e > 0),
+    line("credit_eligible_t_co2e", "t CO2e/ha", "carbon", "Removals eligible",
+         "SOC gain of the year as CO2 while the stand stands, the removal year excepted.",
+         L.stand_year * (t < LIFE) * maximum(L.soc_change_t_c, 0) * C_TO_CO2),
+    line("credited_gross_t_co2e", "t CO2e/ha", "carbon", "Removals verified",
+         "Removals verified: all eligible removals so far in the first verification year, the year's after it.",
+         where(t == CB.credit_first_year, cumsum(L.credit_eligible_t_co2e),
+               (t > CB.credit_first_year) * L.credit_eligible_t_co2e)),
+    line("credit_buffer_t_co2e", "t CO2e/ha", "carbon", "Held in the buffer",
+         "Share of the verified removals held back in the non-permanence buffer.",
+         L.credited_gross_t_co2e * CB.credit_buffer_share),
     line("credited_t_co2e", "t CO2e/ha", "carbon", "Credited",
-         "SOC gain credited: gain x 44/12 x (1 - buffer), from the first credited year.",
-         (t >= CB.credit_first_year) * L.stand_year * maximum(L.soc_change_t_c, 0) * C_TO_CO2
-         * (1 - CB.credit_buffer_share)),
+         "Credits issued: removals verified x (1 - buffer).",
+         L.credited_gross_t_co2e - L.credit_buffer_t_co2e),
+    line("credit_reversal_t_co2e", "t CO2e/ha", "carbon", "Credited removals reversed",
+         "In the removal year, the verified removals lost when the SOC returns to the current use's level: "
+         "the smaller of all verified removals and the SOC gain as CO2.",
+         L.removal_year * minimum(total(L.credited_gross_t_co2e),
+                                  maximum(L.soc_t_c - L.soc_start_t_c, 0) * C_TO_CO2)),
+    line("credit_payback_t_co2e", "t CO2e/ha", "carbon", "Credits paid back",
+         "Reversed removals beyond the buffer, paid back in the removal year (none where the buffer bears them).",
+         (CB.credit_reversal == "payback") * maximum(L.credit_reversal_t_co2e - total(L.credit_buffer_t_co2e), 0)
+         * L.removal_year),
+    line("credit_net_t_co2e", "t CO2e/ha", "carbon", "Credits net of payback",
+         "Credits issued less credits paid back.", L.credited_t_co2e - L.credit_payback_t_co2e),
+
 )
