@@ -131,6 +131,15 @@ KEYS: tuple[Key, ...] = (
     _k("field", "current_margin_per_{ha}", "float", 0.0,
        "Annual gross margin the field earns today, before rent and overheads, years 1..stand life; "
        "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)"),
+    _k("field", "current_n_{kg}_per_{ha}", "float", 0.0,
+       "Nitrogen the current use applies per year (fertiliser and manure N), for its N2O and fertiliser "
+       "emissions.", lo=0.0, warn_hi=400.0, unit="/yr"),
+    _k("field", "current_p2o5_{kg}_per_{ha}", "float", 0.0, "P2O5 the current use applies per year.", lo=0.0,
+       warn_hi=200.0, unit="/yr"),
+    _k("field", "current_k2o_{kg}_per_{ha}", "float", 0.0, "K2O the current use applies per year.", lo=0.0,
+       warn_hi=300.0, unit="/yr"),
+    _k("field", "current_diesel_{l}_per_{ha}", "float", 0.0, "Diesel the current use burns per year.", lo=0.0,
+       warn_hi=300.0, unit="/yr"),
     # --- crop --------------------------------------------------------------------
     _k("crop", "preset", "str", REQUIRED, "Crop preset (see `tea presets`), or a crop name it lists (e.g. miscanthus): "
        "its values fill every key the case leaves out."),

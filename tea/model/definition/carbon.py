@@ -92,6 +92,22 @@ DEFS = (
          "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
     line("ghg_net_t_co2e", "t CO2e/ha", "carbon", "Net GHG",
          "Emissions + SOC line: the net balance (negative = net removal).", L.ghg_emissions_t_co2e + L.ghg_soc_t_co2e),
+    # the current use's own emissions, years 1..stand life (its SOC is at its equilibrium)
+    line("current_n2o_t_co2e", "t CO2e/ha", "carbon", "Current use: N2O",
+         "Direct and indirect N2O from the N the current use would apply (IPCC Eq. 11.1, 11.9, 11.10).",
+         L.stand_year * I.field.current_n_kg_per_ha * (L.ef1 + L.frac_gasf * L.ef4 + L.frac_leach * L.ef5)
+         * N2O_N_TO_N2O * L.gwp_n2o / KG_PER_T, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1, 11.9, 11.10"),
+    line("current_inputs_t_co2e", "t CO2e/ha", "carbon", "Current use: fertiliser and diesel",
+         "Making the fertiliser the current use would apply, and its diesel.",
+         L.stand_year * (I.field.current_n_kg_per_ha * CB.n_manufacture_kg_co2e_per_kg
+                         + I.field.current_p2o5_kg_per_ha * CB.p2o5_manufacture_kg_co2e_per_kg
+                         + I.field.current_k2o_kg_per_ha * CB.k2o_manufacture_kg_co2e_per_kg
+                         + I.field.current_diesel_l_per_ha * CB.diesel_kg_co2e_per_l) / KG_PER_T),
+    line("current_ghg_t_co2e", "t CO2e/ha", "carbon", "Current use: emissions",
+         "Emissions the current use would have had in the year.", L.current_n2o_t_co2e + L.current_inputs_t_co2e),
+    line("ghg_net_vs_current_t_co2e", "t CO2e/ha", "carbon", "Net GHG vs current use",
+         "Net balance of the stand less the current use's emissions (its SOC stays at its equilibrium).",
+         L.ghg_net_t_co2e - L.current_ghg_t_co2e),
     # credits: removals credited at verification, a buffer held back, the loss at removal paid back
     param("credit_enrolled", "flag", "carbon", "Credits sold", "1 where the case sells credits (a credit price > 0).",
           CB.credit_price_per_t_co2e > 0),
