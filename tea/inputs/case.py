@@ -727,11 +727,16 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     # values that would be silently ignored, and growth never harvested
     given = set(spelled)
     n = values.get("harvest.interval_years")
-    if isinstance(life, int) and isinstance(first, int) and isinstance(n, int) and first <= life:
+    cut = values.get("harvest.cut_back_year")
+    if isinstance(cut, int) and isinstance(first, int) and cut >= first and "harvest.cut_back_year" not in bad_keys:
+        bad("harvest.cut_back_year", f"the cut-back (year {cut}) must come before the first harvest (year {first})")
+    if isinstance(life, int) and isinstance(first, int) and isinstance(n, int) and first <= life \
+            and not values.get("harvest.final_harvest_at_removal"):
         left = (life - first) % n
         if left:
             warn("harvest.interval_years", f"the last {left} year(s) of growth before removal in year {life} are "
-                 f"never harvested (harvests in year {first} and every {n} years)")
+                 f"grown but never harvested (harvests in year {first} and every {n} years); "
+                 "set harvest.final_harvest_at_removal = true to harvest them at removal")
     if "yield.decline_per_year" in given and not values.get("yield.decline_start_year"):
         warn("yield.decline_per_year", "is ignored without yield.decline_start_year")
     if "revenue.price_path" in given and "revenue.price_change_per_year" in given:

@@ -1,9 +1,12 @@
 """The crop: yield by stand age, harvests, losses, moisture, energy and nutrient offtake.
 
 The mature yield is the dry matter standing at the autumn peak (for a
-coppice: wood grown per year), times the site factor. A harvest in year t
-takes the growth of the harvest interval's years ending in t; growth before
-the first such window (a coppice's cut-back year) is not harvested. A
+coppice: wood grown per year), times the site factor, less the stools or
+plants lost to mortality. The growth of the years up to the cut-back year is
+cut back and never sold; after it, growth stands until it is harvested: a
+harvest in year t takes all growth since the cut-back or the last harvest, so
+rotations of any length follow. An optional final harvest at removal takes
+what has grown since the last harvest. A
 late-winter harvest loses the overwinter share of the standing dry matter
 (leaf and tip fall; Himken et al. 1997 measured it) but finds the crop drier
 and its nutrients moved back to roots and rhizomes. An autumn (green) harvest
@@ -19,7 +22,7 @@ from __future__ import annotations
 
 from tea.model.declare import line, param
 from tea.model.definition.constants import POINTS_PER_WHOLE, WATER_VAPORISATION
-from tea.model.expr import I, L, by_year, given, maximum, mod, or_default, t, where, window_sum
+from tea.model.expr import I, L, by_year, given, lag, maximum, mod, or_default, t, where
 
 Y, H, N = I.yield_, I.harvest, I.nutrients
 LIFE = I.finance.stand_life_years
@@ -67,7 +70,8 @@ DEFS = (
          "Growth as a share of the mature yield (ramp-up, plateau, decline).",
          L.stand_year * by_year(Y.ramp_up_fractions, start=1, default=1)
          * where((Y.decline_start_year > 0) & (t > Y.decline_start_year),
-                 (1 - Y.decline_per_year) ** (t - Y.decline_start_year), 1)),
+                 (1 - Y.decline_per_year) ** (t - Y.decline_start_year), 1)
+         * (1 - Y.mortality_per_year) ** maximum(t - 1, 0)),
     line("green_cut_before", "flag", "yield", "After a green cut",
          "1 in the years after an autumn (green) harvest has been taken.",
          (1 - L.late_winter_harvest) * (t > H.first_year), show=False),
@@ -76,11 +80,21 @@ DEFS = (
          "factor after an autumn harvest).",
          Y.mature_t_dm_per_ha * Y.site_factor * L.growth_fraction
          * where(L.green_cut_before, H.green_cut_yield_factor, 1)),
-    line("harvest", "flag", "yield", "Harvest year", "1 in a harvest year.",
-         (t >= H.first_year) & (mod(t - H.first_year, H.interval_years) == 0) & (t <= LIFE) & (t >= 1)),
+    line("harvest", "flag", "yield", "Harvest year",
+         "1 in a harvest year: the first harvest year and every interval after it, and the removal year where "
+         "a final harvest is taken.",
+         (((t >= H.first_year) & (mod(t - H.first_year, H.interval_years) == 0))
+          | ((t == LIFE) & H.final_harvest_at_removal)) & (t <= LIFE) & (t >= 1)),
+    line("growth_after_cut_back_t_dm", "t DM/ha", "yield", "Growth after the cut-back",
+         "Growth of the years after the cut-back year (the cut-back year's and earlier growth is never sold).",
+         (t > H.cut_back_year) * L.growth_t_dm),
+    line("uncut_t_dm", "t DM/ha", "yield", "Growth standing uncut",
+         "Growth standing at the end of the year before any harvest: last year's, unless it was harvested, plus "
+         "this year's growth after the cut-back.",
+         lag(L.uncut_t_dm, 1) * (1 - lag(L.harvest, 1)) + L.growth_after_cut_back_t_dm, show=False),
     line("standing_t_dm", "t DM/ha", "yield", "Standing DM cut",
-         "Standing dry matter cut: the growth of the harvest interval's years ending this year.",
-         L.harvest * window_sum(L.growth_t_dm, H.interval_years)),
+         "Standing dry matter cut: all growth since the cut-back or the last harvest.",
+         L.harvest * L.uncut_t_dm),
     line("overwinter_loss_t_dm", "t DM/ha", "yield", "Overwinter loss",
          "Dry matter lost between the autumn peak and a late-winter harvest.",
          L.standing_t_dm - L.standing_t_dm * L.standing_retention),
