@@ -451,6 +451,14 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             spelled[k.path] = key
             factors[k.path] = factor
 
+    if isinstance(values.get("operations"), list):  # [[operations]] laid out by year for the model
+        from tea.inputs import operations
+        for path, listed in operations.by_year(values["operations"]).items():
+            if path in values:
+                bad(path, "given both as [[operations]] and as a list; give one")
+                continue
+            values[path], origin[path], notes[path] = listed, "operations", "case file, [[operations]]"
+
     system = values.get("case.units", "metric") if values.get("case.units") in units.SYSTEMS else "metric"
     currency = values.get("case.currency") if isinstance(values.get("case.currency"), str) else ""
 
@@ -547,7 +555,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
 
 #: sections parsed by their own modules: [sensitivity] and [risk] (ranges and
 #: distributions of inputs), kept whole under the section name
-EXTENSION_SECTIONS = ("sensitivity", "risk")
+EXTENSION_SECTIONS = ("sensitivity", "risk", "operations")
 
 
 def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[Problem]]:
@@ -555,6 +563,9 @@ def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[P
 
     It returns the normalised (JSON-able) content and a list of problems.
     """
+    if section == "operations":
+        from tea.inputs import operations
+        return operations.parse(section, table, source)
     try:
         from tea.inputs import riskspec
     except ImportError:

@@ -361,6 +361,14 @@ KEYS: tuple[Key, ...] = (
        choices=("payback", "buffer_only")),
     _k("carbon", "credit_buffer_share", "float", 0.2, "Share of removals held back in a non-permanence buffer.", **FRACTION,
        source="common practice: registries hold back 10-30 % of soil-carbon removals"),
+    # --- operations by year (laid out from the case's [[operations]]) ------------------
+    _k("schedule", "cost_per_{ha}_by_year", "list", [0.0],
+       "Cost of the operations in years 0, 1, 2, ... (from [[operations]]; escalated like other costs after "
+       "planting).", money=True, lo=0.0),
+    _k("schedule", "diesel_{l}_per_{ha}_by_year", "list", [0.0],
+       "Diesel the operations burn in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "n_{kg}_per_{ha}_by_year", "list", [0.0],
+       "N the operations apply in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
     # --- finance -------------------------------------------------------------------
     _k("finance", "discount_rate", "float", REQUIRED, "Discount rate, real or nominal as rate_basis says.",
        lo=-0.5, hi=1.0, lo_open=True, warn_lo=0.0, warn_hi=0.2, unit="fraction/yr"),

@@ -70,7 +70,8 @@ DEFS = (
          L.soc_t_c - lag(L.soc_t_c, 1, fill=L.soc_t_c)),
     line("diesel_l", "l/ha", "carbon", "Diesel", "Diesel burnt.",
          L.planting_year * CB.diesel_establishment_l_per_ha + L.harvest * CB.diesel_harvest_l_per_ha
-         + L.harvested_t_dm * CB.diesel_l_per_t_dm + L.removal_year * CB.diesel_removal_l_per_ha),
+         + L.harvested_t_dm * CB.diesel_l_per_t_dm + L.removal_year * CB.diesel_removal_l_per_ha
+         + L.operations_diesel_l),
     line("ghg_n2o_direct_t_co2e", "t CO2e/ha", "carbon", "N2O direct", "Direct N2O from N applied (IPCC Eq. 11.1).",
          L.n_applied_kg * L.ef1 * N2O_N_TO_N2O * L.gwp_n2o / KG_PER_T, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1"),
     line("ghg_n2o_indirect_t_co2e", "t CO2e/ha", "carbon", "N2O indirect",

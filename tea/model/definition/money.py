@@ -72,7 +72,7 @@ DEFS = (
     line("total_cost", "money/ha", "costs", "Total cost", "All costs of the year, establishment included.",
          L.establishment_cost + L.fertiliser_cost + L.harvest_cost + L.baling_chipping_cost + L.haulage_cost
          + L.storage_cost + L.drying_cost + L.rent + L.overheads + L.insurance + L.upkeep + L.removal_cost + L.grant_clawback
-         + L.credit_payback_cost + L.verification_cost),
+         + L.credit_payback_cost + L.verification_cost + L.operations_cost),
     # revenue
     param("price_per_t_dm_year1", "money/t DM", "revenue", "Biomass price per t DM in year 1",
           "The case's price per t DM, or its price per GJ times the heating value as delivered.",
