@@ -118,11 +118,13 @@ class TestPublishedRange:
 class TestSensitivity:
     def test_soc_factor_moves_credits_by_hand(self):
         # the stand's F_LU from set-aside 0.82 to perennial/tree crop 1.0: 95 x 0.18 x 44/12 x (1 - 0.2 buffer)
-        # more t CO2e credited over a stand life equal to the 20-year transition (hand calculation, Eq. 2.25)
+        # more t CO2e over the 20-year transition, of which the removals of years 1-19 are credited (none in the
+        # removal year 20): x 19/20 (hand calculation, Eq. 2.25)
         case = load_case(CLAY)
+        assert case["finance.stand_life_years"] == case["carbon.transition_years"] == 20
         low = tea.summarise(case)
         high = tea.summarise(case.replace(**{"carbon.crop_f_lu": 1.0}))
-        expected = 95 * (1.0 - 0.82) * C_TO_CO2 * (1 - case["carbon.credit_buffer_share"])
+        expected = 95 * (1.0 - 0.82) * C_TO_CO2 * (1 - case["carbon.credit_buffer_share"]) * 19 / 20
         assert_allclose(high["credited_t_co2e"] - low["credited_t_co2e"], expected, rtol=1e-9)
 
     def test_soc_factor_is_a_sensitivity_input(self):

@@ -8,10 +8,13 @@ a row's stand life is dropped there.
 >>> ops, problems = parse("operations", [{"name": "lime", "every": 5, "from": 5, "cost_per_ha": 80.0}], "c.toml")
 >>> problems, by_year(ops)["schedule.cost_per_ha_by_year"][:11]
 ([], [0.0, 0.0, 0.0, 0.0, 0.0, 80.0, 0.0, 0.0, 0.0, 0.0, 80.0])
+>>> by_year(ops)["schedule.n_kg_per_ha_by_year"]
+[0.0]
 """
 
 from __future__ import annotations
 
+import json
 import math
 from typing import Any, Mapping
 
@@ -89,6 +92,8 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
         if not any(units.spell(t) in item for t in AMOUNTS):
             bad("cost_per_ha", "an operation needs a cost, diesel or N amount")
         out.append(item)
+    # the order operations are listed in changes nothing: kept in one order (the case hash ignores it)
+    out.sort(key=lambda item: json.dumps(item, sort_keys=True))
     return (out if not problems else None), problems
 
 
@@ -110,4 +115,7 @@ def by_year(ops: list[Mapping[str, Any]]) -> dict[str, list[float]]:
         for year in years_of(op):
             for template, target in AMOUNTS.items():
                 lists[target][year] += float(op.get(units.spell(template), 0.0))
+    for target, listed in lists.items():  # up to the last year with an amount (0 after it)
+        last = max((i for i, v in enumerate(listed) if v), default=0)
+        lists[target] = listed[: last + 1]
     return lists

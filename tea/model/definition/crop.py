@@ -66,9 +66,20 @@ DEFS = (
           - WATER_VAPORISATION * L.moisture_delivered / (1 - L.moisture_delivered),
           source="ISO 18125:2017 net calorific value as received"),
     # yield
+    line("ramp_usual", "fraction", "yield", "Ramp-up as planted",
+         "Ramp-up fraction of the year where establishment succeeds.",
+         by_year(Y.ramp_up_fractions, start=1, default=1), show=False),
+    line("ramp_after_failure", "fraction", "yield", "Ramp-up after a failed establishment",
+         "Ramp-up fraction of the year where establishment fails and is replanted: a year late (year 1 yields "
+         "nothing, year 2 what year 1 would have).",
+         (t > 1) * lag(L.ramp_usual, 1), show=False),
+    line("ramp_expected", "fraction", "yield", "Expected ramp-up",
+         "Expected ramp-up fraction: (1 - failure probability) x as planted + failure probability x a year late.",
+         (1 - I.establishment.failure_probability) * L.ramp_usual
+         + I.establishment.failure_probability * L.ramp_after_failure),
     line("growth_fraction", "fraction", "yield", "Growth fraction",
-         "Growth as a share of the mature yield (ramp-up, plateau, decline).",
-         L.stand_year * by_year(Y.ramp_up_fractions, start=1, default=1)
+         "Growth as a share of the mature yield (expected ramp-up, plateau, decline, mortality).",
+         L.stand_year * L.ramp_expected
          * where((Y.decline_start_year > 0) & (t > Y.decline_start_year),
                  (1 - Y.decline_per_year) ** (t - Y.decline_start_year), 1)
          * (1 - Y.mortality_per_year) ** maximum(t - 1, 0)),
