@@ -82,10 +82,14 @@ class TestCosts:
 class TestNetGhg:
     def test_life_plus_reversion_adds_the_soc_lost(self):
         # hand: net over life + reversion = net over life + SOC gained x 44/12 (all of it lost after removal)
-        res = tea.summarise(_case())
-        assert_allclose(res["ghg_net_with_reversion_t_co2e"],
-                        res["ghg_net_t_co2e"] + 95 * (0.82 - 0.69) * C_TO_CO2, rtol=1e-12)
-        assert_allclose(res["ghg_net_with_reversion_t_co2e"], res["ghg_emissions_t_co2e"], rtol=1e-9)
+        # + the N2O of the N that loss mineralises: x 1000 / 15 (IPCC Eq. 11.8) x (EF1 0.01 + Frac_LEACH 0.30 x
+        # EF5 0.0075) x 44/28 x GWP100 273 (IPCC 2006 Tables 11.1, 11.3; AR6)
+        res = tea.summarise(_case(**{"carbon.gwp": "AR6", "carbon.n2o_method": "ipcc2006"}))
+        lost = 95 * (0.82 - 0.69)
+        n2o = lost * 1000 / 15 * (0.01 + 0.30 * 0.0075) * 44 / 28 * 273 / 1000
+        assert_allclose(res["ghg_net_with_reversion_t_co2e"], res["ghg_net_t_co2e"] + lost * C_TO_CO2 + n2o,
+                        rtol=1e-12)
+        assert_allclose(res["ghg_net_with_reversion_t_co2e"], res["ghg_emissions_t_co2e"] + n2o, rtol=1e-9)
 
     @pytest.mark.parametrize("path", sorted(CASES_DIR.glob("*.toml")), ids=lambda p: p.stem)
     def test_reversion_never_improves_the_balance(self, path):

@@ -606,6 +606,8 @@ def _derive(values, origin, notes, problems, source) -> None:
         f_lu, f_mg, f_i = published.land_use_factors(use, climate)
         for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
             put(f"carbon.current_{name}", f, f"IPCC 2006 Vol.4 Tables 5.5/6.2, {use}, {climate}")
+        biomass, cf, why = published.prior_biomass_t_dm_per_ha(use, climate)
+        put("carbon.prior_biomass_t_dm_per_ha", biomass, why + f"; {use}, {climate}")
         crop_use = values.get("carbon.crop_land_use")
         if crop_use in schema.LAND_USES:
             under = published.crop_land_use(crop_use, use)

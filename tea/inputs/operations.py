@@ -1,7 +1,7 @@
 """Operations by year: the ``[[operations]]`` section of a case, read and laid out year by year.
 
 Each operation names the year or years it falls in (``year = 1``, ``years = [2, 5]``, or ``every = 5`` from
-``from = 5``, optionally ``until``), its cost per ha, the diesel it burns and the N it applies. The loader lays
+``from = 5``, optionally ``until``), its cost per ha, the diesel it burns, the N it applies and the lime (limestone or dolomite) it spreads. The loader lays
 them out as three lists by year from year 0 (``schedule.*_by_year``), which the model reads; an operation after
 a row's stand life is dropped there.
 
@@ -30,6 +30,8 @@ AMOUNTS = {
     "cost_per_{ha}": "schedule.cost_per_ha_by_year",
     "diesel_{l}_per_{ha}": "schedule.diesel_l_per_ha_by_year",
     "n_{kg}_per_{ha}": "schedule.n_kg_per_ha_by_year",
+    "limestone_{t}_per_{ha}": "schedule.limestone_t_per_ha_by_year",
+    "dolomite_{t}_per_{ha}": "schedule.dolomite_t_per_ha_by_year",
 }
 TIMING = ("year", "years", "every", "from", "until")
 

@@ -249,6 +249,9 @@ KEYS: tuple[Key, ...] = (
         _k("nutrients", f"{nut}_price_per_{{kg}}", "float", REQUIRED, f"Price of {label} in fertiliser.", money=True, lo=0.0)
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
+    _k("nutrients", "urea_share_of_n", "float", 0.0,
+       "Share of the N applied after planting given as urea (its carbon is emitted as CO2, IPCC Eq. 11.13).",
+       **FRACTION),
     _k("nutrients", "spreading_per_{ha}", "float", 0.0, "Cost of spreading fertiliser, in each year any is applied.", **MONEY_HA),
     # --- annual costs ----------------------------------------------------------------
     _k("costs", "harvest_per_{ha}", "float", REQUIRED, "Cutting, per harvest.", **MONEY_HA),
@@ -327,6 +330,17 @@ KEYS: tuple[Key, ...] = (
        warn_lo=-1.5, warn_hi=1.5,
        source="e.g. Poeplau & Don 2014, GCB Bioenergy, doi:10.1111/gcbb.12043: 0.40 +/- 0.20 t C/ha/yr "
               "for Miscanthus on former cropland in Europe"),
+    _k("carbon", "prior_biomass_{t}_dm_per_{ha}", "float", DERIVED,
+       "Biomass standing on the field before the stand (above and below ground), lost as CO2 at planting.",
+       lo=0.0, warn_hi=50.0,
+       source="IPCC 2006 Vol.4 Ch.6 Table 6.4 (grassland, by climate; from memory); 0 for cropland"),
+    _k("carbon", "biomass_carbon_fraction", "float", 0.47, "Carbon per t of dry matter of the prior vegetation.",
+       lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
+    _k("carbon", "soc_c_to_n", "float", 15.0,
+       "C:N ratio of the soil organic matter lost: N mineralised = SOC lost / C:N (IPCC Eq. 11.8).",
+       lo=5.0, hi=40.0, unit="ratio",
+       source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8: default C:N 15 for land-use change (10 for management change); "
+              "from memory"),
     _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
        choices=("ipcc2006", "ipcc2019")),
     _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),
@@ -369,6 +383,10 @@ KEYS: tuple[Key, ...] = (
        "Diesel the operations burn in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
     _k("schedule", "n_{kg}_per_{ha}_by_year", "list", [0.0],
        "N the operations apply in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "limestone_{t}_per_{ha}_by_year", "list", [0.0],
+       "Limestone (CaCO3) the operations spread in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "dolomite_{t}_per_{ha}_by_year", "list", [0.0],
+       "Dolomite (CaMg(CO3)2) the operations spread in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
     # --- finance -------------------------------------------------------------------
     _k("finance", "discount_rate", "float", REQUIRED, "Discount rate, real or nominal as rate_basis says.",
        lo=-0.5, hi=1.0, lo_open=True, warn_lo=0.0, warn_hi=0.2, unit="fraction/yr"),

@@ -15,7 +15,8 @@ converted to grassland; a coppice the perennial/tree-crop factor.
 from __future__ import annotations
 
 from tea.model.declare import line, param
-from tea.model.definition.constants import C_TO_CO2, FIRST_ORDER_REACH, KG_PER_T, N2O_N_TO_N2O
+from tea.model.definition.constants import (C_TO_CO2, DOLOMITE_EF, FIRST_ORDER_REACH, KG_PER_T, LIMESTONE_EF,
+                                           N2O_N_TO_N2O, UREA_EF, UREA_N)
 from tea.model.expr import I, L, cumsum, exp, lag, lookup, maximum, minimum, mod, or_default, t, total, where
 
 CB = I.carbon
@@ -86,9 +87,29 @@ DEFS = (
          L.diesel_l * CB.diesel_kg_co2e_per_l / KG_PER_T),
     line("ghg_haulage_t_co2e", "t CO2e/ha", "carbon", "Haulage", "Road haulage of the fresh tonnes delivered.",
          L.sold_fresh_t * I.costs.haul_distance_km * CB.haul_kg_co2e_per_t_km / KG_PER_T),
+    line("ghg_prior_biomass_t_co2e", "t CO2e/ha", "carbon", "Prior vegetation lost",
+         "Biomass of the vegetation before the stand, lost at planting: B x CF x 44/12 (year 0).",
+         L.planting_year * CB.prior_biomass_t_dm_per_ha * CB.biomass_carbon_fraction * C_TO_CO2,
+         source="IPCC 2006 Vol.4 Ch.2 Eq. 2.16 with Ch.6 Table 6.4 (B_after = 0 at planting)"),
+    param("n2o_per_kg_n_t_co2e", "t CO2e/kg N", "carbon", "N2O per kg N mineralised",
+          "Direct and leached N2O per kg of N mineralised, as CO2e: (EF1 + Frac_LEACH x EF5) x 44/28 x GWP.",
+          (L.ef1 + L.frac_leach * L.ef5) * N2O_N_TO_N2O * L.gwp_n2o / KG_PER_T,
+          source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1, 11.10 (F_SOM)"),
+    line("n_mineralised_kg", "kg N/ha", "carbon", "N mineralised from SOC lost",
+         "N mineralised where the SOC stock falls: SOC lost x 1000 / C:N.",
+         maximum(0 - L.soc_change_t_c, 0) * KG_PER_T / CB.soc_c_to_n, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8"),
+    line("ghg_n2o_mineralised_t_co2e", "t CO2e/ha", "carbon", "N2O from SOC lost",
+         "N2O (direct and leached) from the N mineralised when SOC is lost (IPCC Eq. 11.8 with 11.1, 11.10).",
+         L.n_mineralised_kg * L.n2o_per_kg_n_t_co2e, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8, 11.1, 11.10"),
+    line("ghg_lime_urea_t_co2e", "t CO2e/ha", "carbon", "Lime and urea CO2",
+         "CO2 from lime (limestone 0.12, dolomite 0.13 t C/t) and from urea (0.20 t C/t) applied.",
+         (L.limestone_t * LIMESTONE_EF + L.dolomite_t * DOLOMITE_EF
+          + L.n_applied_kg / KG_PER_T * I.nutrients.urea_share_of_n * (1 - L.planting_year) / UREA_N * UREA_EF)
+         * C_TO_CO2, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.12, 11.13"),
     line("ghg_emissions_t_co2e", "t CO2e/ha", "carbon", "Emissions", "Sum of the emission lines.",
          L.ghg_n2o_direct_t_co2e + L.ghg_n2o_indirect_t_co2e + L.ghg_fertiliser_t_co2e + L.ghg_diesel_t_co2e
-         + L.ghg_haulage_t_co2e),
+         + L.ghg_haulage_t_co2e + L.ghg_prior_biomass_t_co2e + L.ghg_n2o_mineralised_t_co2e
+         + L.ghg_lime_urea_t_co2e),
     line("ghg_soc_t_co2e", "t CO2e/ha", "carbon", "SOC change as CO2",
          "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
     line("ghg_net_t_co2e", "t CO2e/ha", "carbon", "Net GHG",

@@ -221,8 +221,10 @@ DEFS = WORKINGS + (
     figure("ghg_net_kg_co2e_per_gj", "kg CO2e/GJ", "carbon", "Net GHG per GJ", "Net balance per GJ sold.",
            where(F.sold_gj > 0, KG_PER_T * F.ghg_net_t_co2e / F.sold_gj, NOTHING)),
     figure("ghg_net_with_reversion_t_co2e", "t CO2e/ha", "carbon", "Net GHG, life and reversion",
-           "Net balance over the stand life plus the SOC lost when the field returns to its current use.",
-           F.ghg_net_t_co2e + F.soc_loss_after_reversion_t_c * C_TO_CO2, scales=True),
+           "Net balance over the stand life plus the SOC lost when the field returns to its current use and the "
+           "N2O of the N that loss mineralises (IPCC Eq. 11.8).",
+           F.ghg_net_t_co2e + F.soc_loss_after_reversion_t_c * C_TO_CO2
+           + F.soc_loss_after_reversion_t_c * KG_PER_T / I.carbon.soc_c_to_n * L.n2o_per_kg_n_t_co2e, scales=True),
     figure("current_ghg_t_co2e", "t CO2e/ha", "carbon", "Current use emissions (life)",
            "Emissions the current use would have had over the stand life (N2O, fertiliser, diesel).",
            total(L.current_ghg_t_co2e), scales=True),

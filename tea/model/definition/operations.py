@@ -21,4 +21,8 @@ DEFS = (
          (t <= LIFE) * by_year(S.diesel_l_per_ha_by_year, start=0, default=0)),
     line("operations_n_kg", "kg/ha", "nutrients", "Operations N", "N the year's operations apply.",
          (t <= LIFE) * by_year(S.n_kg_per_ha_by_year, start=0, default=0)),
+    line("limestone_t", "t/ha", "nutrients", "Limestone spread", "Limestone the year's operations spread.",
+         (t <= LIFE) * by_year(S.limestone_t_per_ha_by_year, start=0, default=0)),
+    line("dolomite_t", "t/ha", "nutrients", "Dolomite spread", "Dolomite the year's operations spread.",
+         (t <= LIFE) * by_year(S.dolomite_t_per_ha_by_year, start=0, default=0)),
 )
