@@ -31,7 +31,7 @@ def test_wheat_n2o_and_inputs_by_hand():
     assert_allclose(led["current_n2o_t_co2e"][1:life + 1], n2o, rtol=1e-12)
     assert led["current_n2o_t_co2e"][0] == 0  # none in the planting year: the field is being planted
     inputs = (190 * case["carbon.n_manufacture_kg_co2e_per_kg"] + 60 * case["carbon.p2o5_manufacture_kg_co2e_per_kg"]
-              + 70 * case["carbon.k2o_manufacture_kg_co2e_per_kg"] + 95 * case["carbon.diesel_kg_co2e_per_l"]) / 1000
+              + 70 * case["carbon.k2o_manufacture_kg_co2e_per_kg"] + 95 * case["carbon.diesel_kg_co2_per_l"]) / 1000
     assert_allclose(led["current_inputs_t_co2e"][1:life + 1], inputs, rtol=1e-12)
     res = tea.summarise(case)
     assert_allclose(res["current_ghg_t_co2e"], life * (n2o + inputs), rtol=1e-12)

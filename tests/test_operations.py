@@ -67,7 +67,7 @@ def test_diesel_and_n_reach_the_ghg_lines():
     bare, ops = _pair()
     a, b = tea.build_ledger(bare), tea.build_ledger(ops)
     extra = np.zeros(len(a))
-    extra[1] = 12.0 * ops["carbon.diesel_kg_co2e_per_l"] / 1000
+    extra[1] = 12.0 * ops["carbon.diesel_kg_co2_per_l"] / 1000
     assert_allclose(b["ghg_diesel_t_co2e"] - a["ghg_diesel_t_co2e"], extra, atol=1e-12)
     dn = (b["n_applied_kg"] - a["n_applied_kg"]).to_numpy()
     expected = np.zeros(len(a))

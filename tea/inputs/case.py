@@ -443,7 +443,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 continue
             if k.kind == "int":
                 value = int(value)
-            if key in aliases.get(section, {}):
+            if key in aliases.get(section, {}) and k.path == "yield.mature_t_dm_per_ha":
                 fresh_given = True
             values[k.path] = _scale(value, factor)
             origin[k.path] = "case"
@@ -617,7 +617,7 @@ def _derive(values, origin, notes, problems, source) -> None:
                     f"perennial grass) / Table 6.2, {under} after {use}, {climate}")
     factors = published.default_input_factors()
     for path, key in (
-        ("carbon.diesel_kg_co2e_per_l", "diesel_kg_co2_per_l"),
+        ("carbon.diesel_kg_co2_per_l", "diesel_kg_co2_per_l"),
         ("carbon.n_manufacture_kg_co2e_per_kg", "fertiliser_n_kg_co2e_per_kg_n"),
         ("carbon.p2o5_manufacture_kg_co2e_per_kg", "fertiliser_p2o5_kg_co2e_per_kg_p2o5"),
         ("carbon.k2o_manufacture_kg_co2e_per_kg", "fertiliser_k2o_kg_co2e_per_kg_k2o"),

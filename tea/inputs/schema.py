@@ -344,7 +344,10 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
        choices=("ipcc2006", "ipcc2019")),
     _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),
-    _k("carbon", "diesel_kg_co2e_per_{l}", "float", DERIVED, "CO2 from burning one unit of diesel.", unit="kg CO2e", lo=0.0, warn_lo=2.0, warn_hi=3.5,
+    _k("carbon", "diesel_kg_co2_per_{l}", "float", DERIVED,
+       "CO2 (only: no CH4 or N2O of combustion) from burning one unit of diesel; the older spelling "
+       "diesel_kg_co2e_per_l is read as this key.", unit="kg CO2", lo=0.0, warn_lo=2.0, warn_hi=3.5,
+       aliases=("diesel_kg_co2e_per_{l}",),
        source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/inputs/data/ipcc.toml)"),
     _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
     _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),

@@ -84,7 +84,7 @@ DEFS = (
          (L.n_applied_kg * CB.n_manufacture_kg_co2e_per_kg + L.p2o5_applied_kg * CB.p2o5_manufacture_kg_co2e_per_kg
           + L.k2o_applied_kg * CB.k2o_manufacture_kg_co2e_per_kg) / KG_PER_T),
     line("ghg_diesel_t_co2e", "t CO2e/ha", "carbon", "Diesel CO2", "CO2 from diesel burnt.",
-         L.diesel_l * CB.diesel_kg_co2e_per_l / KG_PER_T),
+         L.diesel_l * CB.diesel_kg_co2_per_l / KG_PER_T),
     line("ghg_haulage_t_co2e", "t CO2e/ha", "carbon", "Haulage", "Road haulage of the fresh tonnes delivered.",
          L.sold_fresh_t * I.costs.haul_distance_km * CB.haul_kg_co2e_per_t_km / KG_PER_T),
     line("ghg_prior_biomass_t_co2e", "t CO2e/ha", "carbon", "Prior vegetation lost",
@@ -124,7 +124,7 @@ DEFS = (
          L.stand_year * (I.field.current_n_kg_per_ha * CB.n_manufacture_kg_co2e_per_kg
                          + I.field.current_p2o5_kg_per_ha * CB.p2o5_manufacture_kg_co2e_per_kg
                          + I.field.current_k2o_kg_per_ha * CB.k2o_manufacture_kg_co2e_per_kg
-                         + I.field.current_diesel_l_per_ha * CB.diesel_kg_co2e_per_l) / KG_PER_T),
+                         + I.field.current_diesel_l_per_ha * CB.diesel_kg_co2_per_l) / KG_PER_T),
     line("current_ghg_t_co2e", "t CO2e/ha", "carbon", "Current use: emissions",
          "Emissions the current use would have had in the year.", L.current_n2o_t_co2e + L.current_inputs_t_co2e),
     line("ghg_net_vs_current_t_co2e", "t CO2e/ha", "carbon", "Net GHG vs current use",
