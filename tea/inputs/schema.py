@@ -334,6 +334,10 @@ KEYS: tuple[Key, ...] = (
        "Biomass standing on the field before the stand (above and below ground), lost as CO2 at planting.",
        lo=0.0, warn_hi=50.0,
        source="IPCC 2006 Vol.4 Ch.6 Table 6.4 (grassland, by climate; from memory); 0 for cropland"),
+    _k("carbon", "stand_biomass_{t}_dm_per_{ha}", "float", 0.0,
+       "Biomass the mature stand holds between harvests (rhizomes and roots, coppice stools, stems standing on "
+       "average over a rotation): built up with the ramp-up, lost at removal. 0 = not counted.",
+       lo=0.0, warn_hi=60.0),
     _k("carbon", "biomass_carbon_fraction", "float", 0.47, "Carbon per t of dry matter of the prior vegetation.",
        lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
     _k("carbon", "soc_c_to_n", "float", 15.0,

@@ -112,8 +112,17 @@ DEFS = (
          + L.ghg_lime_urea_t_co2e),
     line("ghg_soc_t_co2e", "t CO2e/ha", "carbon", "SOC change as CO2",
          "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
+    line("biomass_pool_t_c", "t C/ha", "carbon", "Stand biomass carbon",
+         "Carbon in the stand's own biomass (rhizomes, roots, stools, standing stems) at the end of the year: "
+         "the mature amount x the expected ramp-up, none once the stand is removed.",
+         (t >= 1) * (t < LIFE) * CB.stand_biomass_t_dm_per_ha * CB.biomass_carbon_fraction * L.ramp_expected),
+    line("ghg_biomass_t_co2e", "t CO2e/ha", "carbon", "Stand biomass as CO2",
+         "Change of the stand's biomass carbon as CO2: built up (negative), lost at removal (positive).",
+         (0 - (L.biomass_pool_t_c - lag(L.biomass_pool_t_c, 1))) * C_TO_CO2,
+         source="IPCC 2006 Vol.4 Ch.2 Eq. 2.7 (stock difference), carbon kept apart from SOC"),
     line("ghg_net_t_co2e", "t CO2e/ha", "carbon", "Net GHG",
-         "Emissions + SOC line: the net balance (negative = net removal).", L.ghg_emissions_t_co2e + L.ghg_soc_t_co2e),
+         "Emissions + SOC line + stand biomass line: the net balance (negative = net removal).",
+         L.ghg_emissions_t_co2e + L.ghg_soc_t_co2e + L.ghg_biomass_t_co2e),
     # the current use's own emissions, years 1..stand life (its SOC is at its equilibrium)
     line("current_n2o_t_co2e", "t CO2e/ha", "carbon", "Current use: N2O",
          "Direct and indirect N2O from the N the current use would apply (IPCC Eq. 11.1, 11.9, 11.10).",
