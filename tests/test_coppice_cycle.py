@@ -70,3 +70,13 @@ def test_mortality_compounds_from_year_two():
     lost = tea.build_ledger(base.replace(**{"yield.mortality_per_year": 0.02}))["growth_t_dm"].to_numpy()
     t = np.arange(len(plain))
     assert_allclose(lost[1:], plain[1:] * 0.98 ** (t[1:] - 1), rtol=1e-12)
+
+
+def test_poplar_preset_against_its_trial():
+    # iForest 5:224-229 (2012), doi:10.3832/ifor0628-005: 7,140 cuttings/ha, 13.0 t DM/ha/yr on a triennial
+    # rotation, 89.9 % of stumps alive after two rotations (five years): mortality 1 - 0.899^(1/5) a year
+    from tea.inputs.case import load_preset
+    p = load_preset("poplar_coppice").values
+    assert p["establishment.planting_units_per_ha"] == 7140
+    assert p["yield.mature_t_dm_per_ha"] == 13.0 and p["harvest.interval_years"] == 3
+    assert p["yield.mortality_per_year"] == pytest.approx(1 - 0.899 ** (1 / 5), abs=5e-4)
