@@ -80,3 +80,14 @@ dolomite_t_per_ha = 1.0
     n_t = u["n_applied_kg"].to_numpy()[6] / 1000
     assert n_t > 0
     assert_allclose(u["ghg_lime_urea_t_co2e"][6], n_t / (28.014 / 60.056) * 0.20 * C_TO_CO2, rtol=2e-3)
+
+
+def test_residue_n_of_the_removal_year_by_hand():
+    # Eq. 11.1 (F_CR) and 11.10: 12 t DM/ha of rhizomes and roots at 8 kg N/t ploughed in at removal (year 20):
+    # 96 kg N x (0.01 + 0.30 x 0.0075) x 44/28 x 273 / 1000 t CO2e; nothing in other years
+    case = load_case(CLAY).replace(**{"carbon.stand_biomass_t_dm_per_ha": 12.0,
+                                      "carbon.stand_biomass_n_kg_per_t_dm": 8.0,
+                                      "carbon.gwp": "AR6", "carbon.n2o_method": "ipcc2006"})
+    line = tea.build_ledger(case)["ghg_n2o_residue_t_co2e"].to_numpy()
+    assert_allclose(line[20], 96.0 * N2O_PER_KG_N, rtol=1e-12)
+    assert (line[:20] == 0).all()

@@ -338,6 +338,9 @@ KEYS: tuple[Key, ...] = (
        "Biomass the mature stand holds between harvests (rhizomes and roots, coppice stools, stems standing on "
        "average over a rotation): built up with the ramp-up, lost at removal. 0 = not counted.",
        lo=0.0, warn_hi=60.0),
+    _k("carbon", "stand_biomass_n_{kg}_per_{t}_dm", "float", 0.0,
+       "N per t of the stand's own biomass (rhizomes, roots, stools), ploughed in at removal as crop residue.",
+       lo=0.0, warn_hi=30.0),
     _k("carbon", "biomass_carbon_fraction", "float", 0.47, "Carbon per t of dry matter of the prior vegetation.",
        lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
     _k("carbon", "soc_c_to_n", "float", 15.0,

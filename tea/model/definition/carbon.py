@@ -101,6 +101,13 @@ DEFS = (
     line("ghg_n2o_mineralised_t_co2e", "t CO2e/ha", "carbon", "N2O from SOC lost",
          "N2O (direct and leached) from the N mineralised when SOC is lost (IPCC Eq. 11.8 with 11.1, 11.10).",
          L.n_mineralised_kg * L.n2o_per_kg_n_t_co2e, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8, 11.1, 11.10"),
+    line("residue_n_removal_kg", "kg N/ha", "carbon", "Residue N at removal",
+         "N in the stand's biomass ploughed in at removal (F_CR of the removal year): biomass x N per t.",
+         L.removal_year * CB.stand_biomass_t_dm_per_ha * CB.stand_biomass_n_kg_per_t_dm,
+         source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1 (F_CR, N in crop residues returned to soils)"),
+    line("ghg_n2o_residue_t_co2e", "t CO2e/ha", "carbon", "N2O from residues at removal",
+         "Direct and leached N2O from the residue N of the removal year (IPCC Eq. 11.1, 11.10).",
+         L.residue_n_removal_kg * L.n2o_per_kg_n_t_co2e, source="IPCC 2006 Vol.4 Ch.11 Eq. 11.1, 11.10"),
     line("ghg_lime_urea_t_co2e", "t CO2e/ha", "carbon", "Lime and urea CO2",
          "CO2 from lime (limestone 0.12, dolomite 0.13 t C/t) and from urea (0.20 t C/t) applied.",
          (L.limestone_t * LIMESTONE_EF + L.dolomite_t * DOLOMITE_EF
@@ -109,7 +116,7 @@ DEFS = (
     line("ghg_emissions_t_co2e", "t CO2e/ha", "carbon", "Emissions", "Sum of the emission lines.",
          L.ghg_n2o_direct_t_co2e + L.ghg_n2o_indirect_t_co2e + L.ghg_fertiliser_t_co2e + L.ghg_diesel_t_co2e
          + L.ghg_haulage_t_co2e + L.ghg_prior_biomass_t_co2e + L.ghg_n2o_mineralised_t_co2e
-         + L.ghg_lime_urea_t_co2e),
+         + L.ghg_lime_urea_t_co2e + L.ghg_n2o_residue_t_co2e),
     line("ghg_soc_t_co2e", "t CO2e/ha", "carbon", "SOC change as CO2",
          "SOC change as CO2: -change x 44/12 (a gain is negative).", (0 - L.soc_change_t_c) * C_TO_CO2),
     line("biomass_pool_t_c", "t C/ha", "carbon", "Stand biomass carbon",
