@@ -26,7 +26,7 @@ from tea.model.evaluate import LIST_KEYS, evaluate
 from tea.model.formulas import Renderer
 from tea.model.slopes import expanded
 
-LIST_CELLS = 12
+LIST_CELLS = 61  # a list by year may run to the longest stand life (60) from year 0
 
 
 def _name(path: str) -> str:

@@ -126,6 +126,9 @@ FACTOR_CASES = [
     ("set_aside", TM, (0.82, 1.00, 1.00)),
     ("set_aside", RD, (0.93, 1.00, 1.00)),
     ("set_aside", RM, (0.82, 1.00, 1.00)),
+    # IPCC 2006 Vol.4 Ch.6: cropland converted to (perennial) grass takes the Table 5.5 set-aside factors above
+    ("perennial_grass", TD, (0.93, 1.00, 1.00)),
+    ("perennial_grass", TM, (0.82, 1.00, 1.00)),
     # Table 5.5 (via ILCD): F_LU perennial/tree crop 1.00; ILCD note: F_MG, F_I = 1
     ("perennial_crop", TD, (1.00, 1.00, 1.00)),
     ("perennial_crop", RM, (1.00, 1.00, 1.00)),

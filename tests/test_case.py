@@ -113,8 +113,8 @@ class TestPresetValuesAgainstSources:
         # (autumn-peak) yield x (1 - overwinter loss) falls in that range
         harvested = v["yield.mature_t_dm_per_ha"] * (1 - v["harvest.overwinter_dm_loss"])
         assert 12.0 <= harvested <= 14.0
-        # IPCC 2006 Vol.4 Table 5.5 (via ILCD 2010 Annex B Table 11): F_LU perennial crop = 1.00
-        assert v["carbon.crop_f_lu"] == 1.0
+        # IPCC 2006 Vol.4 Ch.6 (cropland converted to grassland takes the Table 5.5 set-aside factor)
+        assert v["carbon.crop_land_use"] == "perennial_grass"
 
     def test_coppice(self):
         v = load_preset("coppice").values
@@ -266,7 +266,8 @@ class TestHash:
     def test_ignores_comments_order_and_spelling_of_the_file(self, demo_path):
         text = demo_path.read_text(encoding="utf-8")
         data = tomllib.loads(text)
-        reordered = {s: dict(reversed(list(t.items()))) for s, t in reversed(list(data.items()))}
+        reordered = {s: dict(reversed(list(t.items()))) if isinstance(t, dict) else list(reversed(t))
+                     for s, t in reversed(list(data.items()))}  # [[operations]] reversed too
         a = load_case(demo_path)
         b = load_text(to_toml(reordered), str(demo_path))  # no comments, sections and keys reversed
         c = load_mapping(a.given(), str(demo_path))  # canonical (metric) spellings

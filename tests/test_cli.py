@@ -115,7 +115,7 @@ BAD_MAPPINGS = {
                                   [("yield.mature_short_ton_dm_per_acre", "far above the highest recorded")]),
     "stand_life_1": (_set("finance", stand_life_years=1), [("finance.stand_life_years", "must be >= 2, got 1")]),
     "unknown_preset": (_set("crop", preset="bamboo"),
-                       [("crop.preset", "unknown crop preset 'bamboo'; expected one of coppice, rhizome_grass")]),
+                       [("crop.preset", "unknown crop preset 'bamboo'; expected one of coppice, poplar_coppice, rhizome_grass")]),
     "missing_preset": (_pop("crop", "preset"), [("crop.preset", "missing value")]),
     "same_key_two_spellings": (_set("field", area_acre=15.8), [("field.area_acre", "given twice (also as field.area_ha)")]),
     "both_prices": (_set("revenue", price_per_gj=5.5), [("revenue.price_per_gj", "give one price")]),

@@ -116,9 +116,9 @@ def test_explains_a_line_in_a_year_with_its_tree(cases):
     root = ex.root
     assert root.kind == "line" and root.value == pytest.approx(
         evaluate(case.values, lines=("sold_t_dm",)).lines["sold_t_dm"][0, 5])
-    assert root.symbols == "harvested_t_dm × (1 - harvest.storage_loss)"
+    assert root.symbols == "harvested_t_dm × (1 - storage_loss_share)"
     assert "storage" in root.words and "[harvested dm]" in root.words
-    assert [c.name for c in root.children] == ["harvested_t_dm"]
+    assert [c.name for c in root.children] == ["harvested_t_dm", "storage_loss_share"]
     assert root.children[0].children, "depth 3 shows what the harvested dry matter rests on"
     inputs = {u.path: u for u in ex.inputs}
     # the demo gives its mature yield (and a site climate it is checked against)

@@ -132,14 +132,18 @@ class TestYieldPattern:
     def test_ramp_up_then_plateau(self, stem, demo):
         case, frame, _ = demo[stem]
         ramp = case["yield.ramp_up_fractions"]
-        expected = [0.0] + [ramp[t - 1] if t <= len(ramp) else 1.0 for t in range(1, case.stand_life + 1)]
+        as_planted = [ramp[t - 1] if t <= len(ramp) else 1.0 for t in range(1, case.stand_life + 1)]
+        late = [0.0] + as_planted[:-1]  # a failed establishment ramps up a year late
+        p = case["establishment.failure_probability"]
+        expected = [0.0] + [(1 - p) * a + p * b for a, b in zip(as_planted, late)]
         assert_allclose(frame["growth_fraction"], expected, rtol=0, atol=1e-15)
         mature = case["yield.mature_t_dm_per_ha"] * case["yield.site_factor"]
         assert_allclose(frame["growth_t_dm"], mature * np.array(expected), rtol=1e-12)
 
     def test_decline_after_the_plateau(self):
         # compounding decline after decline_start_year: (1 - d)^(t - start)
-        case = load_case(CLAY).replace(**{"yield.decline_start_year": 12, "yield.decline_per_year": 0.05})
+        case = load_case(CLAY).replace(**{"yield.decline_start_year": 12, "yield.decline_per_year": 0.05,
+                                          "establishment.failure_probability": 0.0})  # the ramp as planted
         frame = _ledger(case)
         ramp = case["yield.ramp_up_fractions"]
         for t in range(1, case.stand_life + 1):
@@ -200,7 +204,8 @@ class TestCashIdentities:
     def test_totals_are_sums_of_their_lines(self, stem, demo):
         _, f, _ = demo[stem]
         costs = ["establishment_cost", "fertiliser_cost", "harvest_cost", "baling_chipping_cost", "haulage_cost",
-                 "storage_cost", "rent", "overheads", "insurance", "upkeep", "removal_cost"]
+                 "storage_cost", "drying_cost", "rent", "overheads", "insurance", "upkeep", "removal_cost",
+                 "grant_clawback", "credit_payback_cost", "verification_cost", "operations_cost"]
         assert_allclose(f["total_cost"], f[costs].sum(axis=1), rtol=1e-12)
         revenue = ["biomass_revenue", "grant", "annual_payment", "carbon_credit_revenue"]
         assert_allclose(f["total_revenue"], f[revenue].sum(axis=1), rtol=1e-12)

@@ -203,8 +203,7 @@ class TestViews:
 
     def test_table_from_a_case(self, clay):
         table = sensitivity.sensitivity_table(clay)
-        # nine key inputs, and the range of the yield estimated from the demo's site climate
-        assert len(table) == 9 + 1
+        assert len(table) == 10  # the nine key inputs and the demo's declared SOC factor
 
     def test_tornado_chart(self, clay_run, tmp_path):
         fig = analysis_charts.tornado_chart(clay_run, tmp_path / "t.png")
@@ -218,7 +217,7 @@ class TestViews:
     def test_json_is_strict(self, clay_run):
         data = json.loads(json.dumps(sensitivity.to_dict(clay_run), allow_nan=False))
         assert data["case_hash"] == clay_run.case.hash
-        assert data["cautions"] and len(data["inputs"]) == 9 + 1
+        assert data["cautions"] and len(data["inputs"]) == 10
         assert data["surface"]["npv_zero_contour"]
 
     def test_summary_text(self, clay_run):

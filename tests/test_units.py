@@ -206,6 +206,13 @@ TO_US = {
     ("carbon", "diesel_establishment_l_per_ha"): ("diesel_establishment_gal_per_acre", HA_PER_ACRE / L_PER_US_GALLON),
     ("carbon", "diesel_l_per_t_dm"): ("diesel_gal_per_short_ton_dm", T_PER_SHORT_TON / L_PER_US_GALLON),
     ("carbon", "haul_kg_co2e_per_t_km"): ("haul_lb_co2e_per_short_ton_mile", T_PER_SHORT_TON * KM_PER_MILE / KG_PER_LB),
+    ("field", "current_n_kg_per_ha"): ("current_n_lb_per_acre", HA_PER_ACRE / KG_PER_LB),
+    ("field", "current_p2o5_kg_per_ha"): ("current_p2o5_lb_per_acre", HA_PER_ACRE / KG_PER_LB),
+    ("field", "current_k2o_kg_per_ha"): ("current_k2o_lb_per_acre", HA_PER_ACRE / KG_PER_LB),
+    ("field", "current_diesel_l_per_ha"): ("current_diesel_gal_per_acre", HA_PER_ACRE / L_PER_US_GALLON),
+    ("harvest", "drying_per_t_water"): ("drying_per_short_ton_water", T_PER_SHORT_TON),
+    ("carbon", "verification_per_ha"): ("verification_per_acre", HA_PER_ACRE),
+    ("carbon", "registry_per_ha"): ("registry_per_acre", HA_PER_ACRE),
 }
 
 

@@ -93,7 +93,10 @@ def test_crop_names_are_aliases_of_presets(demo_mappings):
     data = copy_case(demo_mappings["flood_meadow_willow"])
     data["crop"]["preset"] = "Poplar"
     case = tea.load_text(to_toml(data), source="p.toml")
-    assert case["crop.preset"] == "coppice" and case["crop.name"] == "Poplar"
+    assert case["crop.preset"] == "poplar_coppice" and case["crop.name"] == "Poplar"
+    data["crop"]["preset"] = "Willow"
+    case = tea.load_text(to_toml(data), source="w.toml")
+    assert case["crop.preset"] == "coppice" and case["crop.name"] == "Willow"
 
 
 def test_new_from_a_case_keeps_the_field_and_deal_and_changes_the_crop(tmp_path):

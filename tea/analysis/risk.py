@@ -25,9 +25,10 @@ Method
 * Establishment failure: with the case's ``establishment.failure_probability``
   (or its drawn value) a draw fails; it then pays the replanting
   (replant share x (planting material + planting operation)) in full in
-  year 1, instead of the expected value the deterministic ledger carries,
-  and its yield ramp-up starts one year later (year 1 yields nothing, year 2
-  what year 1 would have). A draw that does not fail pays no replanting.
+  year 1 and its yield ramp-up starts one year later (year 1 yields nothing,
+  year 2 what year 1 would have), where the deterministic ledger carries the
+  expected value of both (the model's own lines, with the probability set to
+  1 or 0 in a draw). A draw that does not fail pays no replanting.
 * Whole-number inputs (stand life, years) are drawn and rounded to the
   nearest whole number.
 * The standard error of a mean is sd / sqrt(draws); of a probability p,
@@ -203,11 +204,7 @@ def draw_values(case: Case, inputs: Inputs) -> dict[str, Any]:
         inp, _ = riskspec.resolve(path)
         sensitivity.apply(values, path, col.astype(np.int64) if inp.integer else col)
     if inputs.failed is not None:
-        ramp = [float(v) for v in case["yield.ramp_up_fractions"]]
-        delayed = np.array([0.0] + ramp)
-        usual = np.array(ramp + [np.nan])  # a NaN pads the shorter list: read as 1 (mature)
-        values["yield.ramp_up_fractions"] = np.where(inputs.failed[:, None], delayed[None, :], usual[None, :])
-        # the replanting actually paid: all of the expected share on failure, none otherwise
+        # the event itself: the model's expected replanting and ramp-up delay become all (failed) or none
         values["establishment.failure_probability"] = inputs.failed.astype(float)
     return values
 

@@ -454,13 +454,21 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 value = float(value)
             elif k.kind == "list":
                 value = [float(v) for v in value]
-            if key in aliases.get(section, {}):
+            if key in aliases.get(section, {}) and k.path == "yield.mature_t_dm_per_ha":
                 fresh_given = True
             values[k.path] = _scale(value, factor)
             origin[k.path] = "case"
             notes[k.path] = "case file"
             spelled[k.path] = key
             factors[k.path] = factor
+
+    if isinstance(values.get("operations"), list):  # [[operations]] laid out by year for the model
+        from tea.inputs import operations
+        for path, listed in operations.by_year(values["operations"]).items():
+            if path in values:
+                bad(path, "given both as [[operations]] and as a list; give one")
+                continue
+            values[path], origin[path], notes[path] = listed, "operations", "case file, [[operations]]"
 
     system = values.get("case.units", "metric") if values.get("case.units") in units.SYSTEMS else "metric"
     currency = values.get("case.currency") if isinstance(values.get("case.currency"), str) else ""
@@ -561,7 +569,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
 
 #: sections parsed by their own modules: [sensitivity] and [risk] (ranges and
 #: distributions of inputs), kept whole under the section name
-EXTENSION_SECTIONS = ("sensitivity", "risk")
+EXTENSION_SECTIONS = ("sensitivity", "risk", "operations")
 
 
 def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[Problem]]:
@@ -569,6 +577,9 @@ def _parse_extension(section: str, table: Any, source: str) -> tuple[Any, list[P
 
     It returns the normalised (JSON-able) content and a list of problems.
     """
+    if section == "operations":
+        from tea.inputs import operations
+        return operations.parse(section, table, source)
     try:
         from tea.inputs import riskspec
     except ImportError:
@@ -609,9 +620,18 @@ def _derive(values, origin, notes, problems, source) -> None:
         f_lu, f_mg, f_i = published.land_use_factors(use, climate)
         for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
             put(f"carbon.current_{name}", f, f"IPCC 2006 Vol.4 Tables 5.5/6.2, {use}, {climate}")
+        biomass, cf, why = published.prior_biomass_t_dm_per_ha(use, climate)
+        put("carbon.prior_biomass_t_dm_per_ha", biomass, why + f"; {use}, {climate}")
+        crop_use = values.get("carbon.crop_land_use")
+        if crop_use in schema.LAND_USES:
+            under = published.crop_land_use(crop_use, use)
+            f_lu, f_mg, f_i = published.land_use_factors(under, climate)
+            for name, f in (("f_lu", f_lu), ("f_mg", f_mg), ("f_i", f_i)):
+                put(f"carbon.crop_{name}", f, f"IPCC 2006 Vol.4 Table 5.5 (Ch.6 rule for cropland converted to "
+                    f"perennial grass) / Table 6.2, {under} after {use}, {climate}")
     factors = published.default_input_factors()
     for path, key in (
-        ("carbon.diesel_kg_co2e_per_l", "diesel_kg_co2_per_l"),
+        ("carbon.diesel_kg_co2_per_l", "diesel_kg_co2_per_l"),
         ("carbon.n_manufacture_kg_co2e_per_kg", "fertiliser_n_kg_co2e_per_kg_n"),
         ("carbon.p2o5_manufacture_kg_co2e_per_kg", "fertiliser_p2o5_kg_co2e_per_kg_p2o5"),
         ("carbon.k2o_manufacture_kg_co2e_per_kg", "fertiliser_k2o_kg_co2e_per_kg_k2o"),
@@ -623,6 +643,8 @@ def _derive(values, origin, notes, problems, source) -> None:
         if k.default is schema.DERIVED and k.path not in values and not any(p.key == k.path for p in problems):
             if not known_site or use not in schema.LAND_USES:
                 continue  # the climate/soil/use problem is reported already
+            if k.path.startswith("carbon.crop_f_") and crop_use not in schema.LAND_USES:
+                continue  # the missing or wrong crop land use (or preset) is reported already
             problems.append(Problem(source, k.path, f"missing value: expected {_expected(k)}"))
 
 
@@ -732,11 +754,16 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     # values that would be silently ignored, and growth never harvested
     given = set(spelled)
     n = values.get("harvest.interval_years")
-    if isinstance(life, int) and isinstance(first, int) and isinstance(n, int) and first <= life:
+    cut = values.get("harvest.cut_back_year")
+    if isinstance(cut, int) and isinstance(first, int) and cut >= first and "harvest.cut_back_year" not in bad_keys:
+        bad("harvest.cut_back_year", f"the cut-back (year {cut}) must come before the first harvest (year {first})")
+    if isinstance(life, int) and isinstance(first, int) and isinstance(n, int) and first <= life \
+            and not values.get("harvest.final_harvest_at_removal"):
         left = (life - first) % n
         if left:
             warn("harvest.interval_years", f"the last {left} year(s) of growth before removal in year {life} are "
-                 f"never harvested (harvests in year {first} and every {n} years)")
+                 f"grown but never harvested (harvests in year {first} and every {n} years); "
+                 "set harvest.final_harvest_at_removal = true to harvest them at removal")
     if "yield.decline_per_year" in given and not values.get("yield.decline_start_year"):
         warn("yield.decline_per_year", "is ignored without yield.decline_start_year")
     if "revenue.price_path" in given and "revenue.price_change_per_year" in given:
@@ -744,6 +771,9 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     if "yield.fresh_moisture" in given and "yield.mature_t_dm_per_ha" in given and \
             not spelled["yield.mature_t_dm_per_ha"].startswith("mature_fresh"):
         warn("yield.fresh_moisture", "is ignored: the mature yield is given as dry matter")
+    if values.get("carbon.soc_method") == "measured_rate" and values.get("carbon.soc_rate_t_c_per_ha_per_year") is None:
+        problems.append(Problem(source, "carbon.soc_method", "measured_rate needs its rate: give "
+                                "carbon.soc_rate_t_c_per_ha_per_year (t C/ha/yr, a gain positive)"))
     if values.get("revenue.contract_years") and values.get("revenue.contract_price_per_t_dm") is None \
             and values.get("revenue.contract_price_per_gj") is None:
         problems.append(Problem(source, "revenue.contract_years", "a fixed-price contract needs its price: give "

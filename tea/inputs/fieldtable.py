@@ -548,6 +548,27 @@ class _Checker:
                     keep = rows[~given.get(p, none)[rows]]
                     cols[p][keep] = factors[p]
             values.update(cols)
+        prior = "carbon.prior_biomass_t_dm_per_ha"
+        if case.origin.get(prior) == "derived" and use_changed.any():
+            col = np.broadcast_to(np.asarray(values[prior], dtype=float), (m,)).copy()
+            for combo in set(zip(use[use_changed], climate[use_changed])):
+                rows = np.flatnonzero(use_changed & (use == combo[0]) & (climate == combo[1]))
+                keep = rows[~given.get(prior, none)[rows]]
+                col[keep] = published.prior_biomass_t_dm_per_ha(combo[0], combo[1])[0]
+            values[prior] = col
+        crop_names = ("carbon.crop_f_lu", "carbon.crop_f_mg", "carbon.crop_f_i")
+        crop_use = case.values.get("carbon.crop_land_use")
+        derived = [p for p in crop_names if case.origin.get(p) == "derived"]
+        if derived and crop_use in published.LAND_USES and use_changed.any():
+            cols = {p: np.broadcast_to(np.asarray(values[p], dtype=float), (m,)).copy() for p in derived}
+            for combo in set(zip(use[use_changed], climate[use_changed])):
+                rows = np.flatnonzero(use_changed & (use == combo[0]) & (climate == combo[1]))
+                under = published.crop_land_use(crop_use, combo[0])
+                factors = dict(zip(crop_names, published.land_use_factors(under, combo[1])))
+                for p in derived:
+                    keep = rows[~given.get(p, none)[rows]]
+                    cols[p][keep] = factors[p]
+            values.update(cols)
 
     def _cross_checks(self, values, given, flag, ok, m) -> None:
         """The case loader's rules that tie keys together, row by row (rows still ``ok`` only)."""

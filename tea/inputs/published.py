@@ -197,6 +197,49 @@ def land_use_factors(land_use: str, climate: str) -> tuple[float, float, float]:
     )
 
 
+def prior_biomass_t_dm_per_ha(land_use: str, climate: str) -> tuple[float, float, str]:
+    """Biomass standing on the field before the stand, lost at conversion, and its carbon fraction.
+
+    Grassland: IPCC 2006 Vol. 4 Ch. 6 Table 6.4 total non-woody biomass by climate; cropland, set-aside and a
+    perennial crop are converted after their last harvest: 0.
+
+    Returns
+    -------
+    biomass [t DM ha⁻¹], carbon fraction [t C (t DM)⁻¹], source text
+
+    >>> prior_biomass_t_dm_per_ha("cropland_full_till", "cool_temperate_moist")[0]
+    0.0
+    """
+    _check_name("land use", land_use, LAND_USES)
+    _check_name("climate", climate, CLIMATES)
+    table = _data()["grassland_biomass"]
+    if land_use.startswith("grassland"):
+        return float(table[climate]), float(table["carbon_fraction"]), table["source"]
+    return 0.0, float(table["carbon_fraction"]), "converted after the last harvest: no standing biomass (common practice)"
+
+
+def crop_land_use(crop_use: str, current_use: str) -> str:
+    """The land use whose factors hold under a stand, given what the field was before.
+
+    A perennial grass harvested every year (``perennial_grass``) takes, on
+    former cropland, the set-aside factor of Table 5.5: IPCC 2006 Vol. 4
+    Ch. 6 (Land converted to grassland, mineral soils, Tier 1) calls it good
+    practice to use it for cultivated annual cropland converted to grassland,
+    which gains carbon at a rate similar to set-aside land. On former
+    grassland the stand stays grassland, nominally managed. Any other crop
+    land use is taken as it is.
+
+    >>> crop_land_use("perennial_grass", "cropland_full_till"), crop_land_use("perennial_grass", "grassland")
+    ('set_aside', 'grassland')
+    >>> crop_land_use("perennial_crop", "grassland")
+    'perennial_crop'
+    """
+    _check_name("land use", crop_use, LAND_USES)
+    if crop_use == "perennial_grass" and str(current_use).startswith("grassland"):
+        return "grassland"
+    return crop_use
+
+
 def n2o_factors(version, wet, disaggregated: bool = True) -> dict[str, float]:
     """N2O emission factors for synthetic fertiliser N, by guideline version and climate.
 

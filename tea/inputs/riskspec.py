@@ -123,6 +123,8 @@ LABELS = {
     "finance.stand_life_years": "Stand life",
     "carbon.credit_price_per_t_co2e": "Carbon price",
     "field.current_margin_per_ha": "Current-use margin",
+    "carbon.crop_f_lu": "SOC factor under the stand",
+    "carbon.soc_rate_t_c_per_ha_per_year": "SOC rate",
 }
 #: sections whose keys cannot be varied between variants of one case
 FIXED_SECTIONS = ("case", "crop")

@@ -131,6 +131,15 @@ KEYS: tuple[Key, ...] = (
     _k("field", "current_margin_per_{ha}", "float", 0.0,
        "Annual gross margin the field earns today, before rent and overheads, years 1..stand life; "
        "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)"),
+    _k("field", "current_n_{kg}_per_{ha}", "float", 0.0,
+       "Nitrogen the current use applies per year (fertiliser and manure N), for its N2O and fertiliser "
+       "emissions.", lo=0.0, warn_hi=400.0, unit="/yr"),
+    _k("field", "current_p2o5_{kg}_per_{ha}", "float", 0.0, "P2O5 the current use applies per year.", lo=0.0,
+       warn_hi=200.0, unit="/yr"),
+    _k("field", "current_k2o_{kg}_per_{ha}", "float", 0.0, "K2O the current use applies per year.", lo=0.0,
+       warn_hi=300.0, unit="/yr"),
+    _k("field", "current_diesel_{l}_per_{ha}", "float", 0.0, "Diesel the current use burns per year.", lo=0.0,
+       warn_hi=300.0, unit="/yr"),
     # --- crop --------------------------------------------------------------------
     _k("crop", "preset", "str", REQUIRED, "Crop preset (see `tea presets`), or a crop name it lists (e.g. miscanthus): "
        "its values fill every key the case leaves out."),
@@ -172,6 +181,9 @@ KEYS: tuple[Key, ...] = (
        lo=0.0, hi=1.5, unit="fraction"),
     _k("yield", "decline_start_year", "int", 0, "Last year at full yield before a late decline; 0 means no decline.", lo=0),
     _k("yield", "decline_per_year", "float", 0.0, "Yield lost per year after decline_start_year, compounding.", **FRACTION, warn_hi=0.2),
+    _k("yield", "mortality_per_year", "float", 0.0,
+       "Share of the plants (stools, crowns) dying each year from year 2 on, compounding; gaps are not refilled.",
+       **FRACTION, warn_hi=0.1),
     _k("yield", "site_factor", "float", 1.0, "Yield of this field relative to the crop's mature yield (marginal land < 1).",
        lo=0.0, hi=2.0, lo_open=True, warn_hi=1.2, unit="fraction"),
     # --- site climate (optional: the yield potential by Monteith's equation, `tea yield`) ----------
@@ -190,6 +202,11 @@ KEYS: tuple[Key, ...] = (
     _k("harvest", "timing", "enum", PRESET, "When the crop is cut.", choices=("autumn", "late_winter")),
     _k("harvest", "interval_years", "int", PRESET, "Years between harvests (1 for grasses, 2-5 for coppice).", lo=1, hi=10),
     _k("harvest", "first_year", "int", PRESET, "Year of the first harvest; each harvest takes the growth since the last.", lo=1),
+    _k("harvest", "cut_back_year", "int", PRESET,
+       "Last year whose growth is cut back and never sold (a coppice's cut-back, a grass's topped first year); "
+       "0 = none. It must come before the first harvest.", lo=0),
+    _k("harvest", "final_harvest_at_removal", "bool", PRESET,
+       "Whether the growth standing since the last harvest is harvested in the removal year."),
     _k("harvest", "overwinter_dm_loss", "float", PRESET,
        "Share of the autumn standing dry matter lost (leaves, tips) by a late-winter harvest.", **FRACTION, warn_hi=0.5),
     _k("harvest", "field_loss", "float", PRESET, "Share of cut dry matter lost in cutting, baling or chipping.", **FRACTION, warn_hi=0.3),
@@ -198,6 +215,29 @@ KEYS: tuple[Key, ...] = (
        lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
     _k("harvest", "moisture_late_winter", "float", PRESET, "Moisture content (wet basis) at a late-winter harvest.",
        lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
+    _k("harvest", "storage_loss_wet", "float", PRESET,
+       "Share of harvested dry matter lost in storage when it is stored wetter than storage_safe_moisture.",
+       **FRACTION, warn_hi=0.4),
+    _k("harvest", "storage_safe_moisture", "float", 0.25,
+       "Highest moisture content (wet basis) at which biomass keeps in store with the dry storage loss.",
+       lo=0.0, hi=1.0, hi_open=True, unit="fraction",
+       source="common practice: bales keep at 20-25 % moisture; wetter ones heat and lose dry matter"),
+    _k("harvest", "green_cut_yield_factor", "float", PRESET,
+       "Growth in the years after an autumn (green) harvest relative to the growth under a late-winter "
+       "harvest: below 1 where cutting before senescence weakens the next years' regrowth.",
+       lo=0.0, hi=1.5, lo_open=True, unit="fraction"),
+    _k("harvest", "buyer_moisture_max", "float", None,
+       "Highest moisture content (wet basis) the buyer accepts; wetter biomass is dried to it or its price is "
+       "cut (above_spec). Not given: no specification.", lo=0.0, hi=1.0, hi_open=True, unit="fraction"),
+    _k("harvest", "above_spec", "enum", "dry",
+       "What happens to biomass wetter than the buyer's specification: dried to it (drying_per_t_water), or "
+       "sold wet at a price cut per point of moisture above it (price_cut_per_point).",
+       choices=("dry", "price_cut")),
+    _k("harvest", "drying_per_{t}_water", "float", 0.0,
+       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA),
+    _k("harvest", "price_cut_per_point", "float", 0.0,
+       "Share of the price deducted per percentage point of moisture above the buyer's specification.",
+       lo=0.0, hi=0.2, unit="fraction/point"),
     # --- nutrients -----------------------------------------------------------------
     *(
         _k("nutrients", f"{nut}_{timing}_{{kg}}_per_{{t}}_dm", "float", PRESET,
@@ -207,14 +247,23 @@ KEYS: tuple[Key, ...] = (
     ),
     *(
         _k("nutrients", f"{nut}_replace_share", "float", PRESET,
-           f"Share of the {label} removed that is put back as fertiliser in the harvest year.",
-           lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
+           f"Share of the {label} removed by a late-winter harvest that is put back as fertiliser in the harvest "
+           "year.", lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
+        for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
+    ),
+    *(
+        _k("nutrients", f"{nut}_replace_share_autumn", "float", PRESET,
+           f"Share of the {label} removed by an autumn (green) harvest that is put back as fertiliser in the "
+           "harvest year.", lo=0.0, hi=2.0, warn_hi=1.0, unit="fraction")
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     *(
         _k("nutrients", f"{nut}_price_per_{{kg}}", "float", REQUIRED, f"Price of {label} in fertiliser.", money=True, lo=0.0)
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
+    _k("nutrients", "urea_share_of_n", "float", 0.0,
+       "Share of the N applied after planting given as urea (its carbon is emitted as CO2, IPCC Eq. 11.13).",
+       **FRACTION),
     _k("nutrients", "spreading_per_{ha}", "float", 0.0, "Cost of spreading fertiliser, in each year any is applied.", **MONEY_HA),
     # --- annual costs ----------------------------------------------------------------
     _k("costs", "harvest_per_{ha}", "float", REQUIRED, "Cutting, per harvest.", **MONEY_HA),
@@ -260,12 +309,15 @@ KEYS: tuple[Key, ...] = (
        "Receipt at removal (e.g. rhizomes or stools sold, a terminal value), in the last year.", **MONEY_HA),
     # --- carbon ------------------------------------------------------------------
     _k("carbon", "soc_method", "enum", "stock_change",
-       "SOC path: IPCC Tier 1 linear stock change over the transition, or a first-order approach to the new equilibrium.",
-       choices=("stock_change", "first_order")),
+       "SOC path: IPCC Tier 1 linear stock change over the transition, a first-order approach to the new "
+       "equilibrium, or a measured rate per year (soc_rate_t_c_per_ha_per_year) over the transition.",
+       choices=("stock_change", "first_order", "measured_rate")),
     _k("carbon", "transition_years", "int", 20, "Years to the new SOC equilibrium.", lo=1, hi=200,
        source="IPCC 2006 Vol.4 Ch.2, default time dependence of stock change factors (D = 20 yr)"),
-    _k("carbon", "first_order_rate_per_year", "float", 0.15, "Rate constant k of the first-order option.",
-       lo=0.0, hi=5.0, lo_open=True, unit="1/yr", source="from memory: k = 3/D puts 95 % of the change within D = 20 yr"),
+    _k("carbon", "first_order_rate_per_year", "float", None,
+       "Rate constant k of the first-order option; not given: k = ln(20) / transition_years, which puts 95 % of "
+       "the change within the transition period.", lo=0.0, hi=5.0, lo_open=True, unit="1/yr",
+       source="first-order decay: 1 - exp(-k D) = 0.95 at k = ln(20) / D"),
     _k("carbon", "soc_ref_{t}_c_per_{ha}", "float", DERIVED, "Reference SOC stock, 0-30 cm, native vegetation.",
        lo=0.0, lo_open=True, warn_hi=200.0, source="IPCC 2006 Vol.4 Ch.2 Table 2.3 by climate and soil"),
     *(
@@ -273,14 +325,48 @@ KEYS: tuple[Key, ...] = (
            source="IPCC 2006 Vol.4 Table 5.5 (cropland) / Table 6.2 (grassland) by current_use and climate")
         for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
     ),
+    _k("carbon", "crop_land_use", "enum", PRESET,
+       "Land use whose SOC factors hold under the stand: perennial_grass (a grass harvested every year: the set-aside "
+       "factor on former cropland, grassland on former grassland), perennial_crop (perennial/tree crop, e.g. "
+       "coppice), or any other land use named.", choices=LAND_USES,
+       source="IPCC 2006 Vol.4 Ch.5 Table 5.5; Ch.6, land converted to grassland (set-aside factor for cropland "
+              "converted to grassland)"),
     *(
-        _k("carbon", f"crop_{f}", "float", PRESET, f"{label} under the stand.", lo=0.0, hi=3.0, lo_open=True)
+        _k("carbon", f"crop_{f}", "float", DERIVED, f"{label} under the stand.", lo=0.0, hi=3.0, lo_open=True,
+           source="IPCC 2006 Vol.4 Table 5.5 / Table 6.2 by crop_land_use, current_use and climate")
         for f, label in (("f_lu", "Land-use factor F_LU"), ("f_mg", "Management factor F_MG"), ("f_i", "Input factor F_I"))
     ),
+    _k("carbon", "soc_rate_{t}_c_per_{ha}_per_year", "float", None,
+       "SOC change per year under the stand with soc_method = measured_rate (a gain positive), from a field "
+       "measurement or a published synthesis, until the transition period ends.", lo=-5.0, hi=5.0,
+       warn_lo=-1.5, warn_hi=1.5,
+       source="e.g. Poeplau & Don 2014, GCB Bioenergy, doi:10.1111/gcbb.12043: 0.40 +/- 0.20 t C/ha/yr "
+              "for Miscanthus on former cropland in Europe"),
+    _k("carbon", "prior_biomass_{t}_dm_per_{ha}", "float", DERIVED,
+       "Biomass standing on the field before the stand (above and below ground), lost as CO2 at planting.",
+       lo=0.0, warn_hi=50.0,
+       source="IPCC 2006 Vol.4 Ch.6 Table 6.4 (grassland, by climate; from memory); 0 for cropland"),
+    _k("carbon", "stand_biomass_{t}_dm_per_{ha}", "float", 0.0,
+       "Biomass the mature stand holds between harvests (rhizomes and roots, coppice stools, stems standing on "
+       "average over a rotation): built up with the ramp-up, lost at removal. 0 = not counted.",
+       lo=0.0, warn_hi=60.0),
+    _k("carbon", "stand_biomass_n_{kg}_per_{t}_dm", "float", 0.0,
+       "N per t of the stand's own biomass (rhizomes, roots, stools), ploughed in at removal as crop residue.",
+       lo=0.0, warn_hi=30.0),
+    _k("carbon", "biomass_carbon_fraction", "float", 0.47, "Carbon per t of dry matter of the prior vegetation.",
+       lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
+    _k("carbon", "soc_c_to_n", "float", 15.0,
+       "C:N ratio of the soil organic matter lost: N mineralised = SOC lost / C:N (IPCC Eq. 11.8).",
+       lo=5.0, hi=40.0, unit="ratio",
+       source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8: default C:N 15 for land-use change (10 for management change); "
+              "from memory"),
     _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
        choices=("ipcc2006", "ipcc2019")),
     _k("carbon", "gwp", "enum", "AR6", "IPCC assessment report of the GWP100 values.", choices=("AR4", "AR5", "AR6")),
-    _k("carbon", "diesel_kg_co2e_per_{l}", "float", DERIVED, "CO2 from burning one unit of diesel.", unit="kg CO2e", lo=0.0, warn_lo=2.0, warn_hi=3.5,
+    _k("carbon", "diesel_kg_co2_per_{l}", "float", DERIVED,
+       "CO2 (only: no CH4 or N2O of combustion) from burning one unit of diesel; the older spelling "
+       "diesel_kg_co2e_per_l is read as this key.", unit="kg CO2", lo=0.0, warn_lo=2.0, warn_hi=3.5,
+       aliases=("diesel_kg_co2e_per_{l}",),
        source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/inputs/data/ipcc.toml)"),
     _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
     _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),
@@ -294,9 +380,35 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
        lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)"),
     _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
-    _k("carbon", "credit_first_year", "int", 1, "First year credits are paid.", lo=0),
+    _k("carbon", "credit_first_year", "int", 1,
+       "First verification year: the removals up to it are credited in it, later ones in their own year; none "
+       "in the removal year.", lo=0),
+    _k("carbon", "verification_per_{ha}", "float", 0.0,
+       "Cost of one verification (audit, soil sampling), in the first verification year and every "
+       "verification_interval_years after it while the stand stands.", **MONEY_HA),
+    _k("carbon", "verification_interval_years", "int", 5, "Years between verifications.", lo=1, hi=20,
+       source="common practice: soil-carbon registries verify every few years (commonly up to 5)"),
+    _k("carbon", "registry_per_{ha}", "float", 0.0,
+       "Yearly registry and account fees while credits are sold, from year 1 to the year before removal.",
+       **MONEY_HA, unit="/yr"),
+    _k("carbon", "credit_reversal", "enum", "payback",
+       "At removal the soil carbon gained is lost again: payback = the credited removals lost beyond the buffer "
+       "are paid back at the credit price in the removal year; buffer_only = the registry's buffer bears the loss.",
+       choices=("payback", "buffer_only")),
     _k("carbon", "credit_buffer_share", "float", 0.2, "Share of removals held back in a non-permanence buffer.", **FRACTION,
        source="common practice: registries hold back 10-30 % of soil-carbon removals"),
+    # --- operations by year (laid out from the case's [[operations]]) ------------------
+    _k("schedule", "cost_per_{ha}_by_year", "list", [0.0],
+       "Cost of the operations in years 0, 1, 2, ... (from [[operations]]; escalated like other costs after "
+       "planting).", money=True, lo=0.0),
+    _k("schedule", "diesel_{l}_per_{ha}_by_year", "list", [0.0],
+       "Diesel the operations burn in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "n_{kg}_per_{ha}_by_year", "list", [0.0],
+       "N the operations apply in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "limestone_{t}_per_{ha}_by_year", "list", [0.0],
+       "Limestone (CaCO3) the operations spread in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
+    _k("schedule", "dolomite_{t}_per_{ha}_by_year", "list", [0.0],
+       "Dolomite (CaMg(CO3)2) the operations spread in years 0, 1, 2, ... (from [[operations]]).", lo=0.0),
     # --- finance -------------------------------------------------------------------
     _k("finance", "discount_rate", "float", REQUIRED, "Discount rate, real or nominal as rate_basis says.",
        lo=-0.5, hi=1.0, lo_open=True, warn_lo=0.0, warn_hi=0.2, unit="fraction/yr"),

@@ -159,6 +159,13 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         "",
     ]
     for section in schema.SECTIONS:
+        if section == "schedule":  # laid out from [[operations]]: shown as one commented example
+            lines += ["# Operations in given years (a cut-back, weed control, lime every few years): one",
+                      "# [[operations]] table each, with year = N, years = [..] or every = N (with from = N),",
+                      "# and the cost, diesel, N or lime of each. The README explains them.",
+                      "# [[operations]]", '# name = "lime"', "# every = 5", "# from = 5",
+                      f"# {units.spell('cost_per_{ha}', system)} = 65.0", ""]
+            continue
         lines.append(f"[{section}]")
         for k in schema.keys_in(section):
             unit = k.unit_text(system, currency)

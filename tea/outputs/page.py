@@ -171,13 +171,15 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
              whole("soc_gain_t_c"), _soc_hint(case, res)),
         Tile("Net greenhouse-gas balance", val("ghg_net_t_co2e"), tone(value_of(res, "ghg_net_t_co2e"), True),
              whole("ghg_net_t_co2e"),
-             f"emissions {val('ghg_emissions_t_co2e')} less the soil carbon gain; below zero is a net removal"),
+             f"emissions {val('ghg_emissions_t_co2e')} less the soil carbon gain over the stand life; below zero "
+             f"is a net removal; {val('ghg_net_with_reversion_t_co2e')} once the field returns to its current use"),
     ]
     credits = value_of(res, "carbon_credit_revenue") or 0.0
     if credits > 0:
         tiles.append(Tile("Carbon credits, present value", val("carbon_credit_pv"), "", whole("carbon_credit_pv"),
                           f"{val('credited_t_co2e')} credited over the stand life at "
-                          f"{_money(case, case['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e"))
+                          f"{_money(case, case['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e, "
+                          f"{val('credit_payback_t_co2e')} paid back at removal; net of fees"))
     grant = case.values.get("establishment.grant_per_ha") or 0.0
     tiles.append(Tile("Establishment cost", val("establishment_cost"), "", whole("establishment_cost"),
                       (f"before the grant of {_money(case, grant, 'money/ha')}; " if grant else "")
@@ -286,7 +288,7 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
     ]
     if (v.get("carbon.credit_price_per_t_co2e") or 0) > 0:
         items.append(("Carbon credits", f"{_money(case, v['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e "
-                      f"from year {v.get('carbon.credit_first_year', 1)}, "
+                      f"first verified in year {v.get('carbon.credit_first_year', 1)}, "
                       f"{display.percent(v.get('carbon.credit_buffer_share') or 0.0, 0)} held back as a buffer",
                       _source(case, "carbon.credit_price_per_t_co2e")))
     if value_of(res, "loan_principal"):
@@ -324,7 +326,11 @@ def _soc_target(case: Case) -> float:
 def _soc_method(case: Case) -> str:
     v = case.values
     if v.get("carbon.soc_method") == "first_order":
-        return f"first-order approach, {display.percent(v['carbon.first_order_rate_per_year'], 0)} a year"
+        k = v.get("carbon.first_order_rate_per_year") or math.log(20.0) / v["carbon.transition_years"]
+        return f"first-order approach, {display.percent(k, 0)} a year"
+    if v.get("carbon.soc_method") == "measured_rate":
+        return (f"measured rate, {v['carbon.soc_rate_t_c_per_ha_per_year']:g} t C/ha a year over "
+                f"{v['carbon.transition_years']} years")
     return f"IPCC Tier 1 stock change over {v['carbon.transition_years']} years"
 
 

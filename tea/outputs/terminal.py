@@ -69,8 +69,10 @@ SUMMARY_ROWS = (
                     "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
     ("Output", ("sold_t_dm", "mean_sold_t_dm_per_year", "sold_gj")),
     ("Carbon", ("soc_start_t_c_per_ha", "soc_end_t_c_per_ha", "soc_gain_t_c", "soc_gain_t_co2e",
-                "soc_loss_after_reversion_t_c", "ghg_emissions_t_co2e", "ghg_net_t_co2e", "ghg_net_t_co2e_per_year",
-                "ghg_net_kg_co2e_per_t_dm", "ghg_net_kg_co2e_per_gj", "credited_t_co2e", "carbon_credit_pv")),
+                "soc_loss_after_reversion_t_c", "ghg_emissions_t_co2e", "ghg_net_t_co2e", "ghg_net_with_reversion_t_co2e",
+                "current_ghg_t_co2e", "ghg_net_vs_current_use_t_co2e", "ghg_net_with_reversion_vs_current_use_t_co2e",
+                "ghg_net_t_co2e_per_year", "ghg_net_kg_co2e_per_t_dm", "ghg_net_kg_co2e_per_gj", "credited_t_co2e",
+                "credit_payback_t_co2e", "carbon_credit_pv")),
     ("Loan", ("loan_principal", "loan_payment", "loan_interest_total", "min_dscr", "min_dscr_year", "dscr_covenant",
               "years_below_covenant", "equity_peak_funding_need")),
 )
@@ -109,6 +111,11 @@ LABELS = {
     "ghg_net_kg_co2e_per_t_dm": "Net GHG per t DM",
     "ghg_net_kg_co2e_per_gj": "Net GHG per GJ",
     "credited_t_co2e": "Carbon credited (life)",
+    "ghg_net_with_reversion_t_co2e": "Net GHG, life + reversion",
+    "credit_payback_t_co2e": "Credits paid back at removal",
+    "current_ghg_t_co2e": "Current use emissions (life)",
+    "ghg_net_vs_current_use_t_co2e": "Net GHG vs current use",
+    "ghg_net_with_reversion_vs_current_use_t_co2e": "  the same, + reversion",
     "carbon_credit_pv": "Carbon credits, present value",
     "loan_principal": "Establishment loan",
     "loan_payment": "Yearly loan payment",
@@ -161,7 +168,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             continue
         out.append(f"{title} (per {per} | whole field)")
         for name in names:
-            if name in ("credited_t_co2e", "carbon_credit_pv") and not case["carbon.credit_price_per_t_co2e"]:
+            if name in ("credited_t_co2e", "credit_payback_t_co2e", "carbon_credit_pv") \
+                    and not case["carbon.credit_price_per_t_co2e"]:
                 continue
             per_ha = _fig(res, case, name)
             if name.startswith("breakeven_mature") and res[name] is not None:  # beside the case's own value

@@ -9,9 +9,9 @@ and the README reference follow from it.
 from __future__ import annotations
 
 from tea.model.declare import Model
-from tea.model.definition import carbon, crop, establishment, figures, loan, money, tax, timing
+from tea.model.definition import carbon, crop, establishment, figures, loan, money, operations, tax, timing
 
-MODEL = Model([*timing.DEFS, *establishment.DEFS, *crop.DEFS, *money.DEFS, *carbon.DEFS, *tax.DEFS, *loan.DEFS,
+MODEL = Model([*timing.DEFS, *establishment.DEFS, *operations.DEFS, *crop.DEFS, *money.DEFS, *carbon.DEFS, *tax.DEFS, *loan.DEFS,
                *figures.DEFS])
 MODEL.check()
 

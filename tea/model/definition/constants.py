@@ -6,6 +6,8 @@ formula) and in ``tea explain`` with their source.
 
 from __future__ import annotations
 
+import math
+
 from tea.model.expr import const
 
 C_TO_CO2 = const("c_to_co2", 44.0 / 12.0, "t CO2/t C", "Mass of CO2 per mass of its carbon (44/12)",
@@ -17,6 +19,25 @@ WATER_VAPORISATION = const(
     "water_vaporisation_gj_per_t", 2.443, "GJ/t water",
     "Energy to evaporate the water delivered with the fuel, per tonne of water (at 25 °C)",
     "ISO 18125:2017, net calorific value as received: q_net,ar = q_net,d (1 - M) - 2.443 M [MJ/kg]")
+FIRST_ORDER_REACH = const(
+    "first_order_reach", math.log(20.0), "-",
+    "k D of a first-order SOC path that covers 95 % of the change within the transition period D: ln(1 / 0.05)",
+    "first-order decay: 1 - exp(-k D) = 0.95 gives k D = ln(20)")
+LIMESTONE_EF = const(
+    "limestone_ef_t_c_per_t", 12.011 / 100.087, "t C/t", "Carbon per t of limestone (CaCO3)",
+    "stoichiometry (IUPAC standard atomic weights): C / CaCO3 = 12.011 / 100.087 = 0.120; IPCC 2006 Vol.4 "
+    "Ch.11 Eq. 11.12 default 0.12")
+DOLOMITE_EF = const(
+    "dolomite_ef_t_c_per_t", 2 * 12.011 / 184.40, "t C/t", "Carbon per t of dolomite (CaMg(CO3)2)",
+    "stoichiometry (IUPAC standard atomic weights): 2 C / CaMg(CO3)2 = 24.022 / 184.40 = 0.130; IPCC 2006 "
+    "Vol.4 Ch.11 Eq. 11.12 default 0.13")
+UREA_EF = const(
+    "urea_ef_t_c_per_t", 12.011 / 60.056, "t C/t", "Carbon per t of urea (CO(NH2)2)",
+    "stoichiometry (IUPAC standard atomic weights): C / CO(NH2)2 = 12.011 / 60.056 = 0.200; IPCC 2006 Vol.4 "
+    "Ch.11 Eq. 11.13 default 0.20")
+UREA_N = const(
+    "urea_n_t_n_per_t", 2 * 14.007 / 60.056, "t N/t", "Nitrogen per t of urea (CO(NH2)2)",
+    "stoichiometry (IUPAC standard atomic weights): 2 N / CO(NH2)2 = 28.014 / 60.056 = 0.466")
 REPAID_TOLERANCE = const(
     "repaid_tolerance", 1e-9, "fraction",
     "A loan balance within this share of being repaid by the year's scheduled principal is repaid in full",
@@ -25,3 +46,5 @@ TIE_TOLERANCE = const(
     "tie_tolerance", 1e-9, "fraction",
     "Values within this share of the lowest count as the lowest (the first such year is reported)",
     "numerical: values equal but for rounding tie, in the engine and in a spreadsheet alike")
+POINTS_PER_WHOLE = const("points_per_whole", 100.0, "points", "Percentage points in a whole (a share of 1)",
+                         "unit identity: 1 = 100 %")

@@ -10,7 +10,7 @@ the decision changes.
 from __future__ import annotations
 
 from tea.model.declare import line, param
-from tea.model.expr import I, L, by_year, cumsum, given, maximum, or_default, t, where
+from tea.model.expr import I, L, by_year, cumsum, given, maximum, mod, or_default, t, where
 
 C, R, FI = I.costs, I.revenue, I.finance
 
@@ -42,6 +42,8 @@ DEFS = (
          L.sold_fresh_t * C.haul_distance_km * C.haul_per_t_km * L.cost_index),
     line("storage_cost", "money/ha", "costs", "Storage", "Storage, per t DM sold.",
          L.sold_t_dm * C.storage_per_t_dm * L.cost_index),
+    line("drying_cost", "money/ha", "costs", "Drying", "Drying to the buyer's specification: water removed x cost per t.",
+         L.water_removed_t * I.harvest.drying_per_t_water * L.cost_index),
     line("rent", "money/ha", "costs", "Rent", "Land rent, years 1..L.", L.stand_year * C.rent_per_ha * L.rent_index),
     line("overheads", "money/ha", "costs", "Overheads", "Overheads, years 1..L.",
          L.stand_year * C.overheads_per_ha * L.cost_index),
@@ -51,6 +53,16 @@ DEFS = (
          L.stand_year * C.upkeep_per_ha * L.cost_index),
     line("removal_cost", "money/ha", "costs", "Removal", "Taking the stand out (last year).",
          L.removal_year * C.removal_per_ha * L.cost_index),
+    line("credit_payback_cost", "money/ha", "costs", "Credits paid back",
+         "Credits paid back at removal x credit price.",
+         L.credit_payback_t_co2e * I.carbon.credit_price_per_t_co2e),
+    line("verification_cost", "money/ha", "costs", "Verification and registry",
+         "Verifications (first verification year, then every interval, while the stand stands) and yearly "
+         "registry fees, where credits are sold.",
+         L.credit_enrolled * L.stand_year * (t < I.finance.stand_life_years)
+         * ((t >= I.carbon.credit_first_year) * (mod(t - I.carbon.credit_first_year,
+                                                       I.carbon.verification_interval_years) == 0)
+            * I.carbon.verification_per_ha + I.carbon.registry_per_ha) * L.cost_index),
     line("grant_clawback", "money/ha", "costs", "Grant paid back",
          "Share of the grant paid back in the removal year when the stand stands fewer years than the grant asks: "
          "grant x (1 - stand life / commitment years).",
@@ -59,7 +71,8 @@ DEFS = (
                                 0)),
     line("total_cost", "money/ha", "costs", "Total cost", "All costs of the year, establishment included.",
          L.establishment_cost + L.fertiliser_cost + L.harvest_cost + L.baling_chipping_cost + L.haulage_cost
-         + L.storage_cost + L.rent + L.overheads + L.insurance + L.upkeep + L.removal_cost + L.grant_clawback),
+         + L.storage_cost + L.drying_cost + L.rent + L.overheads + L.insurance + L.upkeep + L.removal_cost + L.grant_clawback
+         + L.credit_payback_cost + L.verification_cost + L.operations_cost),
     # revenue
     param("price_per_t_dm_year1", "money/t DM", "revenue", "Biomass price per t DM in year 1",
           "The case's price per t DM, or its price per GJ times the heating value as delivered.",
@@ -82,8 +95,9 @@ DEFS = (
          "Price received per t DM: the contract price in contract years, the market price after.",
          where(L.contract_year, L.contract_price_per_t_dm_year1 * growth(R.contract_change_per_year),
                L.market_price_per_t_dm)),
-    line("biomass_revenue", "money/ha", "revenue", "Biomass revenue", "Dry matter sold x price.",
-         L.sold_t_dm * L.price_per_t_dm),
+    line("biomass_revenue", "money/ha", "revenue", "Biomass revenue",
+         "Dry matter sold x price x the share kept after a moisture price cut.",
+         L.sold_t_dm * L.price_per_t_dm * L.moisture_price_factor),
     line("uncontracted_revenue", "money/ha", "revenue", "Sales at the market price",
          "Biomass revenue of the years outside a fixed-price contract.", (1 - L.contract_year) * L.biomass_revenue),
     line("grant", "money/ha", "revenue", "Grant", "Establishment grant, in the year it is paid.",
@@ -96,6 +110,9 @@ DEFS = (
          * R.annual_payment_per_ha),
     line("carbon_credit_revenue", "money/ha", "revenue", "Carbon-credit revenue", "Credited t CO2e x credit price.",
          L.credited_t_co2e * I.carbon.credit_price_per_t_co2e),
+    line("carbon_credit_net_cash", "money/ha", "revenue", "Credits net of their costs",
+         "Credit receipts less the credits paid back at removal and the verification and registry costs.",
+         L.carbon_credit_revenue - L.credit_payback_cost - L.verification_cost),
     line("total_revenue", "money/ha", "revenue", "Total revenue", "All receipts of the year.",
          L.biomass_revenue + L.grant + L.annual_payment + L.carbon_credit_revenue + L.salvage),
     # cash
