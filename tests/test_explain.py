@@ -121,8 +121,9 @@ def test_explains_a_line_in_a_year_with_its_tree(cases):
     assert [c.name for c in root.children] == ["harvested_t_dm", "storage_loss_share"]
     assert root.children[0].children, "depth 3 shows what the harvested dry matter rests on"
     inputs = {u.path: u for u in ex.inputs}
-    # the demo gives its mature yield (and a site climate it is checked against)
-    assert inputs["yield.mature_t_dm_per_ha"].origin == "case file"
+    # the demo has a site climate and gives no mature yield: the estimate from the climate is used
+    assert inputs["yield.mature_t_dm_per_ha"].origin == "site climate"
+    assert "estimated from the site climate" in inputs["yield.mature_t_dm_per_ha"].source
     assert inputs["harvest.storage_loss"].origin == "preset"
     # the autumn moisture is in the formulas of the harvest, but a late-winter harvest never reads it
     assert "harvest.moisture_autumn" not in inputs

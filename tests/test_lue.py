@@ -258,11 +258,7 @@ class TestPerennialAgainstAnnual:
 
 # ----------------------------------------------------------------------------- cases
 def _demo(demo_mappings, stem):
-    """A demo case's mapping; the clay demo's with its mature yield left out: a field with no yield history."""
-    data = copy_case(demo_mappings[stem])
-    if stem == "clay_corner_miscanthus":
-        data.get("yield", {}).pop("mature_t_dm_per_ha", None)
-    return data
+    return copy_case(demo_mappings[stem])
 
 
 class TestCase:
@@ -369,13 +365,7 @@ class TestSensitivity:
         from tea import load_case, summarise
         from tea.analysis import sensitivity
 
-        import tomllib
-
-        from tea import load_mapping
-
-        data = tomllib.loads((CASES_DIR / "clay_corner_miscanthus.toml").read_text(encoding="utf-8"))
-        data["yield"].pop("mature_t_dm_per_ha")  # no yield given: estimated from its site climate
-        case = load_mapping(data, "clay.toml")
+        case = load_case(CASES_DIR / "clay_corner_miscanthus.toml")  # yield estimated from its site climate
         run = sensitivity.run(case, with_surface=False)
         i = [m.path for m in run.moved].index(sensitivity.LIGHT_USE)
         m = run.moved[i]
