@@ -209,7 +209,18 @@ def small_book_parts(folder: Path) -> dict[str, bytes]:
                                          "xl/_rels/workbook.xml.rels", "xl/styles.xml", part)}
     origin = INPUT_COLUMNS.index("Origin")
     kept_from = next(i for i, r in enumerate(grid) if r[:2] == ("Section kept whole", "Content (JSON)"))
-    keep = [r for i, r in enumerate(grid) if i < 4 or (i < kept_from and len(r) > origin and r[origin] == "case")]
+    key_col = INPUT_COLUMNS.index("Key")
+    keep, kept_key = [], None
+    for i, r in enumerate(grid):
+        if i < 4:
+            keep.append(r)
+        elif i < kept_from and len(r) > key_col:
+            base = str(r[key_col]).split("[")[0]
+            if len(r) > origin and r[origin] == "case":  # a key the case gave (a list's first cell)
+                keep.append(r)
+                kept_key = base
+            elif base == kept_key and "[" in str(r[key_col]):  # the rest of that list
+                keep.append(r)
     keep += [()] + [r for r in grid[kept_from:] if r and r[0] is not None]
 
     def cell(ref: str, v) -> str:

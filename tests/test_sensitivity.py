@@ -152,7 +152,7 @@ class TestRanges:
         text = CLAY.read_text().split("# --- What moves")[0].replace("term_years = 8", "term_years = 16")
         case = load_text(text, source="long_loan.toml")
         life = next(m for m in sensitivity.moved_inputs(case) if m.path == "finance.stand_life_years")
-        assert life.low == 18  # grace 2 + term 16, not 0.8 x 20 = 16
+        assert life.low == 19  # grace 3 + term 16, not 0.8 x 20 = 16
         assert "shortest life" in life.note
 
     def test_declared_range_the_case_rules_reject(self):
@@ -203,7 +203,8 @@ class TestViews:
 
     def test_table_from_a_case(self, clay):
         table = sensitivity.sensitivity_table(clay)
-        assert len(table) == 10  # the nine key inputs and the demo's declared SOC factor
+        # the nine key inputs, the demo's declared SOC factor, and the range of its yield estimated from climate
+        assert len(table) == 9 + 1 + 1
 
     def test_tornado_chart(self, clay_run, tmp_path):
         fig = analysis_charts.tornado_chart(clay_run, tmp_path / "t.png")
@@ -217,7 +218,7 @@ class TestViews:
     def test_json_is_strict(self, clay_run):
         data = json.loads(json.dumps(sensitivity.to_dict(clay_run), allow_nan=False))
         assert data["case_hash"] == clay_run.case.hash
-        assert data["cautions"] and len(data["inputs"]) == 10
+        assert data["cautions"] and len(data["inputs"]) == 9 + 1 + 1
         assert data["surface"]["npv_zero_contour"]
 
     def test_summary_text(self, clay_run):

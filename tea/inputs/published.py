@@ -230,7 +230,9 @@ def crop_land_use(crop_use: str, current_use: str) -> str:
     land use is taken as it is.
 
     >>> crop_land_use("perennial_grass", "cropland_full_till"), crop_land_use("perennial_grass", "grassland")
-    ('set_aside', 'grassland')
+    ('perennial_grass', 'grassland')
+    >>> land_use_factors("perennial_grass", "cool_temperate_moist")[0]  # the set-aside F_LU, Table 5.5
+    0.82
     >>> crop_land_use("perennial_crop", "grassland")
     'perennial_crop'
     """
