@@ -14,6 +14,8 @@ Only when that estimate falls short does it step on, one density at a time.
 
 from __future__ import annotations
 
+import contextlib
+import io
 import logging
 import os
 import warnings
@@ -37,11 +39,74 @@ FONT_EPOCH = "0"
 @lru_cache(maxsize=1)
 def _engine():
     """WeasyPrint, its shared font configuration and a URL fetcher that allows only ``data:`` URLs."""
-    import weasyprint
+    weasyprint = _import_weasyprint()
     from weasyprint.text.fonts import FontConfiguration
 
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
+
+
+def _import_weasyprint():
+    """``import weasyprint``, its system libraries looked up in the linker's cache read once.
+
+    WeasyPrint tries several names for each library (pango, harfbuzz, ...), and
+    for a bare name cffi asks :func:`ctypes.util.find_library`, which on Linux
+    runs ``ldconfig -p`` and then, for a name it does not find there, the C
+    compiler and the linker: most of a second of start-up for the names that
+    do not exist on this system (other platforms' spellings, an optional
+    library). During the import a name is looked up in one listing of
+    ``ldconfig -p`` instead; if the import fails that way (a library found only
+    by the compiler's search), it is imported again with the standard lookup.
+    """
+    import sys
+
+    if "weasyprint" in sys.modules:
+        return sys.modules["weasyprint"]
+    import ctypes.util
+
+    listing = _linker_cache() if sys.platform.startswith("linux") else None
+    if listing is None:
+        import weasyprint
+
+        return weasyprint
+    standard = ctypes.util.find_library
+    ctypes.util.find_library = lambda name: _from_listing(listing, name)
+    try:
+        with contextlib.redirect_stdout(io.StringIO()):  # WeasyPrint prints advice before it gives up
+            import weasyprint
+        return weasyprint
+    except OSError:
+        for name in [m for m in sys.modules if m == "weasyprint" or m.startswith("weasyprint.")]:
+            del sys.modules[name]
+    finally:
+        ctypes.util.find_library = standard
+    import weasyprint
+
+    return weasyprint
+
+
+def _linker_cache() -> bytes | None:
+    """The output of ``ldconfig -p`` (the libraries the dynamic linker knows), or None."""
+    import subprocess
+
+    try:
+        done = subprocess.run(["/sbin/ldconfig", "-p"], stdin=subprocess.DEVNULL, stdout=subprocess.PIPE,
+                              stderr=subprocess.DEVNULL, env={"LC_ALL": "C", "LANG": "C"}, timeout=10, check=False)
+    except (OSError, subprocess.SubprocessError):
+        return None
+    return done.stdout if done.returncode == 0 and done.stdout else None
+
+
+def _from_listing(listing: bytes, name: str) -> str | None:
+    """A library's file name as :func:`ctypes.util.find_library` finds it in ``ldconfig -p`` (its own rule)."""
+    import ctypes
+    import re
+
+    machine = os.uname().machine + ("-64" if ctypes.sizeof(ctypes.c_void_p) == 8 else "-32")
+    abi = {"x86_64-64": "libc6,x86-64", "ppc64-64": "libc6,64bit", "sparc64-64": "libc6,64bit",
+           "s390x-64": "libc6,64bit", "ia64-64": "libc6,IA-64"}.get(machine, "libc6")
+    found = re.search(os.fsencode(r"\s+(lib%s\.[^\s]+)\s+\(%s" % (re.escape(name), abi)), listing)
+    return os.fsdecode(found.group(1)) if found else None
 
 
 def layout(html: str, stylesheets: Sequence[Any] = ()):
