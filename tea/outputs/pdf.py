@@ -109,11 +109,23 @@ def _from_listing(listing: bytes, name: str) -> str | None:
     return os.fsdecode(found.group(1)) if found else None
 
 
-def layout(html: str, stylesheets: Sequence[Any] = ()):
-    """Lay the HTML out as pages (a :class:`weasyprint.Document`)."""
+@lru_cache(maxsize=4)
+def stylesheet(text: str):
+    """A stylesheet parsed once per process (a :class:`weasyprint.CSS`), to hand to :func:`layout`."""
+    weasyprint, fonts, fetcher = _engine()
+    return weasyprint.CSS(string=text, font_config=fonts, url_fetcher=fetcher)
+
+
+def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = None):
+    """Lay the HTML out as pages (a :class:`weasyprint.Document`).
+
+    ``stylesheets`` come after the page's own ``<style>``; ``images`` is a
+    dictionary the engine keeps the page's images in (its charts, parsed),
+    shared by layouts of the same page so that each is parsed once.
+    """
     weasyprint, fonts, fetcher = _engine()
     return weasyprint.HTML(string=html, base_url=None, url_fetcher=fetcher).render(
-        font_config=fonts, stylesheets=list(stylesheets))
+        font_config=fonts, stylesheets=list(stylesheets), cache=images if images is not None else {})
 
 
 def combine(docs: Sequence[Any]):
@@ -198,13 +210,13 @@ def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_
     One layout when the page fits at ``start``; else one measure, one
     estimate and one more layout, stepping on only if the estimate fell short.
     """
-    density = start
-    doc = layout(html_at(density), stylesheets)
+    density, images = start, {}
+    doc = layout(html_at(density), stylesheets, images)
     if len(doc.pages) == 1 or density >= last:
         return _checked(density, doc)
     density = choose(measure(doc, anchor), density, type_scale, chart_scale, last)
     while True:
-        doc = layout(html_at(density), stylesheets)
+        doc = layout(html_at(density), stylesheets, images)
         if len(doc.pages) == 1 or density >= last:
             return _checked(density, doc)
         density += 1

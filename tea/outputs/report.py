@@ -115,7 +115,7 @@ def render_summary(
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
         return atomic_write_text(path, html_at(_fit_cache[key], False), force=True)
     density, doc = pdf.fit(lambda d: html_at(d, True), page.anchor, page.first_density, page.last_density, TYPE_PT,
-                           CHART_SCALE)
+                           CHART_SCALE, _stylesheets())
     _remember(key, density)
     if kind == "html":
         return atomic_write_text(path, html_at(density, False), force=True)
@@ -168,7 +168,7 @@ def render_comparison(
     if kind == "html" and key in _fit_cache:  # the fit of the same report, just measured
         return atomic_write_text(path, whole(_fit_cache[key], False), force=True)
     docs = [pdf.layout(_render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=True,
-                               page_label="", pages=[], generator=f"tea {__version__}"))]
+                               page_label="", pages=[], generator=f"tea {__version__}"), _stylesheets())]
     densities = []
     for i, page in enumerate(pages):
         label = f"case {i + 1} of {len(pages)}"
@@ -178,7 +178,7 @@ def render_comparison(
                            page_label=label, generator=f"tea {__version__}")
 
         density, doc = pdf.fit(html_at, page.anchor, page.first_density, page.last_density, TYPE_PT,
-                           CHART_SCALE)
+                               CHART_SCALE, _stylesheets())
         densities.append(density)
         docs.append(doc)
     _remember(key, tuple(densities))
@@ -243,6 +243,11 @@ def _shown(value: Any) -> Any:
     if isinstance(value, str) and not isinstance(value, Markup):
         return terminal(value)
     return value
+
+
+def _stylesheets() -> list[Any]:
+    """The page's stylesheet for the PDF engine, parsed once (the HTML for it carries only the paper's rules)."""
+    return [pdf.stylesheet((TEMPLATES / "report.css").read_text(encoding="utf-8"))]
 
 
 def _render(template: str, **context: Any) -> str:
