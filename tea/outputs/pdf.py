@@ -22,7 +22,7 @@ import warnings
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, Iterable, Sequence
 
 #: CSS px per inch (CSS Values and Units Level 3, sec. 5.2: 1in = 96px)
 PX_PER_IN = 96.0
@@ -44,6 +44,13 @@ def _engine():
 
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
+
+
+@lru_cache(maxsize=1)
+def prepare() -> None:
+    """Start the engine once (WeasyPrint imported, fonts configured, a first line laid out), so that
+    processes forked from this one start with it."""
+    layout("<p>tea</p>")
 
 
 def _import_weasyprint():
@@ -128,13 +135,9 @@ def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = Non
         font_config=fonts, stylesheets=list(stylesheets), cache=images if images is not None else {})
 
 
-def combine(docs: Sequence[Any]):
-    """One document of the pages of several, with the first one's metadata (title, description)."""
-    return docs[0].copy([page for doc in docs for page in doc.pages])
-
-
-def write_pdf(doc, target: Path) -> None:
-    """Write a laid-out document as PDF: fonts embedded as subsets, no dates anywhere.
+def write_pdf(doc, target: Path | None = None) -> bytes | None:
+    """Write a laid-out document as PDF (to ``target``, or returned as bytes): fonts embedded as subsets,
+    no dates anywhere.
 
     The subsetter reads the reproducible-builds variable ``SOURCE_DATE_EPOCH``
     for the timestamp of each subset; it is set for the duration of the write
@@ -144,10 +147,32 @@ def write_pdf(doc, target: Path) -> None:
     if given is None:
         os.environ["SOURCE_DATE_EPOCH"] = FONT_EPOCH
     try:
-        doc.write_pdf(str(target))
+        return doc.write_pdf(None if target is None else str(target))
     finally:
         if given is None:
             os.environ.pop("SOURCE_DATE_EPOCH", None)
+
+
+def join(parts: Iterable[bytes], target: Path) -> None:
+    """One PDF of the pages of several, in order, with the first one's metadata (title, description).
+
+    Each part keeps its own embedded font subsets and its outline; nothing in
+    the result depends on the time or on chance (no file identifier is added).
+    The joining is pypdf's (a PDF library).
+    """
+    from pypdf import PdfReader, PdfWriter
+
+    writer = PdfWriter()
+    metadata = None
+    for data in parts:
+        reader = PdfReader(io.BytesIO(data))
+        if metadata is None:
+            metadata = {k: v for k, v in (reader.metadata or {}).items()}
+        writer.append(reader)
+    if metadata:
+        writer.add_metadata(metadata)
+    with open(target, "wb") as out:
+        writer.write(out)
 
 
 # ----------------------------------------------------------------------------- fitting one sheet
