@@ -46,6 +46,30 @@ def _engine():
     return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
 
 
+#: allocations between two runs of the cyclic garbage collector while pages are made (Python's default: 700)
+GC_THRESHOLD = 10_000
+
+
+@contextlib.contextmanager
+def fewer_collections():
+    """Run the cyclic garbage collector less often while pages are made (also a function decorator).
+
+    A layout makes hundreds of thousands of objects that live until the page
+    is written, and at Python's default every few hundred allocations the
+    collector scans them again: about a sixth of the time of a page. The
+    collector's older generations still follow at their usual ratios, so
+    garbage is collected as before, in fewer, larger passes.
+    """
+    import gc
+
+    before = gc.get_threshold()
+    gc.set_threshold(max(before[0], GC_THRESHOLD), *before[1:])
+    try:
+        yield
+    finally:
+        gc.set_threshold(*before)
+
+
 @lru_cache(maxsize=1)
 def prepare() -> None:
     """Start the engine once (WeasyPrint imported, fonts configured, a first line laid out), so that

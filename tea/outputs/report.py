@@ -67,6 +67,7 @@ _FIT_CACHE_SIZE = 64
 
 
 # ----------------------------------------------------------------------------- public API
+@pdf.fewer_collections()
 def render_summary(
     case: Case,
     ledger: pd.DataFrame,
@@ -122,6 +123,7 @@ def render_summary(
     return atomic_write(path, lambda tmp: _write_pdf(doc, tmp), force=True)
 
 
+@pdf.fewer_collections()
 def render_comparison(
     cases: Sequence[Case],
     ledgers: Sequence[pd.DataFrame],
