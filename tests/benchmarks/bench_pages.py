@@ -2,7 +2,7 @@
 
 Run from the repository root:
 
-    python tests/benchmarks/bench_pages.py [--repeat N] [--cases N]
+    python tests/benchmarks/bench_pages.py [--repeat N] [--cases N] [--baseline DIR]
 
 Each timing is a fresh ``python -m tea`` process (imports, loading, computing,
 laying out and writing included), measured side by side in this one run
@@ -28,6 +28,13 @@ the seconds, is what a change is judged by.
 The 100 cases are the demo cases (demo data) copied with their names, areas
 and prices varied, written to a temporary folder. This is a benchmark, never
 a timed test: it prints what it measured and exits 0.
+
+``--baseline DIR`` measures a second copy of the project beside this one, in
+the same run, each measurement taken in turn from one and the other (the same
+case files, the same interpreter): e.g. an earlier commit laid out with
+``git archive REV | tar -x -C DIR`` and ``ln -s ../templates DIR/tea/templates``
+(so that its own templates are used, not the installed ones). It prints both
+and the ratio of this copy to the baseline.
 """
 
 from __future__ import annotations
@@ -72,10 +79,10 @@ def _tree_memory_mb(pid: int) -> float:
 class _Run:
     """One ``python -m tea`` process: wall time [s], processor time of the tree [s], peak memory [MB]."""
 
-    def __init__(self, args: list[str]):
+    def __init__(self, args: list[str], root: Path = ROOT):
         env = dict(os.environ, MPLBACKEND="Agg")
         t0 = time.perf_counter()
-        proc = subprocess.Popen([sys.executable, "-m", "tea", *args], cwd=ROOT, env=env,
+        proc = subprocess.Popen([sys.executable, "-m", "tea", *args], cwd=root, env=env,
                                 stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
         peak = [0.0]
         done = threading.Event()
@@ -99,12 +106,27 @@ class _Run:
         self.one_mb = usage.ru_maxrss / 1024.0  # Linux: kB; the largest of the process and its workers
 
 
-def _median(args: list[str], repeat: int) -> _Run:
-    runs = sorted((_Run(args) for _ in range(repeat)), key=lambda r: r.seconds)
+def _median(runs: list[_Run]) -> _Run:
+    runs = sorted(runs, key=lambda r: r.seconds)
     middle = runs[len(runs) // 2]
     middle.tree_mb = max(r.tree_mb for r in runs)
     middle.one_mb = max(r.one_mb for r in runs)
     return middle
+
+
+def _measure(args: list[str], repeat: int, roots: list[Path]) -> list[_Run]:
+    """The median run of ``tea ARGS`` from each root, the roots taken in turn (order swapped each repeat)."""
+    runs: dict[Path, list[_Run]] = {r: [] for r in roots}
+    for k in range(repeat):
+        for root in (roots if k % 2 == 0 else roots[::-1]):
+            runs[root].append(_Run([a.replace("{root}", root.name) for a in args], root))
+    return [_median(runs[r]) for r in roots]
+
+
+def _templates_of(root: Path) -> Path:
+    out = subprocess.run([sys.executable, "-c", "import importlib.resources as r; print(r.files('tea.templates'))"],
+                         cwd=root, capture_output=True, text=True, check=True).stdout.strip()
+    return Path(out).resolve()
 
 
 def _many_cases(folder: Path, n: int) -> list[Path]:
@@ -128,26 +150,47 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3, help="repeats of the short timings (median kept)")
     parser.add_argument("--cases", type=int, default=100, help="cases in the large comparison")
+    parser.add_argument("--baseline", type=Path, help="another copy of the project, measured in turn with this one")
     args = parser.parse_args(argv)
+    roots = [ROOT]
+    if args.baseline is not None:
+        base = args.baseline.resolve()
+        if not (base / "tea" / "__main__.py").is_file():
+            raise SystemExit(f"--baseline {base}: expected a copy of the project (tea/__main__.py)")
+        if not _templates_of(base).is_relative_to(base):
+            raise SystemExit(f"--baseline {base}: its templates resolve outside it; "
+                             f"ln -s ../templates {base / 'tea' / 'templates'}")
+        roots.append(base)
     with tempfile.TemporaryDirectory() as tmp:
         out = Path(tmp)
-        brief = _median(["run", str(CASE), "--brief"], args.repeat)
-        page = _median(["run", str(CASE), "--brief", "--pdf", str(out / "a.pdf"), "--force"], args.repeat)
-        three = _median(["run", *map(str, CASES), "--brief", "--pdf", str(out / "c3.pdf"), "--force"], args.repeat)
+        for root in roots:
+            (out / root.name).mkdir(exist_ok=True)
+        pdf = str(out / "{root}")
+        brief = _measure(["run", str(CASE), "--brief"], args.repeat, roots)
+        page = _measure(["run", str(CASE), "--brief", "--pdf", pdf + "/a.pdf", "--force"], args.repeat, roots)
+        three = _measure(["run", *map(str, CASES), "--brief", "--pdf", pdf + "/c3.pdf", "--force"], args.repeat,
+                         roots)
         many = _many_cases(out, args.cases)
-        big = _Run(["run", *map(str, many), "--brief", "--pdf", str(out / "c100.pdf"), "--force"])
+        big = _measure(["run", *map(str, many), "--brief", "--pdf", pdf + "/c100.pdf", "--force"], 1, roots)
     jobs = os.environ.get("TEA_JOBS") or f"{len(os.sched_getaffinity(0))} (cores)"
     print(f"workers: {jobs}; load average at the end: {os.getloadavg()[0]:.1f}")
-    print(f"{'':40}{'wall':>9}{'x brief':>9}{'cpu':>9}{'peak, tree':>12}{'one proc':>10}   target")
     rows = [(f"tea run CASE --brief", brief, ""),
             (f"tea run CASE --brief --pdf", page, "<= 2.5 x --brief"),
             (f"comparison of {len(CASES)} cases, PDF", three, "<= 5 s"),
             (f"comparison of {args.cases} cases, PDF", big, "<= 60 s, <= 1,024 MB")]
-    for label, r, target in rows:
-        print(f"{label:40}{r.seconds:8.2f}s{r.seconds / brief.seconds:8.1f}x{r.cpu:8.2f}s"
-              f"{r.tree_mb:9.0f} MB{r.one_mb:7.0f} MB   {target}")
+    for k, root in enumerate(roots):
+        print(f"\n{'this copy' if k == 0 else 'baseline'}: {root}")
+        print(f"{'':40}{'wall':>9}{'x brief':>9}{'cpu':>9}{'peak, tree':>12}{'one proc':>10}   target")
+        for label, r, target in rows:
+            print(f"{label:40}{r[k].seconds:8.2f}s{r[k].seconds / brief[k].seconds:8.1f}x{r[k].cpu:8.2f}s"
+                  f"{r[k].tree_mb:9.0f} MB{r[k].one_mb:7.0f} MB   {target}")
+    if len(roots) > 1:
+        print("\nthis copy / baseline" + " " * 20 + f"{'wall':>9}{'x brief':>9}{'cpu':>9}{'peak, tree':>12}")
+        for label, r, _target in rows:
+            print(f"{label:40}{r[0].seconds / r[1].seconds:9.2f}"
+                  f"{(r[0].seconds / brief[0].seconds) / (r[1].seconds / brief[1].seconds):9.2f}"
+                  f"{r[0].cpu / r[1].cpu:9.2f}{r[0].tree_mb / r[1].tree_mb:12.2f}")
     return 0
-
 
 if __name__ == "__main__":
     sys.exit(main())
