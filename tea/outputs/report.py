@@ -29,8 +29,11 @@ more at the density the measured overflow calls for (smaller type, same
 charts); see :func:`tea.outputs.pdf.fit`. A page with the tornado chart of NPV
 (see :func:`render_summary`) has one step more, :data:`BESIDE`: the densest
 type with the chart moved from below the other charts to beside the yearly
-table. A comparison lays out the overview and each case's page on their own
-and joins the pages: a case page is fitted once, whatever the others need.
+table. A comparison is made in pieces, the overview and each case's page on
+their own: each piece is built, fitted once whatever the others need, and
+written as PDF in a worker process (:mod:`tea.outputs.workers`), and the
+pieces' PDFs are joined in order (:func:`tea.outputs.pdf.join`), so that
+memory stays that of a few pages however many cases there are.
 """
 
 from __future__ import annotations
