@@ -7,9 +7,10 @@ they start with its imports and its data (cases, ledgers, results) and are
 handed only the number of the piece to do; what they return comes back
 pickled, in the order of the pieces whatever order they finish in.
 
-How many: the processor cores this process may run on, at most one per
-piece, or ``TEA_JOBS`` from the environment (``TEA_JOBS=1``: everything in
-this process). Where processes cannot be forked (not Linux), everything runs
+How many: the processor cores this process may run on, at most
+:data:`MOST_BY_DEFAULT` (each worker holds its own laid-out pages) and at
+most one per piece, or ``TEA_JOBS`` from the environment (``TEA_JOBS=1``:
+everything in this process). Where processes cannot be forked (not Linux), everything runs
 in this process. The result never depends on the number of workers.
 """
 
@@ -26,11 +27,15 @@ T = TypeVar("T")
 #: the environment variable that sets the number of worker processes
 JOBS_VARIABLE = "TEA_JOBS"
 
+#: workers at most unless TEA_JOBS asks for more: each takes some 150-250 MB
+MOST_BY_DEFAULT = 8
+
 _work: Callable[[int], object] | None = None
 
 
 def available() -> int:
-    """Worker processes to use: ``TEA_JOBS`` if set, else the cores this process may run on."""
+    """Worker processes to use: ``TEA_JOBS`` if set, else the cores this process may run on (at most
+    :data:`MOST_BY_DEFAULT`)."""
     given = os.environ.get(JOBS_VARIABLE, "").strip()
     if given:
         if not given.isdigit() or int(given) < 1:
@@ -38,9 +43,10 @@ def available() -> int:
                               f"got {given[:20]!r}")
         return int(given)
     try:
-        return len(os.sched_getaffinity(0))
+        cores = len(os.sched_getaffinity(0))
     except (AttributeError, OSError):
-        return os.cpu_count() or 1
+        cores = os.cpu_count() or 1
+    return max(1, min(cores, MOST_BY_DEFAULT))
 
 
 def each(count: int, work: Callable[[int], T]) -> Iterator[T]:
