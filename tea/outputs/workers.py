@@ -62,10 +62,19 @@ def each(count: int, work: Callable[[int], T]) -> Iterator[T]:
     global _work
     _work = work  # the forked workers see it; only the piece's number travels
     try:
-        with multiprocessing.get_context("fork").Pool(jobs) as pool:
+        with multiprocessing.get_context("fork").Pool(jobs, initializer=_settle) as pool:
             yield from pool.imap(_call, range(count))
     finally:
         _work = None
+
+
+def _settle() -> None:
+    """In a new worker: what it inherited (modules, cases, ledgers) is moved out of the garbage collector's
+    sight, so that no collection scans it again or writes to its pages (which it would then stop sharing
+    with the parent)."""
+    import gc
+
+    gc.freeze()
 
 
 def _call(i: int):
