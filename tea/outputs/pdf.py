@@ -14,13 +14,15 @@ Only when that estimate falls short does it step on, one density at a time.
 
 from __future__ import annotations
 
+import contextlib
+import io
 import logging
 import os
 import warnings
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, Iterable, Sequence
 
 #: CSS px per inch (CSS Values and Units Level 3, sec. 5.2: 1in = 96px)
 PX_PER_IN = 96.0
@@ -37,27 +39,129 @@ FONT_EPOCH = "0"
 @lru_cache(maxsize=1)
 def _engine():
     """WeasyPrint, its shared font configuration and a URL fetcher that allows only ``data:`` URLs."""
-    import weasyprint
+    weasyprint = _import_weasyprint()
     from weasyprint.text.fonts import FontConfiguration
 
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
 
 
-def layout(html: str, stylesheets: Sequence[Any] = ()):
-    """Lay the HTML out as pages (a :class:`weasyprint.Document`)."""
+#: allocations between two runs of the cyclic garbage collector while pages are made (Python's default: 700)
+GC_THRESHOLD = 10_000
+
+
+@contextlib.contextmanager
+def fewer_collections():
+    """Run the cyclic garbage collector less often while pages are made (also a function decorator).
+
+    A layout makes hundreds of thousands of objects that live until the page
+    is written, and at Python's default every few hundred allocations the
+    collector scans them again: about a sixth of the time of a page. The
+    collector's older generations still follow at their usual ratios, so
+    garbage is collected as before, in fewer, larger passes.
+    """
+    import gc
+
+    before = gc.get_threshold()
+    gc.set_threshold(max(before[0], GC_THRESHOLD), *before[1:])
+    try:
+        yield
+    finally:
+        gc.set_threshold(*before)
+
+
+@lru_cache(maxsize=1)
+def prepare() -> None:
+    """Start the engine once (WeasyPrint imported, fonts configured, a first line laid out), so that
+    processes forked from this one start with it."""
+    layout("<p>tea</p>")
+
+
+def _import_weasyprint():
+    """``import weasyprint``, its system libraries looked up in the linker's cache read once.
+
+    WeasyPrint tries several names for each library (pango, harfbuzz, ...), and
+    for a bare name cffi asks :func:`ctypes.util.find_library`, which on Linux
+    runs ``ldconfig -p`` and then, for a name it does not find there, the C
+    compiler and the linker: most of a second of start-up for the names that
+    do not exist on this system (other platforms' spellings, an optional
+    library). During the import a name is looked up in one listing of
+    ``ldconfig -p`` instead; if the import fails that way (a library found only
+    by the compiler's search), it is imported again with the standard lookup.
+    """
+    import sys
+
+    if "weasyprint" in sys.modules:
+        return sys.modules["weasyprint"]
+    import ctypes.util
+
+    listing = _linker_cache() if sys.platform.startswith("linux") else None
+    if listing is None:
+        import weasyprint
+
+        return weasyprint
+    standard = ctypes.util.find_library
+    ctypes.util.find_library = lambda name: _from_listing(listing, name)
+    try:
+        with contextlib.redirect_stdout(io.StringIO()):  # WeasyPrint prints advice before it gives up
+            import weasyprint
+        return weasyprint
+    except OSError:
+        for name in [m for m in sys.modules if m == "weasyprint" or m.startswith("weasyprint.")]:
+            del sys.modules[name]
+    finally:
+        ctypes.util.find_library = standard
+    import weasyprint
+
+    return weasyprint
+
+
+def _linker_cache() -> bytes | None:
+    """The output of ``ldconfig -p`` (the libraries the dynamic linker knows), or None."""
+    import subprocess
+
+    try:
+        done = subprocess.run(["/sbin/ldconfig", "-p"], stdin=subprocess.DEVNULL, stdout=subprocess.PIPE,
+                              stderr=subprocess.DEVNULL, env={"LC_ALL": "C", "LANG": "C"}, timeout=10, check=False)
+    except (OSError, subprocess.SubprocessError):
+        return None
+    return done.stdout if done.returncode == 0 and done.stdout else None
+
+
+def _from_listing(listing: bytes, name: str) -> str | None:
+    """A library's file name as :func:`ctypes.util.find_library` finds it in ``ldconfig -p`` (its own rule)."""
+    import ctypes
+    import re
+
+    machine = os.uname().machine + ("-64" if ctypes.sizeof(ctypes.c_void_p) == 8 else "-32")
+    abi = {"x86_64-64": "libc6,x86-64", "ppc64-64": "libc6,64bit", "sparc64-64": "libc6,64bit",
+           "s390x-64": "libc6,64bit", "ia64-64": "libc6,IA-64"}.get(machine, "libc6")
+    found = re.search(os.fsencode(r"\s+(lib%s\.[^\s]+)\s+\(%s" % (re.escape(name), abi)), listing)
+    return os.fsdecode(found.group(1)) if found else None
+
+
+@lru_cache(maxsize=4)
+def stylesheet(text: str):
+    """A stylesheet parsed once per process (a :class:`weasyprint.CSS`), to hand to :func:`layout`."""
+    weasyprint, fonts, fetcher = _engine()
+    return weasyprint.CSS(string=text, font_config=fonts, url_fetcher=fetcher)
+
+
+def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = None):
+    """Lay the HTML out as pages (a :class:`weasyprint.Document`).
+
+    ``stylesheets`` come after the page's own ``<style>``; ``images`` is a
+    dictionary the engine keeps the page's images in (its charts, parsed),
+    shared by layouts of the same page so that each is parsed once.
+    """
     weasyprint, fonts, fetcher = _engine()
     return weasyprint.HTML(string=html, base_url=None, url_fetcher=fetcher).render(
-        font_config=fonts, stylesheets=list(stylesheets))
+        font_config=fonts, stylesheets=list(stylesheets), cache=images if images is not None else {})
 
 
-def combine(docs: Sequence[Any]):
-    """One document of the pages of several, with the first one's metadata (title, description)."""
-    return docs[0].copy([page for doc in docs for page in doc.pages])
-
-
-def write_pdf(doc, target: Path) -> None:
-    """Write a laid-out document as PDF: fonts embedded as subsets, no dates anywhere.
+def write_pdf(doc, target: Path | None = None) -> bytes | None:
+    """Write a laid-out document as PDF (to ``target``, or returned as bytes): fonts embedded as subsets,
+    no dates anywhere.
 
     The subsetter reads the reproducible-builds variable ``SOURCE_DATE_EPOCH``
     for the timestamp of each subset; it is set for the duration of the write
@@ -67,10 +171,32 @@ def write_pdf(doc, target: Path) -> None:
     if given is None:
         os.environ["SOURCE_DATE_EPOCH"] = FONT_EPOCH
     try:
-        doc.write_pdf(str(target))
+        return doc.write_pdf(None if target is None else str(target))
     finally:
         if given is None:
             os.environ.pop("SOURCE_DATE_EPOCH", None)
+
+
+def join(parts: Iterable[bytes], target: Path) -> None:
+    """One PDF of the pages of several, in order, with the first one's metadata (title, description).
+
+    Each part keeps its own embedded font subsets and its outline; nothing in
+    the result depends on the time or on chance (no file identifier is added).
+    The joining is pypdf's (a PDF library).
+    """
+    from pypdf import PdfReader, PdfWriter
+
+    writer = PdfWriter()
+    metadata = None
+    for data in parts:
+        reader = PdfReader(io.BytesIO(data))
+        if metadata is None:
+            metadata = {k: v for k, v in (reader.metadata or {}).items()}
+        writer.append(reader)
+    if metadata:
+        writer.add_metadata(metadata)
+    with open(target, "wb") as out:
+        writer.write(out)
 
 
 # ----------------------------------------------------------------------------- fitting one sheet
@@ -133,13 +259,13 @@ def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_
     One layout when the page fits at ``start``; else one measure, one
     estimate and one more layout, stepping on only if the estimate fell short.
     """
-    density = start
-    doc = layout(html_at(density), stylesheets)
+    density, images = start, {}
+    doc = layout(html_at(density), stylesheets, images)
     if len(doc.pages) == 1 or density >= last:
         return _checked(density, doc)
     density = choose(measure(doc, anchor), density, type_scale, chart_scale, last)
     while True:
-        doc = layout(html_at(density), stylesheets)
+        doc = layout(html_at(density), stylesheets, images)
         if len(doc.pages) == 1 or density >= last:
             return _checked(density, doc)
         density += 1

@@ -29,8 +29,11 @@ more at the density the measured overflow calls for (smaller type, same
 charts); see :func:`tea.outputs.pdf.fit`. A page with the tornado chart of NPV
 (see :func:`render_summary`) has one step more, :data:`BESIDE`: the densest
 type with the chart moved from below the other charts to beside the yearly
-table. A comparison lays out the overview and each case's page on their own
-and joins the pages: a case page is fitted once, whatever the others need.
+table. A comparison is made in pieces, the overview and each case's page on
+their own: each piece is built, fitted once whatever the others need, and
+written as PDF in a worker process (:mod:`tea.outputs.workers`), and the
+pieces' PDFs are joined in order (:func:`tea.outputs.pdf.join`), so that
+memory stays that of a few pages however many cases there are.
 """
 
 from __future__ import annotations
@@ -47,9 +50,9 @@ from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, compare, pdf
+from tea.outputs import charts, compare, pdf, workers
 from tea.outputs.page import BESIDE, CHART_SCALE, MAX_DENSITY, TYPE_PT, CasePage, page_charts, print_minus  # noqa: F401
-from tea.outputs.whatmoves import SensitivityViews
+from tea.outputs.whatmoves import SensitivityViews, shows_block
 
 
 def _templates_folder() -> Path:
@@ -67,6 +70,7 @@ _FIT_CACHE_SIZE = 64
 
 
 # ----------------------------------------------------------------------------- public API
+@pdf.fewer_collections()
 def render_summary(
     case: Case,
     ledger: pd.DataFrame,
@@ -115,13 +119,14 @@ def render_summary(
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
         return atomic_write_text(path, html_at(_fit_cache[key], False), force=True)
     density, doc = pdf.fit(lambda d: html_at(d, True), page.anchor, page.first_density, page.last_density, TYPE_PT,
-                           CHART_SCALE)
+                           CHART_SCALE, _stylesheets())
     _remember(key, density)
     if kind == "html":
         return atomic_write_text(path, html_at(density, False), force=True)
     return atomic_write(path, lambda tmp: _write_pdf(doc, tmp), force=True)
 
 
+@pdf.fewer_collections()
 def render_comparison(
     cases: Sequence[Case],
     ledgers: Sequence[pd.DataFrame],
@@ -156,35 +161,53 @@ def render_comparison(
     path, kind = _target(path, force)
     size = _page_size(page_size, cases[0])
     meta = _meta(cases, results)
-    views = [SensitivityViews(c, sensitivity, f"case-{i}") for i, c in enumerate(cases)]
-    key = ("compare", tuple((c.hash, c.source, v.key) for c, v in zip(cases, views)), size)
-    overview = compare.overview(cases, ledgers, results, size)
-    pages = [CasePage(c, f, r, f"case-{i}", v) for i, (c, f, r, v) in enumerate(zip(cases, ledgers, results, views))]
+    key = ("compare", tuple((c.hash, c.source, shows_block(c, sensitivity)) for c in cases), size)
 
-    def whole(densities: Sequence[int], embed: bool) -> str:
-        return _render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=embed, page_label="",
-                       pages=[p.at(d) for p, d in zip(pages, densities)], generator=f"tea {__version__}")
+    def case_page(i: int) -> CasePage:
+        anchor = f"case-{i}"
+        return CasePage(cases[i], ledgers[i], results[i], anchor, SensitivityViews(cases[i], sensitivity, anchor))
+
+    def whole(densities: Sequence[int]) -> str:
+        overview = compare.overview(cases, ledgers, results, size)
+        return _render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=False, page_label="",
+                       pages=[case_page(i).at(d) for i, d in enumerate(densities)], generator=f"tea {__version__}")
 
     if kind == "html" and key in _fit_cache:  # the fit of the same report, just measured
-        return atomic_write_text(path, whole(_fit_cache[key], False), force=True)
-    docs = [pdf.layout(_render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=True,
-                               page_label="", pages=[], generator=f"tea {__version__}"))]
-    densities = []
-    for i, page in enumerate(pages):
-        label = f"case {i + 1} of {len(pages)}"
+        return atomic_write_text(path, whole(_fit_cache[key]), force=True)
 
-        def html_at(density: int, page=page, label=label) -> str:
-            return _render("summary.html.j2", page_size=size, page=page.at(density), meta=meta, embed=True,
-                           page_label=label, generator=f"tea {__version__}")
+    def piece(k: int) -> tuple[int | None, bytes | None]:
+        """Piece 0 the overview, piece i the page of case i - 1: laid out, and written as PDF for a PDF."""
+        if k == 0:
+            html = _render("compare.html.j2", page_size=size, overview=compare.overview(cases, ledgers, results, size),
+                           meta=meta, embed=True, page_label="", pages=[], generator=f"tea {__version__}")
+            density, doc = None, pdf.layout(html, _stylesheets())
+        else:
+            page, label = case_page(k - 1), f"case {k} of {len(cases)}"
 
-        density, doc = pdf.fit(html_at, page.anchor, page.first_density, page.last_density, TYPE_PT,
-                           CHART_SCALE)
-        densities.append(density)
-        docs.append(doc)
-    _remember(key, tuple(densities))
+            def html_at(d: int) -> str:
+                return _render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
+                               page_label=label, generator=f"tea {__version__}")
+
+            density, doc = pdf.fit(html_at, page.anchor, page.first_density, page.last_density, TYPE_PT,
+                                   CHART_SCALE, _stylesheets())
+        return density, (pdf.write_pdf(doc) if kind == "pdf" else None)
+
+    pdf.prepare()  # the engine's start-up paid once, before the pieces are shared out to workers
+    densities: list[int] = []
+
+    def parts():
+        for density, data in workers.each(1 + len(cases), piece):
+            if density is not None:
+                densities.append(density)
+            if data is not None:
+                yield data
+        _remember(key, tuple(densities))
+
     if kind == "html":
-        return atomic_write_text(path, whole(densities, False), force=True)
-    return atomic_write(path, lambda tmp: _write_pdf(pdf.combine(docs), tmp), force=True)
+        for _ in parts():
+            pass
+        return atomic_write_text(path, whole(densities), force=True)
+    return atomic_write(path, lambda tmp: pdf.join(parts(), tmp), force=True)
 
 
 def summary_html(case: Case, ledger: pd.DataFrame, results: Results, page_size: str | None = None,
@@ -243,6 +266,11 @@ def _shown(value: Any) -> Any:
     if isinstance(value, str) and not isinstance(value, Markup):
         return terminal(value)
     return value
+
+
+def _stylesheets() -> list[Any]:
+    """The page's stylesheet for the PDF engine, parsed once (the HTML for it carries only the paper's rules)."""
+    return [pdf.stylesheet((TEMPLATES / "report.css").read_text(encoding="utf-8"))]
 
 
 def _render(template: str, **context: Any) -> str:

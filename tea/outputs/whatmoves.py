@@ -61,9 +61,8 @@ class SensitivityViews:
             raise TypeError("sensitivity: expected True, False, None or a tea.outputs.charts.Chart")
         self.case, self.anchor = case, anchor
         self.chart = given if isinstance(given, charts.Chart) else None
-        shown = given if isinstance(given, bool) else (given is not None or "sensitivity" in case.values)
         self.run = None
-        if shown and self.chart is None:
+        if shows_block(case, given) and self.chart is None:
             from tea.analysis import sensitivity as sens
 
             self.run = sens.run(case, with_surface=False)
@@ -84,6 +83,12 @@ class SensitivityViews:
         if key not in self._views:
             self._views[key] = _tornado_view(self.case, self.run, self.anchor, beside, split)
         return self._views[key]
+
+
+def shows_block(case: Case, given: charts.Chart | bool | None) -> bool:
+    """Whether the case's page has the block: ``given`` as for :class:`SensitivityViews` (None: where the case
+    has a ``[sensitivity]`` section)."""
+    return given if isinstance(given, bool) else (given is not None or "sensitivity" in case.values)
 
 
 def _tornado_view(case: Case, run, anchor: str, beside: bool, split: bool) -> dict[str, Any]:

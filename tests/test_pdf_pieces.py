@@ -1,0 +1,106 @@
+"""A comparison made in pieces: worker processes, results in order, PDFs joined into one.
+
+Sources named beside each check:
+
+* the operating system's process ids (:func:`os.getpid`) tell which process
+  made a piece;
+* poppler-utils (pdfinfo, pdftotext, pdffonts) read the joined PDF as any
+  viewer would: page count, metadata, text, embedded fonts;
+* pypdf reads the pieces' PDFs as written by WeasyPrint.
+
+Demo cases are invented data: they are inputs here, never check values.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import subprocess
+
+import pytest
+
+import tea
+from tea.core.errors import OutputError
+from tea.outputs import pdf, report, workers
+
+from conftest import DEMO_CASES
+
+POPPLER = all(shutil.which(t) for t in ("pdfinfo", "pdftotext", "pdffonts"))
+
+
+def _square_and_pid(i: int) -> tuple[int, int]:
+    return i * i, os.getpid()
+
+
+def test_pieces_come_back_in_order_from_worker_processes(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    got = list(workers.each(6, _square_and_pid))
+    assert [v for v, _ in got] == [0, 1, 4, 9, 16, 25]
+    pids = {p for _, p in got}
+    assert os.getpid() not in pids  # os.getpid: made in other processes, two at most
+    assert 1 <= len(pids) <= 2
+
+
+def test_one_job_makes_every_piece_in_this_process(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "1")
+    got = list(workers.each(3, _square_and_pid))
+    assert got == [(0, os.getpid()), (1, os.getpid()), (4, os.getpid())]
+
+
+def _fails_at_two(i: int) -> int:
+    if i == 2:
+        raise ValueError("piece 2 cannot be made")
+    return i
+
+
+def test_a_failing_piece_ends_the_whole_with_its_error(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    with pytest.raises(ValueError, match="piece 2 cannot be made"):
+        list(workers.each(5, _fails_at_two))
+
+
+@pytest.mark.parametrize("given", ["0", "two", "-1", "1.5"])
+def test_jobs_from_the_environment_must_be_a_whole_number(monkeypatch, given):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, given)
+    with pytest.raises(OutputError, match="TEA_JOBS: expected a whole number"):
+        workers.available()
+
+
+def _run(*cmd: str) -> str:
+    return subprocess.run(cmd, check=True, capture_output=True, text=True).stdout
+
+
+@pytest.mark.skipif(not POPPLER, reason="poppler-utils (pdfinfo, pdftotext, pdffonts) not installed")
+def test_comparison_bytes_do_not_depend_on_the_number_of_workers(tmp_path, monkeypatch):
+    loaded = []
+    for path in DEMO_CASES[:2]:
+        case = tea.load_case(path)
+        frame = tea.build_ledger(case)
+        loaded.append((case, frame, tea.summarise(case, frame)))
+    cases, frames, results = (list(x) for x in zip(*loaded))
+    made = {}
+    for jobs in ("1", "2"):
+        monkeypatch.setenv(workers.JOBS_VARIABLE, jobs)
+        report._fit_cache.clear()
+        made[jobs] = report.render_comparison(cases, frames, results, tmp_path / f"jobs{jobs}.pdf")
+    assert made["1"].read_bytes() == made["2"].read_bytes()
+    info = dict(line.split(":", 1) for line in _run("pdfinfo", str(made["2"])).splitlines() if ":" in line)
+    assert info["Pages"].strip() == "3"  # the overview, then one page per case
+    assert info["Title"].strip() == "Comparison of 2 cases"  # the first piece's metadata
+    assert all(r.case_hash in info["Subject"] for r in results)
+    text = _run("pdftotext", str(made["2"]), "-")
+    assert text.index("2 cases side by side") < text.index(cases[0].name) and cases[1].name in text
+    fonts = _run("pdffonts", str(made["2"])).splitlines()[2:]
+    assert fonts and all(line.split()[-5] == "yes" for line in fonts)  # every font embedded
+
+
+def test_join_keeps_the_pages_in_order(tmp_path):
+    from pypdf import PdfReader
+
+    one = pdf.write_pdf(pdf.layout("<title>first</title><p>page one</p>"))
+    two = pdf.write_pdf(pdf.layout("<title>second</title><p>page two</p><p style='break-before: page'>three</p>"))
+    target = tmp_path / "joined.pdf"
+    pdf.join([one, two], target)
+    reader = PdfReader(target)  # pypdf reads the joined file
+    assert [p.extract_text().strip() for p in reader.pages] == ["page one", "page two", "three"]
+    assert reader.metadata["/Title"] == "first"
