@@ -390,3 +390,21 @@ class TestSensitivity:
 
         case = load_case(CASES_DIR / "flood_meadow_willow.toml")  # gives 9.5 t DM/ha
         assert sensitivity.LIGHT_USE not in [m.path for m in sensitivity.moved_inputs(case)]
+
+
+def test_risk_draws_an_estimated_yield_over_the_light_use_range():
+    """With no distributions declared, the yield estimated from climate is drawn over its published range."""
+    import tomllib
+
+    from tea import load_mapping
+    from tea.analysis import risk, sensitivity
+
+    data = tomllib.loads((CASES_DIR / "clay_corner_miscanthus.toml").read_text(encoding="utf-8"))
+    data.pop("risk", None)
+    data.pop("sensitivity", None)
+    case = load_mapping(data, "clay.toml")
+    assert case.origin["yield.mature_t_dm_per_ha"] == "estimated"
+    low, high = sensitivity.light_use_range(case)
+    dist = risk.default_inputs(case)["yield.mature_t_dm_per_ha"]
+    assert (dist["low"], dist["mode"], dist["high"]) == (low, case["yield.mature_t_dm_per_ha"], high)
+    assert high - low > 0.4 * case["yield.mature_t_dm_per_ha"]  # wider than the default +/- 20 %

@@ -160,13 +160,18 @@ def memory_estimate(draws: int, case: Case) -> float:
 
 
 def default_inputs(case: Case) -> dict[str, dict[str, Any]]:
-    """Triangular distributions (low, base, high) over the key inputs' sensitivity ranges."""
+    """Triangular distributions (low, base, high) over the key inputs' sensitivity ranges.
+
+    A mature yield estimated from the site climate is drawn over the estimate's own range (the light-use
+    parameters at the ends of their published ranges) rather than the default share either side.
+    """
     out: dict[str, dict[str, Any]] = {}
     for m in sensitivity.moved_inputs(case):
-        inp, _ = riskspec.resolve(m.path)
+        path = "yield.mature_t_dm_per_ha" if m.path == sensitivity.LIGHT_USE else m.path
+        inp, _ = riskspec.resolve(path)
         if inp is None or inp.integer or not (m.low < m.base < m.high):
             continue  # a whole number (stand life) or a range without a middle is left at its value
-        out[m.path] = {"dist": "triangular", "low": m.low, "mode": m.base, "high": m.high}
+        out[path] = {"dist": "triangular", "low": m.low, "mode": m.base, "high": m.high}
     return out
 
 

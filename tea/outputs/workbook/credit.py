@@ -65,25 +65,17 @@ class CreditWriter(SheetWriter):
             text(ws, 3, 0, f"{self.headline.verdict}. {self.headline.sentence}", st("wrap"))
             ws.set_row(3, 30)
             text(ws, 4, 0, "(the decision in words, as tea wrote it; the figures below are live)", st("keyname"))
-        r = 6
-        head = st("head")
-        text(ws, r, 0, "Key figures", st("group"))
-        r += 1
         per = "Per acre" if case.unit_system == "us_customary" else "Per ha"
-        for c, label in enumerate(("Figure", "Whole field", per, "Unit")):
-            text(ws, r, c, label, head)
-        r += 1
-        for name in KEY_FIGURES:
-            r = self._figure_row(ws, r, self.fig(name))
-        r += 1
-        text(ws, r, 0, "Sources and uses of the establishment money", st("group"))
-        r += 1
-        for c, label in enumerate(("Item", "Whole field", per, "Unit")):
-            text(ws, r, c, label, head)
-        r += 1
-        for name in SOURCES_USES:
-            r = self._figure_row(ws, r, self.fig(name))
-        r += 1
+        r = 6
+        for title, first, names in (("Key figures", "Figure", KEY_FIGURES),
+                                    ("Sources and uses of the establishment money", "Item", SOURCES_USES)):
+            text(ws, r, 0, title, st("group"))
+            for c, label in enumerate((first, "Whole field", per, "Unit")):
+                text(ws, r + 1, c, label, st("head"))
+            r += 2
+            for name in names:
+                r = self._figure_row(ws, r, self.fig(name))
+            r += 1
         if self.lender is not None:
             r = self._lender(ws, r)
         text(ws, r, 0, "Checks failing (see the Checks sheet)", st("label"))
