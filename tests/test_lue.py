@@ -408,3 +408,41 @@ def test_risk_draws_an_estimated_yield_over_the_light_use_range():
     dist = risk.default_inputs(case)["yield.mature_t_dm_per_ha"]
     assert (dist["low"], dist["mode"], dist["high"]) == (low, case["yield.mature_t_dm_per_ha"], high)
     assert high - low > 0.4 * case["yield.mature_t_dm_per_ha"]  # wider than the default +/- 20 %
+
+
+def test_a_screen_estimates_each_field_from_its_own_climate(tmp_path):
+    """Month columns of a field table change that field's site climate; its yield is the estimate a case
+    file with the same climate gets (two routes: the case loader and the field table)."""
+    import csv
+    import tomllib
+
+    from tea import load_mapping, summarise
+
+    clay = CASES_DIR / "clay_corner_miscanthus.toml"
+    table = tmp_path / "fields.csv"
+    table.write_text("field_id,area_ha,radiation_mj_per_m2_per_day_7,temperature_c_6\n"
+                     "F1,5,,\nF2,5,19.5,14.0\n", encoding="utf-8")
+    out = tmp_path / "ranked.csv"
+    result = run_cli(["screen", table, "--case", clay, "--out", out])
+    assert result.code == 0, result.err
+    rows = {r["field_id"]: r for r in csv.DictReader(line for line in out.read_text().splitlines()
+                                                     if not line.startswith("#"))}
+    data = tomllib.loads(clay.read_text(encoding="utf-8"))
+    data["field"]["area_ha"] = 5.0
+    for fid, july, june in (("F1", None, None), ("F2", 19.5, 14.0)):
+        own = copy_case(data)
+        if july is not None:
+            own["site_climate"]["radiation_mj_per_m2_per_day"][6] = july
+            own["site_climate"]["temperature_c"][5] = june
+        res = summarise(load_mapping(own, "own.toml"))
+        assert float(rows[fid]["npv_per_ha"]) == pytest.approx(res["npv"], rel=1e-9), fid
+    assert float(rows["F2"]["npv_per_ha"]) != pytest.approx(float(rows["F1"]["npv_per_ha"]), rel=1e-3)
+
+
+def test_a_screen_refuses_climate_columns_when_the_base_case_gives_its_yield(tmp_path):
+    table = tmp_path / "fields.csv"
+    table.write_text("field_id,area_ha,temperature_c_7\nF1,5,15\n", encoding="utf-8")
+    result = run_cli(["screen", table, "--case", CASES_DIR / "flood_meadow_willow.toml",
+                      "--out", tmp_path / "r.csv"])
+    assert result.code == 2 and "gives its mature yield" in result.err
+    assert len(result.err.strip().splitlines()) == 1

@@ -19,6 +19,8 @@ UTF-8 byte-order mark is accepted.
 
 from __future__ import annotations
 
+import re
+
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, BinaryIO, Iterator
@@ -53,10 +55,11 @@ class Column:
 
     header: str
     index: int
-    kind: str  # "id" | "key" | "label" | "unknown"
+    kind: str  # "id" | "key" | "label" | "month" | "unknown"
     key: schema.Key | None = None
     factor: float = 1.0
     reason: str = ""
+    month: int = 0  # a site-climate column: its month, 1 = January
 
 
 @dataclass
@@ -95,6 +98,10 @@ def _all_spellings() -> dict[str, list[tuple[schema.Key, float]]]:
     return out
 
 
+#: a site-climate column of one month: ``radiation_mj_per_m2_per_day_7`` (July), ``temperature_c_1``
+_MONTH_COLUMN = re.compile(r"(?:site_climate\.)?(radiation_mj_per_m2_per_day|temperature_c|rainfall_mm|pet_mm)_(\d{1,2})")
+
+
 def resolve_column(header: str, index: int) -> Column:
     """What a field-table header names: the id column, a case key (any spelling), or nothing known."""
     from tea.inputs.case import _spelling_index, _suggest
@@ -102,6 +109,13 @@ def resolve_column(header: str, index: int) -> Column:
     name = header.strip()
     if name == ID_COLUMN:
         return Column(header, index, "id")
+    month = _MONTH_COLUMN.fullmatch(name)
+    if month:
+        n = int(month.group(2))
+        path = f"site_climate.{month.group(1)}"
+        if not 1 <= n <= 12:
+            return Column(header, index, "unknown", reason=f"{path} has months 1 to 12, not {n}")
+        return Column(header, index, "month", schema.BY_PATH[path], 1.0, month=n)
     spelled = _spelling_index()
     hit = None
     if "." in name:
@@ -411,6 +425,15 @@ class _Checker:
                 c.kind, c.reason = "unknown", (f"the base case prices by {price_key}; give the price in that key, "
                                                "not in this one")
         self.keys = [c for c in columns if c.kind == "key"]
+        self.months = [c for c in columns if c.kind == "month"]
+        if self.months and case.origin.get("yield.mature_t_dm_per_ha") == "case":
+            problems.append(Problem(source, clip(self.months[0].header, 80),
+                                    "the base case gives its mature yield, so a field's own climate would change "
+                                    "nothing: leave yield.mature_t_dm_per_ha out of the base case to estimate each "
+                                    "field's yield from its climate"))
+        if self.months and "yield.mature_t_dm_per_ha" in {c.key.path for c in self.keys}:
+            problems.append(Problem(source, "yield.mature_t_dm_per_ha", "a column of the mature yield and columns "
+                                    "of the site climate: give one or the other"))
         if problems:
             raise CaseError(problems)
         self.by_path = {c.key.path: c for c in self.keys}
@@ -508,9 +531,55 @@ class _Checker:
                 merged = np.where(np.isfinite(merged) & (np.abs(merged) < 2**53), merged, 0).astype(np.int64)
             values[k.path] = merged
 
+        if self.months:
+            self._climate(values, columns, shown, flag, good, m)
         self._derive(values, given, flag, good.copy(), m)
         self._cross_checks(values, given, flag, good.copy(), m)
         return values, good, bad_rows, shown
+
+    def _climate(self, values, columns, shown, flag, good, m) -> None:
+        """Each field's mature yield estimated from its own site climate (months it leaves empty: the base's)."""
+        import pandas as pd
+
+        from tea.inputs import site
+
+        base = self.case.values
+        own: dict[str, np.ndarray] = {}
+        present_any = np.zeros(m, dtype=bool)
+        for c in self.months:
+            raw = columns[c.index]
+            shown[c.header] = raw
+            present = raw != ""
+            nums = np.array(pd.to_numeric(pd.Series(raw, dtype=object), errors="coerce"), dtype=float)
+            for i in np.flatnonzero(present & ~np.isfinite(nums)):
+                flag(i, c.header, str(raw[i]), _number_reason(str(raw[i])))
+            path = c.key.path
+            if path not in own:
+                start = base.get(path)
+                own[path] = np.tile(np.asarray(start if start is not None else [np.nan] * 12, dtype=float), (m, 1))
+            own[path][:, c.month - 1] = np.where(present & np.isfinite(nums), nums, own[path][:, c.month - 1])
+            present_any |= present
+        yields = np.broadcast_to(np.asarray(values["yield.mature_t_dm_per_ha"], dtype=float), (m,)).copy()
+        for i in np.flatnonzero(present_any & good):
+            row = dict(base)
+            for path, table in own.items():
+                row[path] = table[i].tolist()
+            missing = [p for p in (site.RADIATION, site.TEMPERATURE) if row.get(p) is None
+                       or not np.all(np.isfinite(row[p]))]
+            if missing:
+                flag(i, missing[0], "", f"{missing[0]}: give all 12 months (the base case has no site climate "
+                     "to fill the others)")
+                continue
+            if (row.get(site.RAINFALL) is None) != (row.get(site.PET) is None):
+                flag(i, site.RAINFALL, "", "rainfall_mm and pet_mm go together: give both or neither")
+                continue
+            potential = site.season_for(row).peak_t_per_ha
+            if not potential > 0.0:
+                flag(i, site.TEMPERATURE, "", "this field's site is never warm enough for the crop's season: "
+                     "no yield can be estimated")
+                continue
+            yields[i] = potential
+        values["yield.mature_t_dm_per_ha"] = yields
 
     def _derive(self, values, given, flag, ok, m) -> None:
         """Re-derive, per row, the values the base case looked up from climate, soil and current use.
