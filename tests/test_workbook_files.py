@@ -406,5 +406,6 @@ def test_site_climate_sheet_holds_the_potential_tea_computed(tmp_path, demo):
     pot = potential(case.values, case.origin)
     assert ws["B4"].value == pytest.approx(pot["potential_t_dm_per_ha"], rel=1e-12)
     assert ws["B7"].value == pytest.approx(pot["assumed_share"], rel=1e-12)
-    months = [ws.cell(r, 1).value for r in range(10, 22)]
-    assert months == list(range(1, 13))
+    head = next(r for r in range(1, ws.max_row + 1) if ws.cell(r, 1).value == "Month")
+    assert [ws.cell(r, 1).value for r in range(head + 1, head + 13)] == list(range(1, 13))
+    assert pot["estimated"] and any("this estimate is used" in str(ws.cell(r, 1).value) for r in range(1, head))
