@@ -299,6 +299,12 @@ def test_units_are_shown_once(tmp_path, demo):
         for row in ws.iter_rows():
             for c in row:
                 assert "EUR" not in (c.number_format or ""), (ws.title, c.coordinate, c.number_format)
+    # a share is a percentage in its cell; its unit column does not say % again ("17.72 % %")
+    for title, unit_col, value_cols in (("Summary", 4, (2, 3)), ("Figures", 5, (3,))):
+        ws = wb[title]
+        for r in range(1, ws.max_row + 1):
+            if any("%" in (ws.cell(r, c).number_format or "") for c in value_cols):
+                assert "%" not in str(ws.cell(r, unit_col).value or ""), (title, r)
 
 
 # ----------------------------------------------------------------------------- safety

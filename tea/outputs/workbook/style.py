@@ -2,7 +2,7 @@
 
 The unit of a row is shown once, in its unit column; number formats carry no
 unit (a money cell reads ``2,789.19``, its unit column ``EUR/ha``), so no unit
-is ever shown twice. Shares are shown as percentages and their unit as ``%``.
+is ever shown twice. Shares are shown as percentages, their unit column left empty.
 """
 
 from __future__ import annotations
@@ -74,11 +74,12 @@ def number_format(unit: str) -> str:
 
 
 def unit_shown(unit: str, currency: str, price_unit: str = "t DM") -> str:
-    """A canonical unit as its column shows it: the currency for money, % for shares, nothing for flags."""
+    """A canonical unit as its column shows it: the currency for money; nothing for shares (their cells show
+    %) and flags."""
     if unit == "fraction":
-        return "%"
+        return ""  # the cell's format shows the %
     if unit == "fraction/yr":
-        return "%/yr"
+        return "per year"
     if unit in ("flag", "label", "text"):
         return ""
     return unit.replace("money", currency).replace("price unit", price_unit)
