@@ -105,3 +105,13 @@ BEING_SPLIT: set[str] = set()
 def test_module_is_not_too_long(name):
     lines = MODULES[name].read_text(encoding="utf-8").count("\n")
     assert lines <= MAX_MODULE_LINES, f"{name} has {lines} lines (> {MAX_MODULE_LINES}): split its concerns"
+
+
+def test_every_package_folder_ships_in_the_wheel():
+    """A sub-package missing from pyproject's list is left out of a wheel install (import error there only)."""
+    import tomllib
+
+    root = Path(__file__).resolve().parents[1]
+    listed = set(tomllib.loads((root / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]["packages"])
+    folders = {".".join(p.parent.relative_to(root).parts) for p in (root / "tea").rglob("__init__.py")}
+    assert folders <= listed, sorted(folders - listed)
