@@ -28,6 +28,7 @@ from tea.model import chunks as chunked
 from tea.model import separable as S
 from tea.model.order import components, edges, same_year_order
 from tea.model.methods import METHODS
+from tea.model.linear import scaled_recursion
 from tea.model.slopes import expanded
 
 #: elements of one yearly array of a chunk: 2**19 float64 = 4 MB: most lines are per-row amounts times
@@ -617,6 +618,11 @@ class Plan:
             d = step.defs[0]
             env.values[d.key] = _shape(d, step.fns[0](env), env)
             return
+        if len(step.defs) == 1:
+            scaled = scaled_recursion(self.model, env, step.defs[0], step.fns[0], _Env)
+            if scaled is not None:
+                env.values[step.defs[0].key] = scaled
+                return
         # a recursion whose lines are all zero when their own earlier values are zero (no loan, no
         # working-capital line) is zero in every year: checked over all years at once, member by member
         if all(_all_zero(np.asarray(D(f(env)))) for f in step.zero):
