@@ -17,7 +17,7 @@ from __future__ import annotations
 from tea.model.declare import line, param
 from tea.model.definition.constants import (C_TO_CO2, DOLOMITE_EF, FIRST_ORDER_REACH, KG_PER_T, LIMESTONE_EF,
                                            N2O_N_TO_N2O, UREA_EF, UREA_N)
-from tea.model.expr import I, L, cumsum, exp, lag, lookup, maximum, minimum, mod, or_default, t, total, where
+from tea.model.expr import I, L, at_year, cumsum, exp, lag, lookup, maximum, minimum, mod, or_default, t, total, where
 
 CB = I.carbon
 LIFE = I.finance.stand_life_years
@@ -154,8 +154,8 @@ DEFS = (
          L.stand_year * (t < LIFE) * maximum(L.soc_change_t_c, 0) * C_TO_CO2),
     line("credited_gross_t_co2e", "t CO2e/ha", "carbon", "Removals verified",
          "Removals verified: all eligible removals so far in the first verification year, the year's after it.",
-         where(t == CB.credit_first_year, cumsum(L.credit_eligible_t_co2e),
-               (t > CB.credit_first_year) * L.credit_eligible_t_co2e)),
+         (t == CB.credit_first_year) * cumsum(L.credit_eligible_t_co2e)
+         + (t > CB.credit_first_year) * L.credit_eligible_t_co2e),
     line("credit_buffer_t_co2e", "t CO2e/ha", "carbon", "Held in the buffer",
          "Share of the verified removals held back in the non-permanence buffer.",
          L.credited_gross_t_co2e * CB.credit_buffer_share),
@@ -166,11 +166,11 @@ DEFS = (
          "In the removal year, the verified removals lost when the SOC returns to the current use's level: "
          "the smaller of all verified removals and the SOC gain as CO2.",
          L.removal_year * minimum(total(L.credited_gross_t_co2e),
-                                  maximum(L.soc_t_c - L.soc_start_t_c, 0) * C_TO_CO2)),
+                                  maximum(at_year(L.soc_t_c, LIFE) - L.soc_start_t_c, 0) * C_TO_CO2)),
     line("credit_payback_t_co2e", "t CO2e/ha", "carbon", "Credits paid back",
          "Reversed removals beyond the buffer, paid back in the removal year (none where the buffer bears them).",
-         (CB.credit_reversal == "payback") * maximum(L.credit_reversal_t_co2e - total(L.credit_buffer_t_co2e), 0)
-         * L.removal_year),
+         (CB.credit_reversal == "payback")
+         * maximum(at_year(L.credit_reversal_t_co2e, LIFE) - total(L.credit_buffer_t_co2e), 0) * L.removal_year),
     line("credit_net_t_co2e", "t CO2e/ha", "carbon", "Credits net of payback",
          "Credits issued less credits paid back.", L.credited_t_co2e - L.credit_payback_t_co2e),
 
