@@ -10,8 +10,9 @@ every ledger flow after year 0 does.
 
 DSCR (debt service cover ratio) = cash flow available for debt service / debt
 service, for years with debt service; the cash flow available is the stand's
-net cash flow before financing (the usual definition: cash available over
-principal and interest; 7 CFR § 1744.21, a US federal loan rule, defines it so).
+net cash flow before financing: cash available over principal and interest
+(common practice in project and agricultural lending; the model's own line,
+``cfads``, counts only what the case's ``loan.cfads_*`` switches count).
 In a nominal case the loan is contracted in money of the year while the
 ledger is in today's money: the ledger converts with (1 + inflation)^t.
 """
