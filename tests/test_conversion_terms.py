@@ -14,8 +14,8 @@ from conftest import CASES_DIR
 
 CLAY = CASES_DIR / "clay_corner_miscanthus.toml"
 C_TO_CO2 = 44.0 / 12.0  # stoichiometry
-# IPCC 2006 Vol.4 Ch.11: EF1 0.01 (Table 11.1), Frac_LEACH 0.30 (wet), EF5 0.0075 (Table 11.3; weak
-# transcriptions); GWP100 N2O 273 (AR6 WG1 Table 7.15); 44/28 stoichiometry
+# IPCC 2006 Vol.4 Ch.11: EF1 0.01 (Table 11.1), Frac_LEACH 0.30 (wet), EF5 0.0075 (Table 11.3);
+# GWP100 N2O 273 (IPCC AR6 WG1 Ch.7 Table 7.15); 44/28 stoichiometry
 N2O_PER_KG_N = (0.01 + 0.30 * 0.0075) * 44 / 28 * 273.0 / 1000
 
 

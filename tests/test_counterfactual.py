@@ -13,7 +13,7 @@ from conftest import CASES_DIR, DEMO_CASES
 CLAY = CASES_DIR / "clay_corner_miscanthus.toml"
 
 # IPCC 2006 Vol.4 Ch.11 Table 11.1 EF1 = 0.01; Table 11.3 Frac_GASF = 0.10, EF4 = 0.01, Frac_LEACH = 0.30 (wet
-# climates), EF5 = 0.0075 (weak: several independent transcriptions, see tea/inputs/data/ipcc.toml);
+# climates), EF5 = 0.0075;
 # N2O-N to N2O 44/28 (stoichiometry); GWP100 of N2O 273 (IPCC AR6 WG1 Ch.7 Table 7.15)
 EF1, FRAC_GASF, EF4, FRAC_LEACH, EF5 = 0.01, 0.10, 0.01, 0.30, 0.0075
 GWP_N2O_AR6 = 273.0
