@@ -63,7 +63,7 @@ def _check_ledger(case: Case, ledger) -> None:
 
 
 def _case_sheets(wb, st: Styles, case: Case, layout: CaseLayout, sensitivity: bool | None,
-                 risk: bool | None) -> dict:
+                 risk: bool | None, results: Results | None = None) -> dict:
     from tea.analysis.lender import lender_cases
     from tea.model.results import summarise
     from tea.outputs.headline import headline
@@ -80,7 +80,8 @@ def _case_sheets(wb, st: Styles, case: Case, layout: CaseLayout, sensitivity: bo
         from tea.analysis import risk as risk_mod
 
         risk_res = risk_mod.run(case, progress=False)
-    w = CreditWriter(wb, st, case, layout, values, renderer, headline=headline(case, summarise(case)),
+    w = CreditWriter(wb, st, case, layout, values, renderer, headline=headline(case, results if results is not None and results.case_hash == case.hash
+                                          else summarise(case)),
                      lender=lender_cases(case), sensitivity=sens, risk=risk_res)
     # the checks are built first (the summary counts their failures) but shown after the model sheets
     summary_first = wb.add_worksheet(layout.title("Summary"))
@@ -122,7 +123,7 @@ def workbook_bytes(case: Case, ledger=None, results: Results | None = None, sens
     _check_ledger(case, ledger)
     buf = io.BytesIO()
     wb = _new_book(buf, case.name, f"{case['field.name']}: stand-life economics, debt and carbon", [case])
-    _case_sheets(wb, Styles(wb), case, CaseLayout(case, MODEL), sensitivity, risk)
+    _case_sheets(wb, Styles(wb), case, CaseLayout(case, MODEL), sensitivity, risk, results)
     wb.close()
     return buf.getvalue()
 
@@ -174,7 +175,8 @@ def portfolio_bytes(cases: Sequence[Case], ledgers: Sequence | None = None,
                    cases)
     st = Styles(wb)
     first = wb.add_worksheet("Side by side")
-    values = [_case_sheets(wb, st, case, lay, sensitivity, risk) for case, lay in zip(cases, layouts)]
+    values = [_case_sheets(wb, st, case, lay, sensitivity, risk, res)
+              for case, lay, res in zip(cases, layouts, results or [None] * len(cases))]
     comparison(first, st, cases, layouts, values)
     first.activate()
     wb.close()

@@ -13,6 +13,7 @@ from typing import Any, Sequence
 
 from tea import __version__
 from tea.core.texts import CAUTIONS
+from tea.inputs import display
 from tea.inputs.case import Case
 from tea.model.declare import Def
 from tea.outputs.workbook.layout import (CHECKS, CLIMATE, FIG_FIELD_COL, FIG_VALUE_COL, FIGURES, NOTES, RISK, SENSITIVITY,
@@ -45,6 +46,7 @@ class CreditWriter(SheetWriter):
         super().__init__(*args)
         self.headline, self.lender, self.sens, self.risk = headline, lender, sensitivity, risk
         self.checks_count_cell: str | None = None
+        self.tolerance_cell: str | None = None  # the Checks sheet's tolerance, read by other sheets
 
     def fig(self, name: str) -> Def:
         return self.lay.model.figure(name)
@@ -111,8 +113,8 @@ class CreditWriter(SheetWriter):
         text(ws, r, 0, d.label, st("label"))
         v = cached(self.values[d.key])
         whole_unit = whole_field_unit(d.unit)
-        f_per, unit = _factor(d.unit, case.unit_system)
-        f_whole, whole_shown = _factor(whole_unit, case.unit_system)
+        f_per, unit = display.convert(1.0, d.unit, case.unit_system)
+        f_whole, whole_shown = display.convert(1.0, whole_unit, case.unit_system)
         if d.scales:
             whole = lay.ref(FIGURES, lay.fig_row[d.key], FIG_FIELD_COL)
             wv = v * case["field.area_ha"] * f_whole if isinstance(v, float) else v
@@ -200,6 +202,7 @@ class CreditWriter(SheetWriter):
         text(ws, 2, 0, "Relative tolerance of the comparisons", st("label"))
         ws.write_number(2, 1, CHECK_TOLERANCE, st("input", "0.0E+00"))
         tol = xl(2, 1)
+        self.tolerance_cell = xl(2, 1, sheet=title)
         head = st("head")
         for c, label in enumerate(("Check", "Value", "Expected", "Upper bound", "Status", "What it means")):
             text(ws, 4, c, label, head)
@@ -326,7 +329,7 @@ class CreditWriter(SheetWriter):
         base = float(table.attrs["base_npv"])
         ws.write_formula(2, 1, f"={npv}", st("key", number_format("money/ha")), base)
         ws.write_number(2, 2, base, st("value", number_format("money/ha")))
-        ws.write_formula(2, 3, f'=IF(ABS(B3-C3)<={CHECK_TOLERANCE}*MAX(1,ABS(C3)),"matches the inputs",'
+        ws.write_formula(2, 3, f'=IF(ABS(B3-C3)<={self.tolerance_cell}*MAX(1,ABS(C3)),"matches the inputs",'
                                f'"INPUTS EDITED: run tea sensitivity again")', st("flag"), "matches the inputs")
         cols = ["Rank", "Input", "Label", "Unit", "Base", "Low", "High", "Range"]
         for fig in SENS_FIGURES:
@@ -530,14 +533,6 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     ws.set_landscape()
     ws.fit_to_pages(1, 0)
     ws.repeat_rows(3)
-
-
-def _factor(unit: str, system: str) -> tuple[float, str]:
-    """The factor from a canonical unit to the unit system's, and that unit."""
-    from tea.inputs import display
-
-    f, shown = display.convert(1.0, unit, system)
-    return f, shown
 
 
 def _nan(v: Any) -> bool:

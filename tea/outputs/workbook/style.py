@@ -13,7 +13,7 @@ from typing import Any
 PALETTE = {
     "input_fill": "#F3E6C4", "input_font": "#5A3E0B", "input_border": "#B8893A",
     "head_fill": "#2F4F3A", "head_font": "#FFFFFF", "sub_font": "#5B6B61", "computed_font": "#1F2933",
-    "key_fill": "#EAF2EC", "flag_font": "#B3261E", "flag_fill": "#F9DEDC", "good_fill": "#DDEEDD",
+    "key_fill": "#EAF2EC", "flag_font": "#B3261E", "flag_fill": "#F9DEDC",
     "group_line": "#2F4F3A", "series": ("#2F4F3A", "#B8893A", "#6B8F71"),
 }
 
@@ -48,7 +48,6 @@ class Styles:
         self._made: dict[tuple[str, str], Any] = {}
         self.flag_fmt = workbook.add_format({"bold": True, "font_color": PALETTE["flag_font"],
                                              "bg_color": PALETTE["flag_fill"]})
-        self.good_fmt = workbook.add_format({"bg_color": PALETTE["good_fill"]})
 
     def __call__(self, role: str, num: str = "General"):
         key = (role, num)
