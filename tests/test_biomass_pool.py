@@ -15,7 +15,8 @@ CLAY = CASES_DIR / "clay_corner_miscanthus.toml"
 
 
 def test_pool_builds_up_and_is_lost_at_removal():
-    # hand: 20 t DM/ha x 0.47 t C/t DM = 9.4 t C at maturity; with no failure the pool follows the ramp-up
+    # hand: 20 t DM/ha x 0.47 t C/t DM (IPCC 2006 Vol.4 Ch.6 default carbon fraction; from memory) = 9.4 t C
+    # at maturity (44/12: stoichiometry); with no failure the pool follows the ramp-up
     # [0, 0.4, 0.8, 1, ...] and is gone in the removal year 20: CO2 lines -9.4 x 44/12 x ramp steps, then
     # +9.4 x 44/12 in year 20; over the stand life they sum to 0
     case = load_case(CLAY).replace(**{"carbon.stand_biomass_t_dm_per_ha": 20.0,

@@ -20,7 +20,8 @@ N2O_PER_KG_N = (0.01 + 0.30 * 0.0075) * 44 / 28 * 273.0 / 1000
 
 
 def test_prior_biomass_eq_2_16_by_hand():
-    # Eq. 2.16, B_after = 0 at planting: 10 t DM/ha x 0.47 t C/t DM x 44/12 = 17.233 t CO2e, in year 0 only
+    # Eq. 2.16, B_after = 0 at planting: 10 t DM/ha x 0.47 t C/t DM (IPCC 2006 Vol.4 Ch.6 default carbon
+    # fraction; from memory) x 44/12 (stoichiometry) = 17.233 t CO2e, in year 0 only
     case = load_case(CLAY).replace(**{"carbon.prior_biomass_t_dm_per_ha": 10.0,
                                       "carbon.biomass_carbon_fraction": 0.47})
     line = tea.build_ledger(case)["ghg_prior_biomass_t_co2e"].to_numpy()
@@ -38,7 +39,8 @@ def test_grassland_prior_biomass_is_looked_up():
 
 def test_n_mineralised_eq_11_8_by_hand():
     # improved grassland (F_MG 1.14, Table 6.2) under a grass stand counted as nominal grassland (1.0): SOC falls
-    # 95 x 0.14 / 20 t C/ha a year; Eq. 11.8: N = that x 1000 / 15 (C:N of land-use change); N2O by Eq. 11.1 and
+    # 95 x 0.14 / 20 t C/ha a year (SOC_ref 95 t C/ha: IPCC 2006 Vol.4 Ch.2 Table 2.3, cool temperate moist,
+    # high-activity clay; linear over the default D = 20 years); Eq. 11.8: N = that x 1000 / 15 (C:N of land-use change); N2O by Eq. 11.1 and
     # 11.10 as above (hand calculation)
     case = load_case(CLAY).replace(**{"field.current_use": "grassland_improved", "carbon.gwp": "AR6",
                                       "carbon.n2o_method": "ipcc2006", "carbon.soc_c_to_n": 15.0})
@@ -62,7 +64,8 @@ def test_reversion_counts_the_n2o_of_the_soc_it_loses():
 
 def test_lime_and_urea_eq_11_12_11_13_by_hand():
     # Eq. 11.12: 2 t limestone x 0.12 + 1 t dolomite x 0.13 t C, x 44/12 (IPCC defaults, to their printed two
-    # decimals); Eq. 11.13: urea = N / (28.014/60.056), x 0.20 t C/t
+    # decimals); Eq. 11.13: urea = N / (28.014/60.056) (molar masses of N2 and
+    # CO(NH2)2, IUPAC standard atomic weights), x 0.20 t C/t urea (IPCC 2006 Vol.4 Ch.11 Eq. 11.13)
     text = CLAY.read_text(encoding="utf-8") + """
 [[operations]]
 name = "lime"

@@ -23,7 +23,7 @@ def _variant(interval, life, final=True, first=None):
         "harvest.final_harvest_at_removal": final, "loan.share_of_establishment": 0.0})
 
 
-@pytest.mark.parametrize("interval", [2, 3, 4, 5])  # Forest Research (UK): harvest cycles of 2-5 years
+@pytest.mark.parametrize("interval", [2, 3, 4, 5])  # harvest cycles of 2-5 years (from memory: UK forestry guidance)
 @pytest.mark.parametrize("life", range(10, 31))
 def test_harvests_take_all_growth_after_the_cut_back(interval, life):
     # mass balance: every t of dry matter grown after the cut-back year is cut exactly once (final harvest on)

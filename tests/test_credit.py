@@ -134,7 +134,8 @@ class TestGrantAndWorkingCapital:
 class TestTax:
     def test_losses_carried_forward_by_hand(self):
         case, f, res = run(CLAY, **{"tax.rate": 0.25, "tax.establishment": "expensed"})
-        # hand-worked: result = receipts - costs; a loss is carried forward and set against later profits
+        # hand-worked (common practice): result = receipts - costs; a loss is carried forward and set against
+        # later profits
         pool, expected = 0.0, []
         for t in range(len(f)):
             result = f.loc[t, "total_revenue"] - f.loc[t, "total_cost"]

@@ -32,8 +32,8 @@ def _timing(case, timing):
 
 class TestDirection:
     def test_late_winter_ahead_of_autumn_on_the_demo(self):
-        # the requirement: with the preset and the demo prices, a late-winter harvest of a rhizome grass
-        # earns more than an autumn one (common practice for combustion fuel)
+        # common practice for combustion fuel: a late-winter harvest of a rhizome grass earns more than an
+        # autumn one (checked here with the preset and the demo's prices)
         case = load_case(CLAY)
         late = tea.summarise(_timing(case, "late_winter"))["npv"]
         autumn = tea.summarise(_timing(case, "autumn"))["npv"]
@@ -44,11 +44,13 @@ class TestDirection:
         # al. 1997) lies within 10 % of it
         case = load_case(CLAY)
         retention = 1 - case["harvest.overwinter_dm_loss"]
+        # within 10 % (from memory: the year-to-year spread of overwinter losses in such trials)
         assert abs(retention / (LEWIN_BROWN_T_DM / LEWIN_GREEN_T_DM) - 1) < 0.10
 
     def test_trial_yields_and_contents_favour_late_winter(self):
         # The trial's own figures as inputs: green 19.9 / brown 13.2 t DM/ha (Lewin et al. 2024), N and K
-        # contents August / spring (Magenau et al. 2022), autumn moisture 50 % against 20 % in late winter
+        # contents August / spring (Magenau et al. 2022), autumn moisture 50 % (preset, from memory: green stems
+        # 50-60 % wet basis) against 20 % in late winter
         # (Defra PB5421: below 20 % at a late harvest). With every nutrient replaced and the demo's drying cost,
         # the late-winter harvest nets more over the stand life.
         case = load_case(CLAY).replace(**{

@@ -74,7 +74,8 @@ def test_diesel_and_n_reach_the_ghg_lines():
     expected[[5, 10, 15]] = 10.0
     assert_allclose(dn, expected, atol=1e-12)
     # direct N2O: EF1 0.01 (IPCC 2006 Table 11.1) x 44/28 x GWP100 of the case
-    gwp = {"AR4": 298.0, "AR5": 265.0, "AR6": 273.0}[ops["carbon.gwp"]]  # IPCC WG1 reports
+    gwp = {"AR4": 298.0, "AR5": 265.0, "AR6": 273.0}[ops["carbon.gwp"]]
+    # GWP100 of N2O: AR4 WG1 Ch.2 Table 2.14; AR5 WG1 Ch.8 Table 8.7; AR6 WG1 Ch.7 Table 7.15
     assert_allclose((b["ghg_n2o_direct_t_co2e"] - a["ghg_n2o_direct_t_co2e"]).to_numpy()[5],
                     10.0 * 0.01 * 44 / 28 * gwp / 1000, rtol=1e-12)
 

@@ -76,7 +76,8 @@ class TestPaths:
 
     @pytest.mark.parametrize("years", [10, 20, 40])
     def test_first_order_takes_its_rate_from_the_transition(self, years):
-        # first-order decay, hand calculation: k = ln(20) / D leaves exp(-ln 20) = 5 % of the change after D years
+        # first-order decay, hand calculation (common practice: the path has made 95 % of the change after the
+        # transition period D): k = ln(20) / D leaves exp(-ln 20) = 5 % of the change after D years
         case = load_case(CLAY).replace(**{"carbon.soc_method": "first_order", "carbon.transition_years": years,
                                           "finance.stand_life_years": 45})
         soc = tea.build_ledger(case)["soc_t_c"]
@@ -108,10 +109,12 @@ class TestPublishedRange:
         rate = res["soc_gain_t_c"] / years
         assert PUBLISHED_NET_LOW <= rate <= PUBLISHED_GROSS_HIGH
 
-    def test_old_perennial_crop_mapping_was_above_the_measurements(self):
-        # the perennial/tree-crop factor (1.0) for the grass gave 95 x (1 - 0.69) / 20 = 1.47 t C/ha/yr: above
-        # the gross C4 input measured by Poeplau & Don 2014
-        rate = 95 * (1.0 - CULTIVATED["moist"]) / 20
+    def test_perennial_crop_factor_for_a_grass_exceeds_the_measurements(self):
+        # IPCC 2006 Table 5.5 perennial/tree-crop F_LU 1.0 for the grass: 95 x (1 - 0.69) / 20 = 1.47 t C/ha/yr,
+        # above the gross C4 input measured by Poeplau & Don 2014: why grasses take the set-aside factor
+        case = load_case(CASES_DIR / "clay_corner_miscanthus.toml").replace(**{"carbon.crop_f_lu": 1.0})
+        rate = tea.summarise(case)["soc_gain_t_c"] / case["carbon.transition_years"]
+        assert rate == pytest.approx(95 * (1.0 - CULTIVATED["moist"]) / 20, rel=1e-9)
         assert rate > PUBLISHED_GROSS_HIGH
 
 

@@ -285,6 +285,7 @@ def test_sheets_print_setup_and_properties(tmp_path, demo):
     assert tea.__version__ in " ".join(notes) and case.hash in notes
     for caution in tea.core.texts.CAUTIONS:
         assert caution in notes
+    # DSCR is defined as lending practice, not by a regulation made for other loans
     assert not any("telephone" in n.lower() or "rural utilities" in n.lower() for n in notes)
     with zipfile.ZipFile(path) as zf:
         charts = [zf.read(n).decode() for n in zf.namelist() if n.startswith("xl/charts/chart")]
@@ -388,7 +389,7 @@ def test_write_portfolio_checks_the_target(tmp_path, demo):
         write_portfolio([c for c, _, _ in items], [f for _, f, _ in items], [r for *_, r in items], path)
 
 
-# ----------------------------------------------------------------------------- the engine helper
+# ----------------------------------------------------------------------------- the spreadsheet engine's presence
 def test_a_missing_spreadsheet_engine_fails_in_ci_and_skips_loudly_elsewhere(monkeypatch):
     import spreadsheet_engine as engine
 
