@@ -460,6 +460,60 @@ def test_a_sixty_year_stand_still_fits_one_page(tmp_path, demo_mappings):
     assert "60" in text and _squash(display.money(float(frame["cumulative_cash_flow"].iloc[-1]), digits=0)) in text
 
 
+@pytest.mark.parametrize("size", ["A4", "Letter"])
+@pytest.mark.parametrize("tornado", [False, True], ids=["plain", "tornado"])
+def test_each_demo_page_is_laid_out_once_at_the_least_dense_layout_that_fits(size, tornado, monkeypatch):
+    """WeasyPrint's own layout is the judge: the density the fit returns gives one sheet and the next less
+    dense one (laid out here) does not, and the expected start was right, so the fit laid the page out once."""
+    from tea.outputs import pdf
+    from tea.outputs.page import CHART_SCALE, TYPE_PT, CasePage
+    from tea.outputs.whatmoves import SensitivityViews
+
+    sheets = report._stylesheets()
+    for path in DEMO_CASES:
+        case, frame, res = _load(path)
+        page = CasePage(case, frame, res, "case-0", SensitivityViews(case, tornado, "case-0"))
+        meta = report._meta([case], [res])
+
+        def html_at(d: int) -> str:
+            return report._render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
+                                  page_label="", generator="test")
+
+        made = []
+        layout = pdf.layout
+        monkeypatch.setattr(pdf, "layout", lambda *a, **k: made.append(1) or layout(*a, **k))
+        density, doc = pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT,
+                               CHART_SCALE, sheets, floor=page.first_density)
+        monkeypatch.setattr(pdf, "layout", layout)
+        assert len(doc.pages) == 1, (path, density)
+        if density > page.first_density:
+            assert len(pdf.layout(html_at(density - 1), sheets).pages) > 1, (path, density)
+        assert len(made) == 1, (path, size, tornado, density)
+
+
+def test_the_fit_tries_a_less_dense_layout_the_measure_allows(monkeypatch):
+    """A page that fits where the search starts, but whose measure says a less dense layout might too: that one
+    is laid out, and where it runs over, the search goes up again no further than the layout known to fit."""
+    from types import SimpleNamespace
+
+    from tea.outputs import pdf
+    from tea.outputs.page import CHART_SCALE, TYPE_PT
+
+    pages = {0: 2, 1: 2, 2: 1, 3: 1}  # sheets each density takes
+    heights = {0: 1100.0, 1: 1040.0, 2: 990.0, 3: 880.0}
+    monkeypatch.setattr(pdf, "layout", lambda html, *a, **k: SimpleNamespace(pages=[None] * pages[int(html)],
+                                                                           density=int(html)))
+    monkeypatch.setattr(pdf, "measure", lambda doc, anchor: pdf.Measure(pages[doc.density], heights[doc.density],
+                                                                        150.0, 1032.0))
+    made = []
+    density, _ = pdf.fit(lambda d: made.append(d) or str(d), "a", 3, 4, TYPE_PT, CHART_SCALE, floor=0)
+    assert density == 2
+    assert made == [3, 1, 2]  # from 880 px at 3, the page might fit at 1 (not at 0); 1 runs over
+    made.clear()
+    assert pdf.fit(lambda d: made.append(d) or str(d), "a", 0, 4, TYPE_PT, CHART_SCALE)[0] == 2
+    assert made[0] == 0 and made[-1] == 2
+
+
 def test_sensitivity_block_is_shown_only_when_given(tmp_path):
     from matplotlib.figure import Figure
 

@@ -21,7 +21,7 @@ from tea.core.texts import CAUTIONS
 from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.inputs import display
-from tea.outputs import charts, terminal
+from tea.outputs import charts, pdf, terminal
 from tea.outputs.yield_text import page_line
 from tea.outputs.advice import crop_name, grower_warnings, non_native_caution, source_text
 from tea.outputs.headline import headline
@@ -36,6 +36,15 @@ TYPE_PT = (7.6, 7.2, 6.8, 6.4, 6.0, 6.0)
 CHART_SCALE = (1.0, 0.92, 0.84, 0.76, 0.70, 0.66)
 #: yearly rows shown in full before runs of identical years are condensed
 MAX_TABLE_ROWS = 24
+#: a page's expected height at density 0 [CSS px]: its three charts, the rest less the yearly table, one yearly
+#: row, and a tornado chart's block and bar. Measured on the demo pages laid out with templates/report.css; they
+#: set only where the search for a page's density starts, the layout decides (tea.outputs.pdf.fit)
+CHARTS_PX, TEXT_PX, ROW_PX, TORNADO_PX, BAR_PX = 159.0, 702.5, 7.5, 92.0, 14.0
+#: bars of a tornado chart handed in ready-made, for the estimate
+GIVEN_BARS = 10
+#: width and height of each paper size [mm] (ISO 216; ANSI/ASME Y14.1), and the page's margins across and down
+#: (templates/base.html.j2, @page): the charts scale with the width between the margins
+PAPER_MM, MARGINS_MM = {"A4": (210.0, 297.0), "Letter": (215.9, 279.4)}, (12.0 + 12.0, 11.0 + 13.0)
 MINUS = "\u2212"
 
 
@@ -411,6 +420,21 @@ class CasePage:
         case gives the same page in any process.
         """
         return 0 if len(self.chunks) == 1 else 2
+
+    def start_density(self, page_size: str) -> int:
+        """Where the search for the page's density starts: the least dense from :attr:`first_density` at which
+        a page of this many yearly rows (in its taller block) and tornado bars is expected to fit the sheet."""
+        rows = max(len(c) for c in self.chunks)
+        bars = 0 if self.sensitivity is None else self.sensitivity.bars
+        (width, tall), (across, down) = PAPER_MM[page_size], MARGINS_MM
+        wider = (width - across) / (PAPER_MM["A4"][0] - across)
+        fixed = (CHARTS_PX + (TORNADO_PX + BAR_PX * bars if bars else 0.0)) * wider
+        height = fixed + TEXT_PX + ROW_PX * rows
+        room = (tall - down) * pdf.PX_PER_IN / 25.4
+        if height <= room:
+            return self.first_density
+        expected = pdf.choose(pdf.Measure(0, height, fixed, room), 0, TYPE_PT, CHART_SCALE, MAX_DENSITY, fill=1.0)
+        return max(self.first_density, expected)
 
     @property
     def last_density(self) -> int:

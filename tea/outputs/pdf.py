@@ -1,10 +1,12 @@
 """Laying HTML out as pages and writing PDF, with WeasyPrint (an HTML-to-PDF engine).
 
 A case's page must fit one sheet. :func:`fit` lays the page out once at the
-density its content suggests; if it runs over, it measures by how much (the
-height of the content against the room on the sheet, from anchors placed in
-the page) and lays it out once more at the density that measure calls for.
-Only when that estimate falls short does it step on, one density at a time.
+density its content suggests and measures it (the height of the content
+against the room on the sheet, from anchors placed in the page). If it fits
+and the measure shows that the next less dense layout could not, that one
+layout is the page. If it runs over, or a less dense layout might fit, it
+lays the page out once more at the density the measure calls for, and steps
+on one density at a time only when that estimate falls short.
 
 * The page refers to nothing outside itself: the engine's URL fetcher refuses
   every URL except ``data:`` (the charts, embedded in the page).
@@ -31,6 +33,9 @@ FILL = 0.98
 #: text height goes as the type size to this power: smaller type also wraps into fewer lines (1.1 to 1.6
 #: measured on the demo pages between densities; near the lower end, so that the chosen density fits)
 TEXT_EXPONENT = 1.25
+#: the least power the text height is taken to go with the type size (below the least measured, 1.1): a less
+#: dense layout whose text would be too tall even so is not tried
+LEAST_TEXT_EXPONENT = 1.0
 #: font subsets are stamped with this time [s since 1970] unless SOURCE_DATE_EPOCH is set:
 #: the font subsetter otherwise writes the current time into each embedded font
 FONT_EPOCH = "0"
@@ -236,8 +241,9 @@ def measure(doc, anchor: str) -> Measure:
     return Measure(k1 - k0 + 1, height, max(0.0, fixed), room)
 
 
-def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: Sequence[float], last: int) -> int:
-    """The lowest density above ``current`` whose estimated height fills at most :data:`FILL` of the sheet.
+def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: Sequence[float], last: int,
+           fill: float = FILL) -> int:
+    """The lowest density above ``current`` whose estimated height fills at most ``fill`` of the sheet.
 
     The charts scale with ``chart_scale[d]``; the text with the type size
     ``type_scale[d]`` to the power :data:`TEXT_EXPONENT` (smaller type also
@@ -247,21 +253,48 @@ def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: S
     text = m.height - m.fixed
     for d in range(current + 1, min(last, len(type_scale) - 1) + 1):
         fixed = m.fixed * chart_scale[d] / chart_scale[current]
-        if fixed + text * (type_scale[d] / type_scale[current]) ** TEXT_EXPONENT <= FILL * m.room:
+        if fixed + text * (type_scale[d] / type_scale[current]) ** TEXT_EXPONENT <= fill * m.room:
             return d
     return last
 
 
-def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_scale: Sequence[float],
-        chart_scale: Sequence[float], stylesheets: Sequence[Any] = ()) -> tuple[int, Any]:
-    """The first density (from ``start``) at which the page fits one sheet, and its layout.
+def could_fit(m: Measure, current: int, floor: int, type_scale: Sequence[float],
+              chart_scale: Sequence[float]) -> int:
+    """The lowest density from ``floor`` up to ``current`` at which the page measured at ``current`` might
+    fit: its charts scaled exactly, its text grown by the type size to the power
+    :data:`LEAST_TEXT_EXPONENT` (the least it can grow). ``current`` when no less dense layout can fit."""
+    text = m.height - m.fixed
+    for d in range(max(floor, 0), current):
+        fixed = m.fixed * chart_scale[d] / chart_scale[current]
+        if fixed + text * (type_scale[d] / type_scale[current]) ** LEAST_TEXT_EXPONENT <= m.room:
+            return d
+    return current
 
-    One layout when the page fits at ``start``; else one measure, one
-    estimate and one more layout, stepping on only if the estimate fell short.
+
+def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_scale: Sequence[float],
+        chart_scale: Sequence[float], stylesheets: Sequence[Any] = (), floor: int | None = None) -> tuple[int, Any]:
+    """The density at which the page fits one sheet, and its layout: the least dense from ``floor`` that
+    fits, as far as the measures of the layouts made tell.
+
+    The search starts at ``start`` (the density the page's content suggests;
+    ``floor``, the least dense allowed, defaults to it). One layout when the
+    page fits there and a less dense one cannot; else one measure, one
+    estimate and one more layout, stepping on only if the estimate fell
+    short. The same page gives the same density in any process.
     """
+    floor = start if floor is None else min(floor, start)
     density, images = start, {}
     doc = layout(html_at(density), stylesheets, images)
-    if len(doc.pages) == 1 or density >= last:
+    if len(doc.pages) == 1:
+        fits, fitting = density, doc  # the densest layout known to fit
+        density = could_fit(measure(doc, anchor), density, floor, type_scale, chart_scale)
+        while density < fits:
+            doc = layout(html_at(density), stylesheets, images)
+            if len(doc.pages) == 1:
+                return density, doc
+            density = min(choose(measure(doc, anchor), density, type_scale, chart_scale, last), fits)
+        return fits, fitting
+    if density >= last:
         return _checked(density, doc)
     density = choose(measure(doc, anchor), density, type_scale, chart_scale, last)
     while True:

@@ -118,8 +118,8 @@ def render_summary(
     key = ("summary", case.hash, case.source, size, views.key)
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
         return atomic_write_text(path, html_at(_fit_cache[key], False), force=True)
-    density, doc = pdf.fit(lambda d: html_at(d, True), page.anchor, page.first_density, page.last_density, TYPE_PT,
-                           CHART_SCALE, _stylesheets())
+    density, doc = pdf.fit(lambda d: html_at(d, True), page.anchor, page.start_density(size), page.last_density,
+                           TYPE_PT, CHART_SCALE, _stylesheets(), floor=page.first_density)
     _remember(key, density)
     if kind == "html":
         return atomic_write_text(path, html_at(density, False), force=True)
@@ -188,8 +188,8 @@ def render_comparison(
                 return _render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
                                page_label=label, generator=f"tea {__version__}")
 
-            density, doc = pdf.fit(html_at, page.anchor, page.first_density, page.last_density, TYPE_PT,
-                                   CHART_SCALE, _stylesheets())
+            density, doc = pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT,
+                                   CHART_SCALE, _stylesheets(), floor=page.first_density)
         return density, (pdf.write_pdf(doc) if kind == "pdf" else None)
 
     pdf.prepare()  # the engine's start-up paid once, before the pieces are shared out to workers

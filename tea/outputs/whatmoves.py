@@ -13,7 +13,7 @@ from typing import Any
 from tea.inputs.case import Case
 from tea.inputs import display
 from tea.outputs import charts
-from tea.outputs.page import BESIDE, chart_view, per_area, print_minus
+from tea.outputs.page import BESIDE, GIVEN_BARS, chart_view, per_area, print_minus
 
 
 #: the figures a tornado chart can show: name on the chart, and whether it is a yearly amount
@@ -70,6 +70,8 @@ class SensitivityViews:
         self.key = self.chart.svg if self.chart is not None else ("tornado" if self.run is not None else None)
         #: whether the block can move beside the yearly table (a tornado chart drawn here)
         self.movable = self.run is not None
+        #: bars of the tornado chart (0: no block), for the page's expected height
+        self.bars = len(self.run.order("npv")) if self.run is not None else (GIVEN_BARS if self.chart else 0)
         self._views: dict[tuple[bool, bool], dict[str, Any]] = {}
 
     def view(self, density: int, split: bool) -> dict[str, Any] | None:
