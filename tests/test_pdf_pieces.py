@@ -59,6 +59,35 @@ def test_a_failing_piece_ends_the_whole_with_its_error(monkeypatch):
         list(workers.each(5, _fails_at_two))
 
 
+def test_work_made_meanwhile_comes_from_a_worker_while_this_process_goes_on(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    with workers.meanwhile(lambda: _square_and_pid(7)) as result:
+        here = os.getpid()  # this process goes on; the result is asked for afterwards
+        value, pid = result()
+    assert value == 49 and pid != here  # os.getpid: made in another process
+
+
+def test_work_made_meanwhile_with_one_job_is_made_here_and_its_error_comes_back(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "1")
+    with workers.meanwhile(lambda: _square_and_pid(3)) as result:
+        assert result() == (9, os.getpid())
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    with pytest.raises(ValueError, match="piece 2 cannot be made"):
+        with workers.meanwhile(lambda: _fails_at_two(2)) as result:
+            result()
+
+
+def test_a_page_is_the_same_whether_its_charts_are_drawn_in_a_worker_or_here(tmp_path, monkeypatch):
+    case = tea.load_case(DEMO_CASES[0])
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    made = {}
+    for jobs in ("1", "2"):
+        monkeypatch.setenv(workers.JOBS_VARIABLE, jobs)
+        made[jobs] = report.render_summary(case, frame, res, tmp_path / f"p{jobs}.pdf").read_bytes()
+    assert made["1"] == made["2"]
+
+
 @pytest.mark.parametrize("given", ["0", "two", "-1", "1.5"])
 def test_jobs_from_the_environment_must_be_a_whole_number(monkeypatch, given):
     monkeypatch.setenv(workers.JOBS_VARIABLE, given)

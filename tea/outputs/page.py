@@ -372,10 +372,12 @@ class CasePage:
     """One case's page, built once: the figures, tables and charts; :meth:`at` sets the density.
 
     ``sensitivity`` gives the tornado block per layout step (see
-    :class:`tea.outputs.whatmoves.SensitivityViews`), or None.
+    :class:`tea.outputs.whatmoves.SensitivityViews`), or None; ``drawn``, the
+    page's charts (:func:`page_charts`) when they were drawn already.
     """
 
-    def __init__(self, case: Case, frame: pd.DataFrame, res: Results, anchor: str, sensitivity=None):
+    def __init__(self, case: Case, frame: pd.DataFrame, res: Results, anchor: str, sensitivity=None,
+                 drawn: list[charts.Chart] | None = None):
         self.case, self.anchor, self.sensitivity = case, anchor, sensitivity
         per = per_area(case)
         area_v, area_u = display.area(case.area_ha, case.unit_system)
@@ -398,7 +400,7 @@ class CasePage:
                       f"discount rate {rate_text(res)} · stand life {case.stand_life} years"),
             "tiles": _tiles(case, res),
             "loan": _loan_line(case, res),
-            "charts": [chart_view(c) for c in page_charts(case, frame, res, anchor)],
+            "charts": [chart_view(c) for c in (drawn if drawn is not None else page_charts(case, frame, res, anchor))],
             "table": {
                 "head": ("Year", "Sold", "Receipts", "Costs", "Net cash", "Running total"),
                 "units": ("", dm_unit, money_unit, money_unit, money_unit, money_unit),

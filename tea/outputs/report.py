@@ -108,7 +108,15 @@ def render_summary(
     path, kind = _target(path, force)
     size = _page_size(page_size, case)
     views = SensitivityViews(case, sensitivity, "case-0")
-    page = CasePage(case, ledger, results, "case-0", views)
+
+    def draw() -> tuple[list[charts.Chart], dict[str, Any] | None]:
+        return page_charts(case, ledger, results, "case-0"), views.below()
+
+    with workers.meanwhile(draw) as drawn:  # the charts are drawn while the PDF engine starts
+        pdf.prepare()
+        page_drawn, below = drawn()
+    views.keep_below(below)
+    page = CasePage(case, ledger, results, "case-0", views, page_drawn)
     meta = _meta([case], [results])
 
     def html_at(density: int, embed: bool) -> str:

@@ -87,6 +87,16 @@ class SensitivityViews:
         return self._views[key]
 
 
+    def below(self) -> dict[str, Any] | None:
+        """The block in its usual place, below the other charts (what every layout step but the last shows)."""
+        return self.view(0, False)
+
+    def keep_below(self, view: dict[str, Any] | None) -> None:
+        """Take the block below the other charts as drawn elsewhere (by :meth:`below` in a worker process)."""
+        if self.run is not None and view is not None:
+            self._views[(False, False)] = view
+
+
 def shows_block(case: Case, given: charts.Chart | bool | None) -> bool:
     """Whether the case's page has the block: ``given`` as for :class:`SensitivityViews` (None: where the case
     has a ``[sensitivity]`` section)."""

@@ -2,7 +2,8 @@
 
 A comparison's pages are laid out and written each on its own (see
 :func:`tea.outputs.report.render_comparison`), so they can be made side by
-side on a machine's cores. The workers are forked from the running process:
+side on a machine's cores (:func:`each`); one page's charts are drawn while
+the PDF engine starts (:func:`meanwhile`). The workers are forked from the running process:
 they start with its imports and its data (cases, ledgers, results) and are
 handed only the number of the piece to do; what they return comes back
 pickled, in the order of the pieces whatever order they finish in.
@@ -16,6 +17,7 @@ in this process. The result never depends on the number of workers.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import sys
 from typing import Callable, Iterator, TypeVar
@@ -64,6 +66,27 @@ def each(count: int, work: Callable[[int], T]) -> Iterator[T]:
     try:
         with multiprocessing.get_context("fork").Pool(jobs, initializer=_settle) as pool:
             yield from pool.imap(_call, range(count))
+    finally:
+        _work = None
+
+
+@contextlib.contextmanager
+def meanwhile(work: Callable[[], T]) -> Iterator[Callable[[], T]]:
+    """``work()`` made in a worker process while this one goes on; the context gives a function that waits
+    for the result (and raises the exception ``work`` raised). In this process, when the result is asked
+    for, if fewer than two workers are available or processes cannot be forked."""
+    if available() <= 1 or not sys.platform.startswith("linux"):
+        yield work
+        return
+    import multiprocessing
+
+    global _work
+    _work = lambda _i: work()  # noqa: E731 - the forked worker sees it
+    try:
+        with multiprocessing.get_context("fork").Pool(1, initializer=_settle) as pool:
+            pending = pool.apply_async(_call, (0,))
+            _work = None  # forked already: this process needs it no more
+            yield lambda: pending.get()
     finally:
         _work = None
 
