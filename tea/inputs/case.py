@@ -319,21 +319,24 @@ def _expected(k: schema.Key, system: str = "metric", currency: str = "") -> str:
 def _type_error(k: schema.Key, value: Any) -> str | None:
     """Why ``value`` has the wrong type for ``k``, or None."""
     is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
-    too_big = f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
+
+    def too_big() -> str:
+        return f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
+
     if k.kind == "float":
         if not is_num:
             return f"expected {_expected(k)}, got {brief(value)}"
         if isinstance(value, float) and not math.isfinite(value):
             return f"expected a finite number, got {brief(value)}"
         if abs(value) > MAGNITUDE_LIMIT:  # exact for any int: no conversion to float
-            return too_big
+            return too_big()
     elif k.kind == "int":
         if isinstance(value, float) and value.is_integer():
-            return too_big if abs(value) > MAGNITUDE_LIMIT else None
+            return too_big() if abs(value) > MAGNITUDE_LIMIT else None
         if not (isinstance(value, int) and not isinstance(value, bool)):
             return f"expected a whole number, got {brief(value)}"
         if abs(value) > MAGNITUDE_LIMIT:
-            return too_big
+            return too_big()
     elif k.kind in ("str", "enum"):
         if not isinstance(value, str):
             return f"expected {_expected(k)}, got {brief(value)}"

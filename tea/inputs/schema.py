@@ -23,6 +23,7 @@ from __future__ import annotations
 import difflib
 import functools
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any, Iterable
 
 from tea.inputs import units
@@ -75,12 +76,12 @@ class Key:
     unit: str = ""  # unit words beyond the slots, e.g. "fraction", "yr", "GJ/t DM"
     aliases: tuple[str, ...] = field(default=())  # further accepted templates (e.g. fresh yield)
 
-    @property
+    @cached_property
     def name(self) -> str:
         """The canonical (metric) spelling, e.g. ``mature_t_dm_per_ha``."""
         return units.spell(self.template)
 
-    @property
+    @cached_property
     def path(self) -> str:
         return f"{self.section}.{self.name}"
 
