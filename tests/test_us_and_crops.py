@@ -7,7 +7,7 @@ Sources named beside each check:
   1055.05585262 J, so 1 MMBtu = 1.05505585262 GJ;
 * TDWG World Geographical Scheme for Recording Plant Distributions, level 1
   (Brummitt 2001) for the region names;
-* the presets' own region notes (from memory, as each says) for which crop is
+* the presets' own region notes (each names its source) for which crop is
   native where: the check is that the caution follows the preset, not a fact
   of botany.
 """
