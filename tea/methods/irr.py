@@ -73,10 +73,8 @@ _TINY_LEAD = 1e-300
 # Stop when a step changes z = 1/(1+r) (or 1+r) by at most this fraction of z:
 # the rate is then accurate to about 1e-13 * (1 + r).
 _STEP_RTOL = 1e-13
-# Newton steps taken by every row before the convergence mask is looked at.
-_NEWTON_STEPS = 4
-# Further safeguarded Newton steps, at most, for the rows not yet converged.
-_EXTRA_NEWTON_STEPS = 16
+# Safeguarded Newton steps, at most, before the rows not yet converged are bisected.
+_NEWTON_STEPS = 20
 # Geometric bisection steps for the (rare) rows still not converged: enough to
 # narrow any bracket within the float range to the float resolution.
 _BISECTION_STEPS = 64
@@ -172,33 +170,24 @@ def _horner(g: np.ndarray, z: np.ndarray, p: np.ndarray, d: np.ndarray | None) -
         np.add(p, g[k], out=p)
 
 
-def _newton(g, z, lo, hi, steps):
-    """Safeguarded Newton steps on c(z), c < 0 below the root and c > 0 above.
+def _newton(g, z, lo, hi, p, d):
+    """One safeguarded Newton step on c(z), c < 0 below the root and c > 0 above.
 
-    ``lo`` and ``hi`` (updated in place) bracket the root. A Newton step that
-    would leave the bracket (which includes a non-positive derivative, since
-    the iterate is always one end of it) is replaced by bisection [5]_.
-    Returns the final iterate and the size of the last step.
+    ``lo`` and ``hi`` bracket the root; the new bracket is returned with the new
+    iterate and the size of the step. A Newton step that would leave the
+    bracket (which includes a non-positive derivative, since the iterate is
+    always one end of it) is replaced by bisection [5]_. ``p`` and ``d`` are
+    work space.
     """
-    p = np.empty_like(z)
-    d = np.empty_like(z)
-    new = np.empty_like(z)
-    off = np.empty(z.shape, dtype=bool)
-    for _ in range(steps):
-        _horner(g, z, p, d)
-        below = p < 0
-        np.copyto(lo, z, where=below)
-        np.logical_not(below, out=below)
-        np.copyto(hi, z, where=below)
-        np.divide(p, d, out=p)
-        np.subtract(z, p, out=new)
-        np.less(new, lo, out=off)
-        off |= ~(new <= hi)
-        np.add(lo, hi, out=p)
-        p *= 0.5
-        np.copyto(new, p, where=off)
-        z, new = new, z
-    return z, np.abs(z - new)
+    _horner(g, z, p, d)
+    below = p < 0
+    lo = np.where(below, z, lo)
+    hi = np.where(below, hi, z)
+    np.divide(p, d, out=p)
+    np.subtract(z, p, out=p)
+    new = np.where((p >= lo) & (p <= hi), p, 0.5 * (lo + hi))
+    np.subtract(new, z, out=p)
+    return new, np.abs(p, out=p), lo, hi
 
 
 def _geometric_bisection(g, lo, hi, steps):
@@ -249,12 +238,12 @@ def _start(receipts, receipt_time, receipt_time2, costs, cost_time, cost_time2, 
     return lib.exp(u)
 
 
-def _solve_unit(g: np.ndarray) -> np.ndarray:
+def _solve_unit(g: np.ndarray, skip: np.ndarray | None = None) -> np.ndarray:
     """Root in (0, 1) of each column polynomial of g (shape (years, cases)).
 
     Entry ``g[k, j]`` is the coefficient of z**k of case j, scaled so that
     the largest is 1 in magnitude and signed so that c(0+) < 0 < c(1), with
-    exactly one root in (0, 1).
+    exactly one root in (0, 1). Columns marked in ``skip`` are not solved (NaN).
     """
     years, m = g.shape
     # Lower end of the bracket: a root of sum_k g_k z^k whose first nonzero
@@ -283,22 +272,34 @@ def _solve_unit(g: np.ndarray) -> np.ndarray:
         costs = 0.5 * (plain - size)
         z = _start(receipts[0], receipts[1], receipts[2], costs[0], costs[1], costs[2], np)
     np.copyto(z, 0.5, where=~((z > lo) & (z < 1.0)))
+    skip = outside if skip is None else skip | outside
+    return _iterate(g, z, lo, hi, skip)
 
-    z, dz = _newton(g, z, lo, hi, _NEWTON_STEPS)
-    # Convergence mask: the rows not converged take further steps, one at a
-    # time, as a shrinking subset; any still left are bisected.
-    todo = np.flatnonzero(~(dz <= _STEP_RTOL * z))
-    for _ in range(_EXTRA_NEWTON_STEPS):
-        if todo.size == 0:
-            break
-        los, his = lo[todo], hi[todo]
-        zs, dzs = _newton(g[:, todo], z[todo], los, his, 1)
-        z[todo], lo[todo], hi[todo] = zs, los, his
-        todo = todo[~(dzs <= _STEP_RTOL * zs)]
-    if todo.size:
-        z[todo] = _geometric_bisection(g[:, todo], lo[todo], hi[todo], _BISECTION_STEPS)
-    z[outside] = np.nan
-    return z
+
+def _iterate(g, z, lo, hi, skip):
+    """Newton steps from z on every column of g not skipped, until each converges; any left after
+    the steps allowed are bisected. A column is set aside once converged; the columns still
+    working are gathered into a narrower array whenever half of those worked on are done."""
+    out = np.full(z.shape, np.nan)
+    idx = np.arange(z.size)
+    pending = ~skip
+    p, d = np.empty_like(z), np.empty_like(z)
+    for _ in range(_NEWTON_STEPS):
+        z, step, lo, hi = _newton(g, z, lo, hi, p[:z.size], d[:z.size])
+        done = pending & (step <= _STEP_RTOL * z)
+        if done.any():
+            out[idx[done]] = z[done]
+            pending &= ~done
+        left = np.count_nonzero(pending)
+        if left == 0:
+            return out
+        if 2 * left <= pending.size:
+            keep = np.flatnonzero(pending)
+            g, z, lo, hi, idx = g[:, keep], z[keep], lo[keep], hi[keep], idx[keep]
+            pending = np.ones(keep.size, dtype=bool)
+    keep = np.flatnonzero(pending)
+    out[idx[keep]] = _geometric_bisection(g[:, keep], lo[keep], hi[keep], _BISECTION_STEPS)
+    return out
 
 
 def _irr_block(f: np.ndarray, norstrom: bool = False) -> np.ndarray:
@@ -405,9 +406,9 @@ def irr(flows):
     The start is the root of a two-flow approximation (all costs at their mean
     time, all receipts at theirs), corrected for the spread of each around
     its mean time (second-order cumulant expansion of the present values);
-    then a fixed number of Newton steps with a bisection safeguard on the
-    sign bracket [5]_, further steps for the rows not yet converged, and a
-    geometric bisection for any row left. The rate is accurate to about
+    then Newton steps with a bisection safeguard on the sign bracket [5]_,
+    each row set aside as soon as its step is within the tolerance, and a
+    geometric bisection for any row left after 20 steps. The rate is accurate to about
     1e-13 * (1 + r). One case (1-D input) goes to
     :func:`irr_scalar`, the same method in plain Python floats.
 
@@ -473,7 +474,7 @@ def _solve_unit_scalar(seq, lo, z):
     """
     hi = 1.0
     head, rest = seq[0], seq[1:]
-    for _ in range(_NEWTON_STEPS + _EXTRA_NEWTON_STEPS):
+    for _ in range(_NEWTON_STEPS):
         p = head
         d = 0.0
         for c in rest:
