@@ -73,20 +73,33 @@ def each(count: int, work: Callable[[int], T]) -> Iterator[T]:
 @contextlib.contextmanager
 def meanwhile(work: Callable[[], T]) -> Iterator[Callable[[], T]]:
     """``work()`` made in a worker process while this one goes on; the context gives a function that waits
-    for the result (and raises the exception ``work`` raised). In this process, when the result is asked
-    for, if fewer than two workers are available or processes cannot be forked."""
+    for the result (and raises the exception ``work`` raised).
+
+    In this process, when the result is asked for, if fewer than two workers
+    are available, processes cannot be forked, or the worker ended without
+    an answer (killed, out of memory).
+    """
     if available() <= 1 or not sys.platform.startswith("linux"):
         yield work
         return
     import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
 
     global _work
-    _work = lambda _i: work()  # noqa: E731 - the forked worker sees it
+    _work = lambda _i: work()  # noqa: E731 - the worker forked at submit sees it
     try:
-        with multiprocessing.get_context("fork").Pool(1, initializer=_settle) as pool:
-            pending = pool.apply_async(_call, (0,))
+        with ProcessPoolExecutor(1, mp_context=multiprocessing.get_context("fork"), initializer=_settle) as pool:
+            pending = pool.submit(_call, 0)
             _work = None  # forked already: this process needs it no more
-            yield lambda: pending.get()
+
+            def result() -> T:
+                try:
+                    return pending.result()
+                except BrokenProcessPool:
+                    return work()
+
+            yield result
     finally:
         _work = None
 
