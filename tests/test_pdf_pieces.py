@@ -77,6 +77,21 @@ def test_work_made_meanwhile_with_one_job_is_made_here_and_its_error_comes_back(
             result()
 
 
+def test_work_whose_worker_dies_is_made_in_this_process(monkeypatch):
+    """A worker killed without an answer (os._exit stands in for the out-of-memory killer) does not leave the
+    run waiting: the work is made here instead."""
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    here = os.getpid()
+
+    def work() -> int:
+        if os.getpid() != here:
+            os._exit(9)
+        return os.getpid()
+
+    with workers.meanwhile(work) as result:
+        assert result() == here
+
+
 def test_a_page_is_the_same_whether_its_charts_are_drawn_in_a_worker_or_here(tmp_path, monkeypatch):
     case = tea.load_case(DEMO_CASES[0])
     frame = tea.build_ledger(case)
