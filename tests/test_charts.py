@@ -114,3 +114,24 @@ def test_payback_label_stays_clear_of_the_cash_line(payback):
     # and the label stays inside the figure
     fig_box = fig.bbox
     assert fig_box.x0 <= box.x0 and box.x1 <= fig_box.x1 and fig_box.y0 <= box.y0 and box.y1 <= fig_box.y1
+
+
+def test_a_crowded_comparison_panel_names_the_highest_and_lowest_and_greys_the_rest():
+    """Twelve cases on one panel (more than the eight the chart colours apart): the three whose running total
+    ends highest and the one that ends lowest are named; the others are one legend entry, as the alt text says.
+    Invented lines, for the drawing only."""
+    years = [0.0, 1.0, 2.0, 3.0]
+    ends = [5.0, 12.0, -3.0, 8.0, 1.0, 9.0, 2.0, 4.0, 7.0, 11.0, 0.5, 6.0]
+    series = [charts.Series(f"{i + 1}. field {i + 1}", years, [-10.0, -5.0, 0.0, e], None) for i, e in enumerate(ends)]
+    assert charts.named_series(series) == [1, 2, 5, 9]  # ends 12, -3, 9 and 11
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # e.g. a legend tight_layout cannot make room for
+        chart = charts.compare_cumulative([("EUR per ha", series)], name="crowded")
+    texts = _svg_texts(chart.svg)
+    legend = [t for t in texts if re.fullmatch(r"\d+\. field \d+|\d+ other cases", t)]
+    assert legend == ["2. field 2", "3. field 3", "6. field 6", "10. field 10", "8 other cases"]
+    assert "and 8 other cases in grey" in chart.alt
+    few = charts.compare_cumulative([("EUR per ha", series[:3])], name="few")
+    assert [t for t in _svg_texts(few.svg) if "field" in t] == ["1. field 1", "2. field 2", "3. field 3"]

@@ -395,6 +395,29 @@ class Series:
     payback_year: float | None
 
 
+#: cases on one comparison panel drawn each in its own colour; beyond it, all in grey and a few named
+MOST_NAMED_LINES = len(SERIES)
+#: with more cases on a panel: how many that end highest, and how many that end lowest, are named in colour
+NAMED_HIGHEST, NAMED_LOWEST = 3, 1
+#: colour of the lines of the cases not named on a crowded panel, and the length its legend's names are cut to
+OTHERS, CROWDED_LABEL_CHARS = "#b9c0c4", 34
+
+
+def _cut(text: str, most: int) -> str:
+    """``text`` cut to at most ``most`` characters, the cut marked with an ellipsis."""
+    return text if len(text) <= most else text[: most - 1].rstrip() + "\u2026"
+
+
+def named_series(series: Sequence[Series]) -> list[int]:
+    """The lines of a comparison panel drawn in colour and named in its legend (their positions, in order):
+    every line up to :data:`MOST_NAMED_LINES`; beyond, the :data:`NAMED_HIGHEST` whose running total ends
+    highest and the :data:`NAMED_LOWEST` that end lowest."""
+    if len(series) <= MOST_NAMED_LINES:
+        return list(range(len(series)))
+    by_end = sorted(range(len(series)), key=lambda i: (-series[i].values[-1], i))
+    return sorted(set(by_end[:NAMED_HIGHEST] + by_end[-NAMED_LOWEST:]))
+
+
 def compare_cumulative(
     panels: Sequence[tuple[str, Sequence[Series]]],
     *,
@@ -405,8 +428,10 @@ def compare_cumulative(
     """Running total of cash for several cases, one panel per currency and unit.
 
     Cases in different currencies or area units are never drawn on one axis:
-    no exchange rate or conversion is implied. Each line is marked with its
-    payback year.
+    no exchange rate or conversion is implied. Each named line is marked with
+    its payback year. A panel of more than :data:`MOST_NAMED_LINES` cases
+    draws every case as a thin grey line and names only those
+    :func:`named_series` picks (a legend of a hundred cases is unreadable).
 
     Parameters
     ----------
@@ -421,10 +446,15 @@ def compare_cumulative(
         for ax, (unit_label, series) in zip(axes, panels):
             ax.axhline(0.0, color="#666666", linewidth=0.6)
             all_years: list[float] = []
-            for s in series:
+            named = named_series(series)
+            others = [s for j, s in enumerate(series) if j not in set(named)]
+            for s in others:  # first, so that the named lines are drawn over them
+                ax.plot(s.years, s.values, color=OTHERS, linewidth=0.5)
+                all_years.extend(s.years)
+            for s in (series[j] for j in named):
                 colour, marker = SERIES[k % len(SERIES)], MARKERS[k % len(MARKERS)]
                 ax.plot(s.years, s.values, color=colour, marker=marker, markersize=2.4, linewidth=1.2,
-                        label=plain(s.label))
+                        label=plain(_cut(s.label, CROWDED_LABEL_CHARS) if others else s.label))
                 if s.payback_year is not None:
                     i = list(s.years).index(s.payback_year) if s.payback_year in list(s.years) else None
                     if i is not None:
@@ -434,9 +464,21 @@ def compare_cumulative(
                 k += 1
             _style_axes(ax, all_years)
             ax.set_ylabel(plain(unit_label))
-            ax.legend(loc="upper left", fontsize=5.8, handlelength=1.8, borderaxespad=0.2)
+            handles, labels = ax.get_legend_handles_labels()
+            if others:
+                from matplotlib.lines import Line2D
+
+                handles.append(Line2D([], [], color=OTHERS, linewidth=0.8))
+                labels.append(f"{len(others)} other cases")
+            ax.legend(handles, labels, loc="upper left", fontsize=5.8, handlelength=1.8, borderaxespad=0.2)
         fig.tight_layout(pad=0.4, w_pad=1.2)
-    names = "; ".join(f"{unit}: " + ", ".join(s.label for s in series) for unit, series in panels)
+
+    def listed(series: Sequence[Series]) -> str:
+        named = named_series(series)
+        more = len(series) - len(named)
+        return ", ".join(series[i].label for i in named) + (f", and {more} other cases in grey" if more else "")
+
+    names = "; ".join(f"{unit}: {listed(series)}" for unit, series in panels)
     alt = f"Running total of cash by year for each case, large open markers at the payback year ({names})."
     return _finish(fig, name, "Running total of cash, all cases", alt)
 

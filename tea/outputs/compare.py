@@ -59,7 +59,8 @@ def overview(cases: Sequence[Case], ledgers: Sequence[pd.DataFrame], results: Se
                        for g in groups],
         })
     width = 7.2 if size == "A4" else 7.4
-    chart = charts.compare_cumulative(_panels(cases, ledgers, results), name="compare-cash",
+    panels = _panels(cases, ledgers, results)
+    chart = charts.compare_cumulative(panels, name="compare-cash",
                                       width_in=width, height_in=1.65 if size == "A4" else 1.4)  # Letter is shorter
     return {
         "count": len(cases),
@@ -67,6 +68,10 @@ def overview(cases: Sequence[Case], ledgers: Sequence[pd.DataFrame], results: Se
         "blocks": blocks,
         "chart": chart_view(chart),
         "mixed": len({(c.currency, c.unit_system) for c in cases}) > 1,
+        "crowded": (f"A panel of more than {charts.MOST_NAMED_LINES} cases draws each as a thin grey line and names "
+                    f"the {charts.NAMED_HIGHEST} whose running total ends highest and the {charts.NAMED_LOWEST} that "
+                    f"end{'s' if charts.NAMED_LOWEST == 1 else ''} lowest."
+                    if any(len(series) > charts.MOST_NAMED_LINES for _, series in panels) else ""),
         "demo": any(c.values.get("case.demo") for c in cases),
         "cautions": list(CAUTIONS),
         "version": __version__,
