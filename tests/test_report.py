@@ -336,7 +336,8 @@ def test_comparison_pdf_is_overview_then_one_page_per_case(comparison):
         assert _squash(terminal.decision_sentence(case, res)) in overview
         for name in ("npv", "npv_vs_current_use", "eav_vs_current_use", "payback_year", "peak_funding_need"):
             assert _squash(terminal._fig(res, case, name)) in overview, name
-        # the case's own page carries its hash; no other case page does
+        # the overview's table and the case's own page carry its hash; no other case page does
+        assert res.case_hash in overview
         carrying = [k for k in range(1, n + 1) if res.case_hash in pages[k]]
         assert len(carrying) == 1
         page = pages[carrying[0]]
