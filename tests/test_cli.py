@@ -263,6 +263,28 @@ def test_run_demo_prints_figures_and_cautions(demo_path):
     assert not [line for line in res.err_lines if line.startswith("error:")]
 
 
+def test_yearly_ledger_prints_one_line_per_year_under_its_header(demo_path):
+    """The yearly table of `tea run`: a header, then each year of the stand on its own line, its year and net
+    cash as the ledger has them (read back from the printed text), within 100 characters."""
+    res = run_cli(["run", demo_path])
+    assert res.code == 0, res.err
+    case = load_case(demo_path)
+    frame = tea.build_ledger(case)
+    lines = res.out.splitlines()
+    assert all(len(line) <= 100 for line in lines)
+    start = next(i for i, line in enumerate(lines) if line.startswith("Yearly ledger"))
+    header = lines[start + 1].split()
+    assert header[0] == "year" and "net" in header
+    rows = lines[start + 2:start + 2 + len(frame)]
+    years = [int(r.split()[0]) for r in rows]
+    assert years == [int(y) for y in frame["year"]]
+    net_col = header.index("net")  # "net cash": two words in the header, one number in each row
+    per = 1.0 if case.unit_system == "metric" else 0.40468564224  # NIST Handbook 44: ha per acre
+    for row, value in zip(rows, frame["net_cash_flow"]):
+        shown = float(row.split()[net_col - 2].replace(",", "").replace("\u2212", "-"))
+        assert shown == pytest.approx(value * per, abs=0.51), row
+
+
 def test_run_brief_still_prints_cautions(demo_path):
     res = run_cli(["run", "--brief", demo_path])
     assert res.code == 0

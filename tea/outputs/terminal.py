@@ -183,7 +183,7 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         out.extend(block + [""])
     if yearly:
         out.append(f"Yearly ledger (per {per}; {case.currency}; `tea run --json` gives every line)")
-        out.append(yearly_table(case, frame))
+        out.extend(yearly_table(case, frame).splitlines())
         out.append("")
     caution = non_native_caution(case)
     if caution:
@@ -228,8 +228,17 @@ def yearly_table(case: Case, frame: pd.DataFrame) -> str:
         cols.append(vals)
         heads.append(head)
     widths = [max(len(h), *(len(v) for v in col)) for h, col in zip(heads, cols)]
-    lines = ["  ".join(h.rjust(w) for h, w in zip(heads, widths))]
-    lines += ["  ".join(col[i].rjust(w) for col, w in zip(cols, widths)) for i in range(len(frame))]
+    blocks: list[list[int]] = [[0]]  # columns of each block of the table, the year first in every block
+    for j in range(1, len(cols)):
+        if sum(widths[k] + 2 for k in blocks[-1]) + widths[j] > WIDTH:
+            blocks.append([0])
+        blocks[-1].append(j)
+    lines: list[str] = []
+    for block in blocks:
+        if lines:
+            lines.append("")
+        lines.append("  ".join(heads[k].rjust(widths[k]) for k in block))
+        lines += ["  ".join(cols[k][i].rjust(widths[k]) for k in block) for i in range(len(frame))]
     return "\n".join(lines)
 
 
