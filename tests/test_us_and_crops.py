@@ -64,7 +64,8 @@ def test_us_starter_has_round_us_values_and_us_words(tmp_path):
              and isinstance(v, float)]
     assert given and all(round(v, 2) == v for v in given), given  # common practice: examples are round numbers
     comments = "\n".join(line for line in text.splitlines() if line.startswith("# ") and "Preset:" not in line)
-    assert "per ha" not in comments and "t DM/ha" not in comments
+    assert not re.search(r"\bper ha\b", comments) and "t DM/ha" not in comments
+    assert "per harvest" in comments and "acrervest" not in comments  # whole words: "harvest" is no "ha"
     assert run_cli(["check", tmp_path / "us.toml"]).code == 0
 
 

@@ -8,6 +8,8 @@ source; other defaults are shown commented out.
 
 from __future__ import annotations
 
+import re
+
 from typing import Any
 
 from tea.inputs import schema, units
@@ -66,16 +68,25 @@ US_EXAMPLES: dict[str, Any] = {
 }
 US_COPPICE_EXAMPLES = {"costs.harvest_per_ha": 170.0, "costs.removal_per_ha": 320.0}
 #: metric words in key descriptions and their US customary words
+#: (whole words only: "per ha" is not the start of "per harvest"; the amount of planting material stays in the
+#: preset's own unit, e.g. kg of seed, per acre)
 US_WORDS = (("100 t DM/ha", "45 short ton DM/acre"), ("per ha", "per acre"), ("t DM/ha", "short ton DM/acre"),
-            ("per t ", "per short ton "), ("kg of seed", "lb of seed"), ("_t_per_ha", "_short_ton_per_acre"))
+            ("per t", "per short ton"), ("_t_per_ha", "_short_ton_per_acre"))
 
 
 def _in_words_of(doc: str, system: str) -> str:
-    """A key's description in the words of a unit system (the schema writes metric)."""
+    """A key's description in the words of a unit system (the schema writes metric).
+
+    >>> _in_words_of("Cutting, per harvest; fuel per ha; price per t DM.", "us_customary")
+    'Cutting, per harvest; fuel per acre; price per short ton DM.'
+    """
     if system == "metric":
         return doc
     for metric, us in US_WORDS:
-        doc = doc.replace(metric, us)
+        if metric.startswith("_"):  # a part of a key's name
+            doc = doc.replace(metric, us)
+        else:
+            doc = re.sub(rf"(?<![A-Za-z0-9_]){re.escape(metric)}(?![A-Za-z0-9])", us, doc)
     return doc
 
 
