@@ -371,6 +371,51 @@ class TestCommand:
         assert "skipped 9 of 11 rows" in err
         assert (tmp_path / "r.errors.csv").exists()
 
+    def test_cells_a_case_file_would_refuse_are_refused_in_a_screen(self, tmp_path, capsys):
+        """The case file's own limits (schema: size at most 1e12, July temperature at most 50 degC) hold for
+        a row of a field table too: such a row is listed, not ranked."""
+        fields = tmp_path / "f.csv"
+        fields.write_text("field_id;area_ha;haul_distance_km;current_margin_per_ha;temperature_c_7\n"
+                          "A1;3;1e308;100;\nA2;3;20;1e300;\nA3;3;20;100;77\nA4;3;20;100;16\n", encoding="utf-8")
+        out = tmp_path / "r.csv"
+        code = main(["screen", str(fields), "--case", str(CASES / "clay_corner_miscanthus.toml"), "--out", str(out),
+                     "--no-progress"])
+        capsys.readouterr()
+        assert code == 0
+        problems = list(csv.DictReader((tmp_path / "r.errors.csv").open(encoding="utf-8")))
+        assert [(p["row"], p["column"]) for p in problems] == [("1", "haul_distance_km"),
+                                                               ("2", "current_margin_per_ha"), ("3", "temperature_c_7")]
+        assert "at most 1e+12" in problems[0]["reason"] and "<= 50" in problems[2]["reason"]
+        ranked = [r for r in csv.DictReader(line for line in out.read_text(encoding="utf-8").splitlines()
+                                            if not line.startswith("#"))]
+        assert [r["field_id"] for r in ranked] == ["A4"]
+
+    def test_a_table_whose_every_row_is_bad_is_an_error_with_no_ranked_file(self, tmp_path, capsys):
+        fields = tmp_path / "f.csv"
+        fields.write_text("field_id|area_ha\nP1|3\n", encoding="utf-8")  # no separator tea reads
+        out = tmp_path / "r.csv"
+        code = main(["screen", str(fields), "--case", str(CASES / "clay_corner_miscanthus.toml"), "--out", str(out),
+                     "--no-progress"])
+        err = capsys.readouterr().err
+        assert code == 2 and "no field could be evaluated" in err and "Traceback" not in err
+        assert not out.exists() and (tmp_path / "r.errors.csv").exists()
+
+    def test_numeric_columns_of_an_xlsx_ranking_are_numbers(self, tmp_path, capsys):
+        """openpyxl reads the cells back: numbers a spreadsheet can sum, text where the column is text."""
+        import openpyxl
+
+        out = tmp_path / "r.xlsx"
+        code = main(["screen", str(FIELDS), "--case", str(CASES / "clay_corner_miscanthus.toml"), "--out", str(out),
+                     "--no-progress"])
+        capsys.readouterr()
+        assert code == 0
+        sheet = openpyxl.load_workbook(out, read_only=True)["ranked fields"]
+        rows = sheet.iter_rows(values_only=True)
+        head = list(next(rows))
+        first = dict(zip(head, next(rows)))
+        assert isinstance(first["area_ha"], (int, float)) and isinstance(first["site_factor"], (int, float))
+        assert isinstance(first["field_id"], str) and isinstance(first["climate"], str)
+
     @pytest.mark.parametrize("extra, message", [
         (["--rank-by", "npvv"], "unknown figure 'npvv'"),
         (["--out", "x.txt"], "unknown output type"),

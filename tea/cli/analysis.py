@@ -126,9 +126,13 @@ def _cmd_screen(args: argparse.Namespace) -> int:
                            chunk_rows=args.chunk_rows, progress=_progress(args))
     for w in result.warnings:
         print(f"warning: {w}", file=sys.stderr)
-    screen_files.write_table(result, out, force=args.force)  # files first, then the printing
-    if result.bad:
+    if result.bad:  # files first, then the printing
         screen_files.write_errors(result, errors, force=args.force)
+    if not result.rows_evaluated:
+        why = (f"every one of its {result.rows_read} rows has a problem, listed in {errors}" if result.rows_read
+               else "it has no rows of fields under its header")
+        raise CaseError([Problem(args.fields, "", f"no field could be evaluated: {why}")])
+    screen_files.write_table(result, out, force=args.force)
     say(screen_files.summary_text(result, top=args.top))
     print(f"wrote {out} ({result.rows_evaluated} fields, ranked by {result.rank_by})", file=sys.stderr)
     if result.bad:

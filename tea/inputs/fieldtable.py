@@ -30,7 +30,7 @@ import numpy as np
 from tea.core.errors import CaseError, Problem
 from tea.core.safe_text import brief, clip
 from tea.inputs import published, schema
-from tea.inputs.case import Case
+from tea.inputs.case import MAGNITUDE_LIMIT, Case
 
 ID_COLUMN = "field_id"
 #: schema keys of kind str a field table may carry (labels, not model inputs)
@@ -380,6 +380,22 @@ def count_rows(path: str | Path) -> int:
 
 
 # ----------------------------------------------------------------------------- checking rows
+def _numbers(raw: np.ndarray, present: np.ndarray, header: str, flag) -> np.ndarray:
+    """A column's cells as numbers (NaN where empty); a cell that is no finite number, or one beyond the
+    size a case file allows (``MAGNITUDE_LIMIT``), is flagged and NaN."""
+    import pandas as pd
+
+    nums = np.array(pd.to_numeric(pd.Series(raw, dtype=object), errors="coerce"), dtype=float)
+    for i in np.flatnonzero(present & ~np.isfinite(nums)):
+        flag(i, header, str(raw[i]), _number_reason(str(raw[i])))
+    with np.errstate(invalid="ignore"):
+        huge = present & np.isfinite(nums) & (np.abs(nums) > MAGNITUDE_LIMIT)
+    for i in np.flatnonzero(huge):
+        flag(i, header, str(raw[i]), f"expected a number of size at most {MAGNITUDE_LIMIT:g}, got {brief(str(raw[i]))}")
+    nums[~present | ~np.isfinite(nums) | huge] = np.nan
+    return nums
+
+
 def _range_reason(k: schema.Key, value: float, factor: float, system: str) -> str | None:
     from tea.inputs.case import _range_error
 
@@ -504,11 +520,7 @@ class _Checker:
                          + _suggest(v, k.choices))
                 values[k.path] = np.where(present, raw, base if base is not None else "").astype(str)
                 continue
-            nums = np.array(pd.to_numeric(pd.Series(raw, dtype=object), errors="coerce"), dtype=float)
-            for i in np.flatnonzero(present & ~np.isfinite(nums)):
-                flag(i, c.header, str(raw[i]), _number_reason(str(raw[i])))
-                nums[i] = np.nan
-            nums[~present] = np.nan
+            nums = _numbers(raw, present, c.header, flag)
             if k.kind == "int":
                 fractional = np.isfinite(nums) & (nums != np.round(nums))
                 for i in np.flatnonzero(fractional):
@@ -550,9 +562,13 @@ class _Checker:
             raw = columns[c.index]
             shown[c.header] = raw
             present = raw != ""
-            nums = np.array(pd.to_numeric(pd.Series(raw, dtype=object), errors="coerce"), dtype=float)
-            for i in np.flatnonzero(present & ~np.isfinite(nums)):
-                flag(i, c.header, str(raw[i]), _number_reason(str(raw[i])))
+            nums = _numbers(raw, present, c.header, flag)
+            k = c.key
+            wrong = np.isfinite(nums) & (((nums < k.lo) if k.lo is not None else False)
+                                         | ((nums > k.hi) if k.hi is not None else False))
+            for i in np.flatnonzero(wrong):  # the same range a case file's 12 months must keep
+                flag(i, c.header, str(raw[i]), _range_reason(k, float(nums[i]), 1.0, self.system) or "out of range")
+            nums[wrong] = np.nan
             path = c.key.path
             if path not in own:
                 start = base.get(path)

@@ -18,6 +18,7 @@ from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.core.safe_text import csv_cell, csv_comment, csv_row
 from tea.core.texts import CAUTIONS
+from tea.outputs.terminal import wrapped
 
 #: what the ranked table may be written as
 TABLE_SUFFIXES = (".csv", ".xlsx", ".parquet")
@@ -65,7 +66,7 @@ def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> P
         if len(table) >= MAX_ROWS:
             raise OutputError(f"{out}: {len(table):,} fields do not fit a worksheet ({MAX_ROWS - 1:,} rows); "
                               "write .csv")
-        sheets = [("ranked fields", [str(c) for c in table.columns], _rows(table)),
+        sheets = [("ranked fields", [str(c) for c in table.columns], _rows(_numbers_as_numbers(table))),
                   ("notes", ["notes"], ([line] for line in meta))]
         return atomic_write(out, lambda tmp: write_book(tmp, sheets), force=True)
     if suffix == ".parquet":
@@ -77,6 +78,25 @@ def write_table(result: ScreenResult, out: str | Path, force: bool = False) -> P
             table.to_parquet(tmp, index=False)
         return atomic_write(out, write_pq, force=True)
     raise OutputError(f"{out}: unknown output type {suffix or '(none)'}; expected {', '.join(TABLE_SUFFIXES)}")
+
+
+def _numbers_as_numbers(table):
+    """The table with the cells of its numeric input columns (echoed as read) as numbers, so that a
+    spreadsheet sums and sorts them; an empty cell stays empty. Text columns (a field's id) stay text."""
+    import pandas as pd
+
+    from tea.inputs.fieldtable import resolve_column
+
+    out = table
+    for i, name in enumerate(table.columns):
+        if pd.api.types.is_numeric_dtype(table[name].dtype) or pd.api.types.is_bool_dtype(table[name].dtype):
+            continue
+        col = resolve_column(str(name), i)
+        if col.kind in ("key", "month") and col.key is not None and col.key.kind in ("float", "int", "list"):
+            if out is table:
+                out = table.copy()
+            out[name] = pd.to_numeric(table[name].replace("", None), errors="coerce")
+    return out
 
 
 def _rows(table):
@@ -142,7 +162,7 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
     out.append("=" * len(out[0]))
     out.append(f"{result.rows_read} rows read; {result.rows_evaluated} fields evaluated; "
                f"{result.rows_skipped} rows skipped" + (" (see the error file)" if result.rows_skipped else ""))
-    out.append(result.units_note)
+    out.append(wrapped(result.units_note))
     table = result.table
     if len(table):
         per = "acre" if case.unit_system == "us_customary" else "ha"
@@ -172,5 +192,5 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
         for i in range(len(head)):
             out.append("  ".join(vals[i].rjust(w) for (_, vals), w in zip(cells, widths)))
     out.append("Cautions:")
-    out.extend(f"  - {c}" for c in CAUTIONS)
+    out.extend(wrapped(f"  - {c}") for c in CAUTIONS)
     return "\n".join(out)

@@ -192,14 +192,14 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         out.append("note: give field.region to be told whether the crop is native there.")
     out.append("Cautions:")
     out.extend(f"  - {c}" for c in CAUTIONS)
-    return "\n".join(_wrapped(line) for line in out)
+    return "\n".join(wrapped(line) for line in out)
 
 
 #: widest line of the terminal summary [characters]
 WIDTH = 100
 
 
-def _wrapped(line: str) -> str:
+def wrapped(line: str) -> str:
     """A line of the summary within :data:`WIDTH` characters, continued lines indented like the first."""
     if len(line) <= WIDTH:
         return line
