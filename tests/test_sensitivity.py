@@ -138,11 +138,23 @@ class TestRanges:
         base = clay["costs.haul_distance_km"]
         assert (m.low, m.high, m.declared) == (pytest.approx(0.8 * base), pytest.approx(1.2 * base), False)
 
-    def test_the_nine_key_inputs_are_moved(self, clay_run):
+    def test_the_nine_key_inputs_are_moved(self, clay, clay_run):
         paths = {m.path for m in clay_run.moved}
-        assert paths >= {"yield.mature_t_dm_per_ha", "revenue.price_per_t_dm", riskspec.COST_MULTIPLIER,
+        # the demo's mature yield is estimated from its site climate: the light-use range moves it, once
+        assert clay.origin["yield.mature_t_dm_per_ha"] == "estimated"
+        assert paths >= {sensitivity.LIGHT_USE, "revenue.price_per_t_dm", riskspec.COST_MULTIPLIER,
                          riskspec.SUCCESS, "finance.discount_rate", "costs.haul_distance_km",
                          "finance.stand_life_years", "carbon.credit_price_per_t_co2e", "field.current_margin_per_ha"}
+        assert "yield.mature_t_dm_per_ha" not in paths
+
+    def test_an_estimated_yield_with_a_declared_range_is_moved_once(self, clay):
+        """A range declared for the mature yield itself stands; the light-use range is not added beside it (two
+        bars for one input)."""
+        text = Path(clay.source).read_text(encoding="utf-8").replace(
+            "[sensitivity.ranges]", '[sensitivity.ranges]\n"yield.mature_t_dm_per_ha" = { low = 15.0, high = 24.0 }', 1)
+        own = load_text(text, source="declared.toml")
+        paths = [m.path for m in sensitivity.moved_inputs(own)]
+        assert paths.count("yield.mature_t_dm_per_ha") == 1 and sensitivity.LIGHT_USE not in paths
 
     def test_ranked_by_swing(self, clay_run):
         swings = clay_run.swing("npv")[clay_run.order("npv")]
@@ -203,8 +215,9 @@ class TestViews:
 
     def test_table_from_a_case(self, clay):
         table = sensitivity.sensitivity_table(clay)
-        # the nine key inputs, the demo's declared SOC factor, and the range of its yield estimated from climate
-        assert len(table) == 9 + 1 + 1
+        # the nine key inputs (the mature yield, estimated from climate, moved by its light-use range), and the
+        # demo's declared SOC factor
+        assert len(table) == 9 + 1
 
     def test_tornado_chart(self, clay_run, tmp_path):
         fig = analysis_charts.tornado_chart(clay_run, tmp_path / "t.png")
@@ -218,7 +231,7 @@ class TestViews:
     def test_json_is_strict(self, clay_run):
         data = json.loads(json.dumps(sensitivity.to_dict(clay_run), allow_nan=False))
         assert data["case_hash"] == clay_run.case.hash
-        assert data["cautions"] and len(data["inputs"]) == 9 + 1 + 1
+        assert data["cautions"] and len(data["inputs"]) == 9 + 1  # as test_table_from_a_case
         assert data["surface"]["npv_zero_contour"]
 
     def test_summary_text(self, clay_run):

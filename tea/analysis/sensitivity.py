@@ -169,6 +169,12 @@ def moved_inputs(case: Case) -> list[Moved]:
                                                      for p in riskspec.KEY_INPUTS]
     if listed is None:
         names += [p for p in declared if p not in names]
+    # a yield estimated from the site climate moves with the light-use parameters (below), not by a share of
+    # itself; a range declared for the yield itself is kept instead
+    lue = listed is None and case.origin.get("yield.mature_t_dm_per_ha") == "estimated" \
+        and "yield.mature_t_dm_per_ha" not in declared
+    if lue:
+        names = [p for p in names if p != "yield.mature_t_dm_per_ha"]
     out: list[Moved] = []
     problems: list[Problem] = []
     for path in names:
@@ -209,7 +215,7 @@ def moved_inputs(case: Case) -> list[Moved]:
                 problems.extend(Problem(p.source, p.key, f"the default {side} value {p.message}; declare a range "
                                         "in [sensitivity.ranges]") for p in found)
         out.append(Moved(path, label, base, low, high, False, note))
-    if listed is None and case.origin.get("yield.mature_t_dm_per_ha") == "estimated":
+    if lue:
         low, high = light_use_range(case)
         out.append(Moved(LIGHT_USE, "Yield from site climate", float(case["yield.mature_t_dm_per_ha"]), low, high,
                          False, "light-use parameters at the ends of their published ranges"))

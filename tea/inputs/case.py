@@ -564,10 +564,52 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         warnings.append(f"{source}: loan.rate: {rate:g} is too small to change any payment (1 + rate rounds to 1); "
                         "taken as 0, an interest-free loan")
     _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced)
+    if not problems:
+        _spec_checks(values, warnings, source)
 
     if problems:
         raise CaseError(_dedupe(problems))
     return Case(source, values, origin, notes, tuple(warnings), spelled)
+
+
+#: how far the centre of a risk distribution may sit from the case's own value before it is pointed out
+SPEC_CENTRE_TOLERANCE = 0.15
+
+
+def _spec_checks(values: Mapping[str, Any], warnings: list, source: str) -> None:
+    """Warn where a sensitivity range leaves out the case's own value, or where the mean of a risk
+    distribution (before truncation) sits well away from it: the analysis would then be about another case
+    than the one the figures show, e.g. after the mature yield came to be estimated from the site climate."""
+    from tea.inputs import riskspec
+
+    system = values.get("case.unit_system", "metric")
+
+    def shown(path: str, value: float) -> str:
+        inp, _ = riskspec.resolve(path)
+        f = 1.0 if inp is None or inp.key is None else units.display_factor(inp.key.template, system)
+        return f"{value * f:.4g}"
+
+    ranges = (values.get("sensitivity") or {}).get("ranges", {})
+    for path, r in ranges.items():
+        base = values.get(path)
+        if isinstance(base, (int, float)) and not r["low"] <= base <= r["high"]:
+            warnings.append(f"{source}: sensitivity.ranges.{path}: the case's own value {shown(path, base)} is "
+                            f"outside the range {shown(path, r['low'])} to {shown(path, r['high'])}; check the range")
+    for path, dist in ((values.get("risk") or {}).get("inputs") or {}).items():
+        base = values.get(path)
+        kind = dist.get("dist")
+        if kind == "triangular":
+            centre = (dist["low"] + dist["mode"] + dist["high"]) / 3.0
+        elif kind == "uniform":
+            centre = (dist["low"] + dist["high"]) / 2.0
+        else:  # normal, lognormal
+            centre = dist.get("mean")
+        if not isinstance(base, (int, float)) or centre is None or base == 0:
+            continue
+        if abs(centre / base - 1.0) > SPEC_CENTRE_TOLERANCE:
+            warnings.append(f"{source}: risk.inputs.{path}: its draws centre on {shown(path, centre)}, "
+                            f"{centre / base - 1.0:+.0%} from the case's own value {shown(path, base)}; the risk "
+                            "results will centre away from the figures of the case: check the distribution")
 
 
 #: sections parsed by their own modules: [sensitivity] and [risk] (ranges and
