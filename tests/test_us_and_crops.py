@@ -116,6 +116,16 @@ def test_new_from_a_case_keeps_the_field_and_deal_and_changes_the_crop(tmp_path)
     assert new.origin["yield.mature_t_dm_per_ha"] == "estimated"
     assert new["yield.mature_t_dm_per_ha"] == pytest.approx(site.season_for(new.values).peak_t_per_ha)
     assert new.stand_life == new.preset.values["finance.stand_life_years"]
+    # the starter says so beside the preset's yield it shows, in the case's units (NIST Handbook 44: 1 short ton
+    # = 0.90718474 t, 1 acre = 0.40468564224 ha)
+    text = (tmp_path / "willow.toml").read_text(encoding="utf-8")
+    shown = new["yield.mature_t_dm_per_ha"] * 0.40468564224 / 0.90718474
+    assert f"gives an estimate of {shown:.3g} short ton DM/acre" in text
+    # and a yield estimated above the crop's record is warned in the case's units, as an estimate
+    record = new["yield.record_t_dm_per_ha"] * 0.40468564224 / 0.90718474
+    assert new["yield.mature_t_dm_per_ha"] > new["yield.record_t_dm_per_ha"]  # so on this demo field
+    assert any(f"{shown:.3g} short ton DM/acre, estimated from the site climate, is above the highest recorded "
+               f"for this crop ({record:.3g} short ton DM/acre)" in w for w in new.warnings), new.warnings
 
 
 def test_several_cases_side_by_side_in_the_terminal(tmp_path):

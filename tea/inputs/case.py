@@ -563,7 +563,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         values["loan.rate"] = 0.0
         warnings.append(f"{source}: loan.rate: {rate:g} is too small to change any payment (1 + rate rounds to 1); "
                         "taken as 0, an interest-free loan")
-    _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced)
+    _cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced, origin)
     if not problems:
         _spec_checks(values, warnings, source)
 
@@ -582,7 +582,7 @@ def _spec_checks(values: Mapping[str, Any], warnings: list, source: str) -> None
     than the one the figures show, e.g. after the mature yield came to be estimated from the site climate."""
     from tea.inputs import riskspec
 
-    system = values.get("case.unit_system", "metric")
+    system = values.get("case.units") if values.get("case.units") in units.SYSTEMS else "metric"
 
     def shown(path: str, value: float) -> str:
         inp, _ = riskspec.resolve(path)
@@ -739,7 +739,7 @@ def harvest_energy_problem(heating_value, moisture):
     return bad, why
 
 
-def _cross_checks(values, problems, warnings, source, spelled, rejected=frozenset()) -> None:
+def _cross_checks(values, problems, warnings, source, spelled, rejected=frozenset(), origin=None) -> None:
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
 
@@ -776,12 +776,20 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
     y, rec = values.get("yield.mature_t_dm_per_ha"), values.get("yield.record_t_dm_per_ha")
     if isinstance(y, (int, float)) and isinstance(rec, (int, float)) and y > 0 and rec > 0:
         ceiling = min(YIELD_CEILING_T_DM_PER_HA, 2.0 * rec)
-        key = f"yield.{spelled.get('yield.mature_t_dm_per_ha', 'mature_t_dm_per_ha')}"
+        us = values.get("case.units") == "us_customary"
+        key = "yield." + (spelled.get("yield.mature_t_dm_per_ha")
+                          or units.spell("mature_{t}_dm_per_{ha}", "us_customary" if us else "metric"))
+        f = units.display_factor("mature_{t}_dm_per_{ha}", "us_customary") if us else 1.0
+        unit = "short ton DM/acre" if us else "t DM/ha"
+        estimated = (origin or {}).get("yield.mature_t_dm_per_ha") == "estimated"
+        what = f"{y * f:.3g} {unit}" + (", estimated from the site climate," if estimated else "")
         if y > ceiling:
-            bad(key, f"{y:g} t DM/ha is far above the highest recorded for this crop ({rec:g} t DM/ha); "
-                f"expected at most {ceiling:g}")
+            bad(key, f"{what} is far above the highest recorded for this crop ({rec * f:.3g} {unit}); "
+                f"expected at most {ceiling * f:.3g}")
         elif y > rec:
-            warn(key, f"{y:g} t DM/ha is above the highest recorded for this crop ({rec:g} t DM/ha)")
+            warn(key, f"{what} is above the highest recorded for this crop ({rec * f:.3g} {unit})"
+                 + ("; the crop's light-use parameters may not suit this site: give the mature yield from local "
+                    "trials" if estimated else ""))
 
     share = values.get("loan.share_of_establishment")
     if isinstance(share, (int, float)) and share > 0 and values.get("loan.rate") is None and "loan.rate" not in bad_keys:

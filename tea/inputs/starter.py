@@ -158,6 +158,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         carried = {p: v for p, v in base.values.items() if base.origin.get(p) == "case" and "." in p and _copied(p)}
         carried.pop("case.name", None)
         carried["case.notes"] = f"The field and deal of {base.name}, with {crop_name or crop.replace('_', ' ')}."
+    yield_doc: int | None = None  # the line describing the mature yield
     lines = [
         f"# Starter case for `tea`, crop preset {crop}: {preset.title}.",
         *([f"# The field and the deal come from {base.source} ({base.name}); the crop's values are the preset's",
@@ -214,10 +215,37 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
             else:
                 value, active = k.default, False
             spelling, shown = _shown(k, value, system, k.path in in_us and active)
+            if k.path == MATURE_YIELD:
+                yield_doc = len(lines)
             lines.append(f"# {doc}")
             if value is None:
                 lines.append(f"# {spelling} = ...")
             else:
                 lines.append(("" if active else "# ") + f"{spelling} = {_toml(shown)}")
         lines.append("")
+    estimate = _estimated_yield("\n".join(lines), system)
+    if estimate is not None and yield_doc is not None:
+        lines[yield_doc] += (f" Not used as shown: this case's [site_climate] gives an estimate of {estimate} with "
+                             "this crop's light-use parameters (`tea yield` shows how); remove the '#' and give "
+                             "your own to use it instead.")
     return "\n".join(lines)
+
+
+MATURE_YIELD = "yield.mature_t_dm_per_ha"
+
+
+def _estimated_yield(text: str, system: str) -> str | None:
+    """The mature yield a starter's case takes from its site climate, as shown (e.g. ``"20.8 t DM/ha"``), or
+    None when the case gives it, has no site climate or does not load yet."""
+    from tea.core.errors import CaseError
+    from tea.inputs.case import load_text
+
+    try:
+        case = load_text(text, source="starter")
+    except CaseError:
+        return None
+    if case.origin.get(MATURE_YIELD) != "estimated":
+        return None
+    us = system == "us_customary"
+    f = units.display_factor("mature_{t}_dm_per_{ha}", "us_customary") if us else 1.0
+    return f"{case[MATURE_YIELD] * f:.3g} {'short ton DM/acre' if us else 't DM/ha'}"
