@@ -313,6 +313,7 @@ class TestCase:
         (lambda d: d["site_climate"].update(rainfall_mm="wet"), "site_climate.rainfall_mm", "list of numbers"),
         (lambda d: d["site_climate"].update(temperature_c=[-5.0] * 12), "site_climate.temperature_c",
          "never warm enough"),
+        (lambda d: d["site_climate"].update(rainfall_mm=[0.0] * 12), "site_climate.rainfall_mm", "has no water"),
         (lambda d: d["site_climate"].update(sunshine=[1.0] * 12), "site_climate.sunshine", "unknown key"),
     ])
     def test_bad_site_climate_is_one_line_naming_the_key(self, demo_mappings, tmp_path, edit, key, words):

@@ -589,10 +589,11 @@ class _Checker:
             if (row.get(site.RAINFALL) is None) != (row.get(site.PET) is None):
                 flag(i, site.RAINFALL, "", "rainfall_mm and pet_mm go together: give both or neither")
                 continue
-            potential = site.season_for(row).peak_t_per_ha
+            season = site.season_for(row)
+            potential = season.peak_t_per_ha
             if not potential > 0.0:
-                flag(i, site.TEMPERATURE, "", "this field's site is never warm enough for the crop's season: "
-                     "no yield can be estimated")
+                why = site.no_yield_problem(season, "")
+                flag(i, why.key, "", f"this field's {why.message}")
                 continue
             yields[i] = potential
         values["yield.mature_t_dm_per_ha"] = yields

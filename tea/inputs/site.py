@@ -76,9 +76,7 @@ def apply(values: dict, origin: dict, notes: dict, problems: list, warnings: lis
     path = "yield.mature_t_dm_per_ha"
     if origin.get(path) != "case":
         if potential <= 0.0:
-            problems.append(Problem(source, TEMPERATURE, f"the site is never warm enough for the crop's season "
-                                    f"(above {s.parameters['base_temperature_c']:g} degC); no yield can be "
-                                    "estimated: give yield.mature_t_dm_per_ha"))
+            problems.append(no_yield_problem(s, source))
             return
         values[path], origin[path], notes[path] = potential, "estimated", ESTIMATED
     elif potential > 0.0 and assumed(values) > potential:
@@ -89,6 +87,17 @@ def apply(values: dict, origin: dict, notes: dict, problems: list, warnings: lis
     elif potential <= 0.0:
         warnings.append(f"{source}: {TEMPERATURE}: the site is never warm enough for the crop's season; "
                         "the assumed yield has no climate potential to compare with")
+
+
+def no_yield_problem(s: lue.Season, source: str) -> Problem:
+    """Why a site gives no yield: no day warm enough for the crop's season, or no water in it."""
+    if s.season_days > 0 and s.intercepted_par.sum() > 0 and not (s.water > 0).any():
+        return Problem(source, RAINFALL, "the crop's season has no water (rainfall with the soil's store gives "
+                       "no evaporation in any month); no yield can be estimated: check rainfall_mm and pet_mm, or "
+                       "give yield.mature_t_dm_per_ha")
+    return Problem(source, TEMPERATURE, f"the site is never warm enough for the crop's season (above "
+                   f"{s.parameters['base_temperature_c']:g} degC); no yield can be estimated: give "
+                   "yield.mature_t_dm_per_ha")
 
 
 def assumed(values: Mapping[str, Any]) -> float:
