@@ -105,3 +105,16 @@ def test_bad_operations_name_the_entry(bad, key):
 def test_every_n_years_from_a_start():
     assert operations.years_of({"every": 5, "from": 5}) == list(range(5, 61, 5))
     assert operations.years_of({"every": 3, "from": 1, "until": 10}) == [1, 4, 7, 10]
+
+
+def test_an_operation_after_the_stand_life_is_warned_and_a_year_listed_twice_refused():
+    """Nothing in the case file is dropped or merged without a word: an operation in a year after the stand's
+    last is left out with a warning naming it; a year listed twice is an error naming the key."""
+    text = WILLOW.read_text(encoding="utf-8")
+    late = load_text(text + '\n[[operations]]\nname = "late lime"\nyear = 30\ncost_per_ha = 1000\n', source="late.toml")
+    life = late.stand_life
+    assert any(f"late lime: year 30 is after the stand's last year ({life}); it is left out" in w for w in late.warnings)
+    with pytest.raises(CaseError) as err:
+        load_text(text + '\n[[operations]]\nname = "twice"\nyears = [0, 0, 3]\ncost_per_ha = 10\n', source="t.toml")
+    assert [p.key for p in err.value.problems][0].endswith(".years")
+    assert "year 0 is listed twice" in err.value.problems[0].message

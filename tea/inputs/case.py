@@ -791,6 +791,16 @@ def _cross_checks(values, problems, warnings, source, spelled, rejected=frozense
                  + ("; the crop's light-use parameters may not suit this site: give the mature yield from local "
                     "trials" if estimated else ""))
 
+    life = values.get("finance.stand_life_years")
+    if isinstance(values.get("operations"), list) and isinstance(life, int):
+        from tea.inputs.operations import years_of
+
+        for op in values["operations"]:
+            late = [y for y in years_of(op) if y > life] if ("year" in op or "years" in op) else []
+            if late:
+                warn("operations", f"{op['name']}: year {late[0]} is after the stand's last year ({life}); "
+                     "it is left out")
+
     share = values.get("loan.share_of_establishment")
     if isinstance(share, (int, float)) and share > 0 and values.get("loan.rate") is None and "loan.rate" not in bad_keys:
         bad("loan.rate", "missing value: a loan (share_of_establishment > 0) needs its interest rate [fraction/yr]")

@@ -69,6 +69,11 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
                     if not (isinstance(value, list) and value and all(_whole(v) and 0 <= v <= HORIZON for v in value)):
                         bad(key, f"expected a list of whole years 0..{HORIZON}, got {brief(value)}")
                         continue
+                    twice = sorted({int(v) for v in value if value.count(v) > 1})
+                    if twice:
+                        bad(key, f"year {twice[0]} is listed twice; list each year once (an operation done twice "
+                                 "in a year is one with twice the amounts)")
+                        continue
                 elif not (_whole(value) and (1 if key == "every" else 0) <= value <= HORIZON):
                     bad(key, f"expected a whole number {'1' if key == 'every' else '0'}..{HORIZON}, got {brief(value)}")
                     continue
