@@ -10,17 +10,40 @@
 
 from __future__ import annotations
 
-from importlib.metadata import PackageNotFoundError, version as _version
+from tea.core.errors import CaseError, OutputError, Problem, TeaError
 
-try:
-    __version__ = _version("tea")
-except PackageNotFoundError:  # running from a source tree that is not installed
-    __version__ = "0.1.0+src"
 
-from tea.core.errors import CaseError, OutputError, Problem, TeaError  # noqa: E402
-from tea.inputs.case import Case, load_case, load_text, load_mapping, preset_names, load_preset  # noqa: E402
-from tea.model.ledger import build_ledger  # noqa: E402
-from tea.model.results import Results, summarise  # noqa: E402
+def _installed_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("tea")
+    except PackageNotFoundError:  # running from a source tree that is not installed
+        return "0.1.0+src"
+
+
+#: the public names imported when first used (``import tea`` itself stays light, so that the command line
+#: can answer an interrupt, or ``--help``, before the numerical libraries are loaded)
+_LAZY = {"Case": "tea.inputs.case", "load_case": "tea.inputs.case", "load_text": "tea.inputs.case",
+         "load_mapping": "tea.inputs.case", "preset_names": "tea.inputs.case", "load_preset": "tea.inputs.case",
+         "build_ledger": "tea.model.ledger", "Results": "tea.model.results", "summarise": "tea.model.results"}
+
+
+def __getattr__(name: str):
+    if name == "__version__":
+        globals()["__version__"] = value = _installed_version()
+        return value
+    if name in _LAZY:
+        import importlib
+
+        value = getattr(importlib.import_module(_LAZY[name]), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module 'tea' has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_LAZY) | {"__version__"})
 
 
 def write_workbook(case, ledger, results, path, **options):

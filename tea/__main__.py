@@ -2,6 +2,6 @@
 
 import sys
 
-from tea.cli.main import main
+from tea.cli.entry import main
 
 sys.exit(main())

@@ -543,3 +543,23 @@ def test_hole_12_stale_part_files_of_our_own_are_cleaned(tmp_path):
         p.write_bytes(b"half")
     assert run_cli(["run", BASE, "--brief", "--xlsx", out]).code == 0
     assert out.exists() and not dead.exists() and alive.exists() and other.exists()
+
+
+@pytest.mark.parametrize("after", [0.05, 0.25])
+def test_an_interrupt_while_the_libraries_load_ends_quietly(tmp_path, after):
+    """Ctrl-C (SIGINT, POSIX) in the first fraction of a second, while tea loads its libraries: exit 130 and
+    one line, no traceback, no file."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "a.pdf"
+    proc = subprocess.Popen([sys.executable, "-m", "tea", "run", str(CASES_DIR / "clay_corner_miscanthus.toml"),
+                             "--pdf", str(out)], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    time.sleep(after)
+    proc.send_signal(signal.SIGINT)
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err and err.strip().startswith("interrupted"), err
+    assert not out.exists() and not list(tmp_path.glob(".*.part"))
