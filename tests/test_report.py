@@ -658,3 +658,17 @@ def test_command_line_sensitivity_flag(tmp_path):
     assert _pdfinfo(out)["Pages"] == str(1 + len(two))
     for page in (2, 3):
         assert _squash(TORNADO_TITLE) in _squash(_text(out, page=page))
+
+
+def test_a_name_and_notes_without_spaces_stay_on_the_sheet(tmp_path, demo_mappings):
+    """A 400-character name and a long address in the notes: pdftotext's word boxes (poppler) all lie inside
+    the sheet's width (ISO 216 A4: 210 mm)."""
+    data = {k: dict(v) if isinstance(v, dict) else v for k, v in demo_mappings["sandy_slope_switchgrass"].items()}
+    data["case"]["name"] = "N" * 400
+    data["case"]["notes"] = "see https://example.org/" + "a" * 300
+    case = tea.load_text(to_toml(data), source="long.toml")
+    frame = tea.build_ledger(case)
+    out = report.render_summary(case, frame, tea.summarise(case, frame), tmp_path / "long.pdf", page_size="A4")
+    boxes = _run("pdftotext", "-bbox", str(out), "-")
+    right = [float(x) for x in re.findall(r'xMax="([0-9.]+)"', boxes)]
+    assert right and max(right) <= A4_PT[0] + 0.5, max(right)
