@@ -259,3 +259,21 @@ def test_each_sheet_prints_to_its_expected_page_count(printed):
         assert count.get("Cash flow", 0) <= 6 and count.get("Debt and tax", 0) <= 6, (name, count)
         assert count.get("Carbon", 0) <= 2 and count.get("Notes", 0) <= 2, (name, count)
     print("pages per sheet:", printed)
+
+
+def test_a_us_summary_is_per_acre_and_per_short_ton_throughout(recalculated):
+    """After LibreOffice recalculates it, the US demo's summary gives its field in acres, the break-even
+    price per short ton and the lender's cases per acre, each equal to the engine's figure converted with
+    NIST Handbook 44 Appendix C (1 acre = 0.40468564224 ha, 1 short ton = 0.90718474 t)."""
+    written, again, case = recalculated["sandy_slope_switchgrass"]
+    res = tea.summarise(case)
+    ws = load_workbook(again, data_only=True)["Summary"]
+    rows = {row[0].value: [c.value for c in row] for row in ws.iter_rows() if row[0].value is not None}
+    header = next(v[0] for k, v in rows.items() if isinstance(k, str) and " · " in k)
+    assert "acres" in header and " ha " not in header
+    price = rows["Break-even price"]
+    assert price[3] == "USD/short ton DM"
+    assert price[2] == pytest.approx(res["breakeven_price"] * 0.90718474, rel=1e-9)
+    assert "Figure (per acre)" in rows
+    npv = rows["NPV [USD/acre]"]
+    assert npv[1] == pytest.approx(res["npv"] * 0.40468564224, rel=1e-9)

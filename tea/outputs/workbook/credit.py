@@ -56,9 +56,10 @@ class CreditWriter(SheetWriter):
         """The summary, on a sheet added first (it shows first) and filled last (it counts the checks)."""
         lay, st, case = self.lay, self.st, self.case
         ws.set_tab_color(PALETTE["head_fill"])
-        area = case["field.area_ha"]
+        area, area_unit = display.area(case["field.area_ha"], case.unit_system)
         text(ws, 0, 0, f"Credit summary: {case.name}", st("title"))
-        text(ws, 1, 0, f"{case['field.name']} · {case['crop.preset']} · {area:g} ha · {case.currency} · "
+        text(ws, 1, 0, f"{case['field.name']} · {case['crop.preset']} · {display.number(area)} {area_unit} · "
+                       f"{case.currency} · "
                        f"{case.stand_life}-year stand · tea {__version__} · case {case.hash}", st("subtitle"))
         if case["case.demo"]:
             text(ws, 2, 0, "DEMO DATA: invented farm, field, prices and climate.", st("flag"))
@@ -113,7 +114,7 @@ class CreditWriter(SheetWriter):
         text(ws, r, 0, d.label, st("label"))
         v = cached(self.values[d.key])
         whole_unit = whole_field_unit(d.unit)
-        f_per, unit = display.convert(1.0, d.unit, case.unit_system)
+        f_per, unit = display.convert(1.0, self._priced(d.unit), case.unit_system)
         f_whole, whole_shown = display.convert(1.0, whole_unit, case.unit_system)
         if d.scales:
             whole = lay.ref(FIGURES, lay.fig_row[d.key], FIG_FIELD_COL)
@@ -134,6 +135,11 @@ class CreditWriter(SheetWriter):
         text(ws, r, 3, unit if not d.scales else f"{self.unit(whole_shown)} | {unit}", st("keyname"))
         return r + 1
 
+    def _priced(self, unit: str) -> str:
+        """A unit with the price unit spelled out (per t DM or per GJ), so that it converts to US customary
+        units (per short ton DM) like any other."""
+        return unit.replace("price unit", "GJ" if self.case.price_basis == "gj" else "t DM")
+
     def _lender(self, ws, r: int) -> int:
         st, lc = self.st, self.lender
         t = lc.terms
@@ -142,18 +148,21 @@ class CreditWriter(SheetWriter):
         text(ws, r, 0, f"Downside: price {t['price_change']:+.0%}, yield {t['yield_change']:+.0%}, "
                        f"{t['delay_years']} year(s) late; debt service as drawn in the bankable case", st("keyname"))
         r += 1
-        for c, label in enumerate(("Figure (per ha)", "Bankable", "Downside")):
+        per = "acre" if self.case.unit_system == "us_customary" else "ha"
+        for c, label in enumerate((f"Figure (per {per})", "Bankable", "Downside")):
             text(ws, r, c, label, st("head"))
         r += 1
         for name, label in LENDER_LABELS.items():
             d = self.fig(name)
+            factor, unit = display.convert(1.0, self._priced(d.unit), self.case.unit_system)
             fmt = st("value", number_format(d.unit))
-            text(ws, r, 0, f"{label} [{self.unit(d.unit)}]", st("label"))
+            shown = self.unit(unit)
+            text(ws, r, 0, f"{label} [{shown}]" if shown else label, st("label"))
             for c, v in ((1, lc.base.get(name)), (2, lc.downside.get(name))):
                 if v is None or (isinstance(v, float) and math.isnan(v)):
                     text(ws, r, c, "n/a", st("value"))
                 else:
-                    ws.write_number(r, c, float(v), fmt)
+                    ws.write_number(r, c, float(v) * factor, fmt)
             r += 1
         return r + 1
 
