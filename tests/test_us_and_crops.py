@@ -177,3 +177,15 @@ def test_price_per_gj_unit_is_currency_per_gj():
     from tea.inputs import schema
 
     assert schema.BY_PATH["revenue.price_per_gj"].unit_text("metric", "EUR") == "EUR/GJ"
+
+
+def test_a_us_case_prints_on_letter_paper_unless_it_says_otherwise(tmp_path):
+    """ANSI/ASME Y14.1 Letter (8.5 x 11 in) is the US paper: the default of a US customary case; A4 where the
+    case asks for it, and for a metric case."""
+    assert run_cli(["new", tmp_path / "us", "--crop", "switchgrass", "--units", "us_customary",
+                    "--currency", "USD"]).code == 0
+    text = (tmp_path / "us.toml").read_text(encoding="utf-8")
+    assert tea.load_case(tmp_path / "us.toml")["case.page_size"] == "Letter"
+    (tmp_path / "us_a4.toml").write_text(text.replace("[case]", '[case]\npage_size = "A4"', 1), encoding="utf-8")
+    assert tea.load_case(tmp_path / "us_a4.toml")["case.page_size"] == "A4"
+    assert tea.load_case(CLAY)["case.page_size"] == "A4"

@@ -521,6 +521,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             values[k.path] = k.default
             origin[k.path] = "default"
             notes[k.path] = k.source or "default"
+            if k.path == "case.page_size" and system == "us_customary":
+                values[k.path], notes[k.path] = "Letter", "default for a US customary case (ANSI Letter paper)"
             if k.path == "field.current_margin_per_ha":
                 warnings.append(f"{source}: field.{units.spell(k.template, system)}: not given; "
                                 "the current use is taken to earn 0 a year")

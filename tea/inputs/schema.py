@@ -118,7 +118,8 @@ KEYS: tuple[Key, ...] = (
     _k("case", "currency", "str", REQUIRED, "ISO 4217 code of the one currency all money is in (e.g. EUR, USD, GBP)."),
     _k("case", "units", "enum", "metric", "Unit system the outputs are shown in.", choices=tuple(units.SYSTEMS)),
     _k("case", "demo", "bool", False, "Marks the case as invented demo data; outputs then say so."),
-    _k("case", "page_size", "enum", "A4", "Paper size of the printed summary.", choices=("A4", "Letter")),
+    _k("case", "page_size", "enum", "A4", "Paper size of the printed summary (a US customary case: Letter unless given).",
+       choices=("A4", "Letter")),
     # --- field -------------------------------------------------------------------
     _k("field", "name", "str", "field", "Name of the field."),
     _k("field", "area_{ha}", "float", REQUIRED, "Area planted.", lo=0.0, lo_open=True, warn_hi=5000.0),
