@@ -156,3 +156,19 @@ def test_every_figure_and_line_of_every_demo_explains(cases):
         for kind, name, _ in X.listing():
             ex = X.explain(case, f"{kind}:{name}", depth=1)
             assert ex.root.name == name and ex.root.symbols
+
+
+def test_a_us_case_is_explained_with_its_values_in_its_own_units_too():
+    """The formulas work per ha; a US customary case also sees each value per acre (NIST Handbook 44
+    Appendix C: 1 acre = 0.40468564224 ha), so the number matches its other outputs."""
+    import tea
+    from tea.inputs import display
+
+    from conftest import CASES_DIR, run_cli
+
+    path = CASES_DIR / "sandy_slope_switchgrass.toml"
+    res = run_cli(["explain", path, "npv"])
+    assert res.code == 0, res.text
+    npv = tea.summarise(tea.load_case(path))["npv"]
+    assert f"({display.number(npv * 0.40468564224)} USD/acre)" in res.out
+    assert "a value in brackets is in the case's units" in res.out

@@ -45,6 +45,6 @@ def _cmd_explain(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(ex.to_dict(), indent=2, allow_nan=False, default=str))
     else:
-        print(explain_text(ex, case.currency))
+        print(explain_text(ex, case.currency, case.unit_system))
     sys.stdout.flush()
     return 0

@@ -24,9 +24,20 @@ def _value(v: Any, unit: str, currency: str) -> str:
     return f"{text} {unit.replace('money', currency)}".strip()
 
 
-def _node(n: Node, currency: str, indent: str, out: list[str]) -> None:
+def _in_system(v: Any, unit: str, currency: str, system: str) -> str:
+    """`` (the value in the case's US customary units)`` where they differ from the model's, else ""."""
+    if system == "metric" or isinstance(v, (np.ndarray, str)) or v is None or not np.isfinite(float(v)):
+        return ""
+    factor, shown = display.convert(1.0, unit, system)
+    if factor == 1.0 and shown == unit:
+        return ""
+    return f" ({_value(float(v) * factor, shown, currency)})"
+
+
+def _node(n: Node, currency: str, indent: str, out: list[str], system: str = "metric") -> None:
     what = "figure" if n.kind == "figure" else ("parameter" if n.kind == "param" else "line")
-    out.append(f"{indent}{n.name} ({what}, {n.unit.replace('money', currency)}) = {_value(n.value, n.unit, currency)}")
+    out.append(f"{indent}{n.name} ({what}, {n.unit.replace('money', currency)}) = {_value(n.value, n.unit, currency)}"
+               + _in_system(n.value, n.unit, currency, system))
     out.append(f"{indent}  {n.label}: {n.meaning}")
     out.append(f"{indent}  formula:  {n.symbols}")
     out.append(f"{indent}  in words: {n.words}")
@@ -35,14 +46,16 @@ def _node(n: Node, currency: str, indent: str, out: list[str]) -> None:
     if n.inputs:
         out.append(f"{indent}  inputs:   {', '.join(n.inputs)}")
     for c in n.children:
-        _node(c, currency, indent + "    ", out)
+        _node(c, currency, indent + "    ", out, system)
     if n.more:
         out.append(f"{indent}    ... {n.more} more below (raise --depth to see them)")
 
 
-def explain_text(ex: Explanation, currency: str) -> str:
+def explain_text(ex: Explanation, currency: str, system: str = "metric") -> str:
     out = [f"{ex.case} (case hash {ex.case_hash})" + (f", year {ex.year}" if ex.year is not None else ""), ""]
-    _node(ex.root, currency, "", out)
+    if system != "metric":
+        out[-1:] = ["The formulas work in metric units per ha; a value in brackets is in the case's units.", ""]
+    _node(ex.root, currency, "", out, system)
     out += ["", "Case inputs it uses (a 1 % change, or a step for a whole number or a choice, moves it):"]
     for u in ex.inputs:
         value = u.value if not isinstance(u.value, list) else ", ".join(f"{x:g}" for x in u.value)
