@@ -53,7 +53,8 @@ def yield_text(case: Case) -> str:
     out.append("")
     for name, value, unit in terms(s):
         shown = f"{value:.3f}" if unit == "fraction" else f"{value:,.2f}" if unit != "MJ/m2" else f"{value:,.0f}"
-        out.append(f"  {name:52} {shown:>10} {unit}")
+        also = f" ({_yield_text(value, system)})" if unit == "t DM/ha" and system != "metric" else ""
+        out.append(f"  {name:52} {shown:>10} {unit}{also}")
     out.append("")
     out.append(f"  {'month':5} {'global':>8} {'PAR in':>8} {'PAR':>8} {'share':>7} {'water':>6} {'dry matter':>11}")
     out.append(f"  {'':5} {'MJ/m2':>8} {'season':>8} {'interc.':>8} {'interc.':>7} {'factor':>6} {'t DM/ha':>11}")
