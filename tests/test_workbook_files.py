@@ -416,3 +416,17 @@ def test_site_climate_sheet_holds_the_potential_tea_computed(tmp_path, demo):
     head = next(r for r in range(1, ws.max_row + 1) if ws.cell(r, 1).value == "Month")
     assert [ws.cell(r, 1).value for r in range(head + 1, head + 13)] == list(range(1, 13))
     assert pot["estimated"] and any("this estimate is used" in str(ws.cell(r, 1).value) for r in range(1, head))
+
+
+def test_a_us_workbook_read_back_names_the_unit_it_is_written_in(tmp_path, demo):
+    """A text typed into the area of a US workbook: the one-line error gives the unit of its row (acre)."""
+    case = demo["sandy_slope_switchgrass"][0]
+    path = _write(tmp_path, case, sensitivity=False, risk=False)
+    wb = load_workbook(path)
+    ws = wb["Inputs"]
+    r = next(r for r in range(5, ws.max_row + 1) if ws.cell(r, COL["Key"]).value == "area_acre")
+    ws.cell(r, COL["Value"]).value = "forty"
+    wb.save(path)
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_case(path)
+    assert any("field.area_acre" in p.key and "expected a number [acre]" in p.message for p in err.value.problems)

@@ -29,7 +29,7 @@ from typing import Any, Sequence
 
 from tea.core.errors import CaseError, Problem
 from tea.core.safe_text import SHOWN_LIMIT, brief, clip, xlsx_unescape
-from tea.inputs import schema
+from tea.inputs import schema, units
 
 #: title of the inputs sheet (a portfolio prefixes "C01 " etc.)
 INPUTS = "Inputs"
@@ -386,7 +386,7 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
         if k.kind == "list":
             lists.setdefault((section, base), []).append((int(m.group(2)) if m else 1, value, written, where, r))
             continue
-        why = _cell_type_error(k, value)
+        why = _cell_type_error(k, value, base)
         if why:
             problems.append(Problem(source, where, why))
             continue
@@ -468,13 +468,15 @@ def _same(a: Any, b: Any) -> bool:
     return a == b
 
 
-def _cell_type_error(k: schema.Key, value: Any) -> str | None:
+def _cell_type_error(k: schema.Key, value: Any, spelling: str = "") -> str | None:
+    """Why a cell's value has the wrong type for ``k``, its unit in the system the key is ``spelling``-ed in."""
     if value is None or value == "":
         return None
     if isinstance(value, str) and value.startswith("#"):
         return f"the cell holds an error value {brief(value)}"
     if k.kind in ("float", "int") and not _is_number(value):
-        return f"expected a number [{k.unit_text()}], got {brief(value)}"
+        us = spelling == units.spell(k.template, "us_customary") != units.spell(k.template)
+        return f"expected a number [{k.unit_text('us_customary' if us else 'metric')}], got {brief(value)}"
     if k.kind == "bool" and not isinstance(value, bool):
         return f"expected TRUE or FALSE, got {brief(value)}"
     if k.kind in ("str", "enum") and not isinstance(value, str):
