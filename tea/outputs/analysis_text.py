@@ -9,7 +9,12 @@ from tea.analysis.sensitivity import Sensitivity, Surface, _display_factor, _uni
 from tea.inputs import riskspec, units
 from tea.inputs.case import Case
 from tea.core.texts import CAUTIONS
+from tea.outputs.terminal import wrapped
 from tea.inputs import display
+
+
+#: longest note on where a range comes from that sits in the table's last column [characters]
+NOTE_IN_TABLE = 16
 
 
 def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
@@ -26,19 +31,24 @@ def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
     out.append(f"Each input moved alone, the others at their base values; ranked by the swing of "
                f"{'NPV vs current use' if figure.endswith('vs_current_use') else 'NPV'} ({c.currency}/{per}).")
     out.append("")
-    rows = []
+    rows, notes = [], []
     for rank, i in enumerate(res.order(figure), start=1):
         m = res.moved[i]
-        eav = "eav_vs_current_use" if figure.endswith("vs_current_use") else "eav"
+        where = "declared" if m.declared else m.note
+        if len(where) > NOTE_IN_TABLE:  # a long note goes below the table, so that the table stays narrow
+            notes.append(where)
+            where = f"note {len(notes)}"
         rows.append([str(rank), m.label, m.range_text(c),
-                     money(res.low[figure][i]), money(res.high[figure][i]), money(abs(res.high[figure][i] - res.low[figure][i])),
-                     money(res.low[eav][i]), money(res.high[eav][i]), "declared" if m.declared else m.note])
+                     money(res.low[figure][i]), money(res.high[figure][i]),
+                     money(abs(res.high[figure][i] - res.low[figure][i])), where])
     name = "NPV vs now" if figure.endswith("vs_current_use") else "NPV"
-    heads = ["#", "input", "low / high", f"{name} low", f"{name} high", "swing", "EAV low", "EAV high", "range"]
+    heads = ["#", "input", "low / high", f"{name} low", f"{name} high", "swing", "range"]
     widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(heads)] if rows else [len(h) for h in heads]
-    align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 8) else s.rjust(widths[j])  # noqa: E731
-    out.append("  ".join(align(j, h) for j, h in enumerate(heads)))
-    out.extend("  ".join(align(j, s) for j, s in enumerate(r)) for r in rows)
+    align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 6) else s.rjust(widths[j])  # noqa: E731
+    out.append("  ".join(align(j, h) for j, h in enumerate(heads)).rstrip())
+    out.extend("  ".join(align(j, s) for j, s in enumerate(r)).rstrip() for r in rows)
+    out.extend(f"note {k}: {text}" for k, text in enumerate(notes, start=1))
+    out.append(f"(EAV low and high, per {per} a year: `tea sensitivity --json`.)")
     only_vs = [res.moved[i].label for i in range(len(res.moved))
                if res.low["npv"][i] == res.high["npv"][i] and res.low["npv_vs_current_use"][i] != res.high["npv_vs_current_use"][i]]
     if only_vs and figure == "npv":
@@ -54,7 +64,7 @@ def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
     out.append("")
     out.append("Cautions:")
     out.extend(f"  - {x}" for x in CAUTIONS)
-    return "\n".join(out)
+    return _joined(out)
 
 
 def _text_tornado(res: Sensitivity, figure: str, scale: float, width: int = 48) -> list[str]:
@@ -167,4 +177,10 @@ def risk_text(res: RiskResult) -> str:
     out.append("")
     out.append("Cautions:")
     out.extend(f"  - {x}" for x in CAUTIONS)
-    return "\n".join(out)
+    return _joined(out)
+
+
+def _joined(lines: list[str]) -> str:
+    """The lines as one text, prose wrapped at 100 characters (a line with columns, two spaces apart inside
+    it, is a table row and stays whole)."""
+    return "\n".join(line if "  " in line.strip() else wrapped(line) for line in lines)
