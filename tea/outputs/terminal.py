@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import textwrap
 from typing import Any
 
@@ -276,6 +277,35 @@ def _json_number(v: float) -> float | None:
     return v if v == v and abs(v) != float("inf") else None
 
 
+#: a source text that replaced a preset value opens with what the value was, then names the document
+_CHANGED = re.compile(r"changed from [^:]*:\s*")
+#: longest entry of a preset's short list of sources [characters]
+SHORT_SOURCE = 60
+
+
+def short_source(text: str) -> str:
+    """What a source text names, for a short list: the words before its first comma, colon or semicolon
+    outside brackets (``derived``, ``from memory`` and ``common practice`` stand for themselves), after what
+    a changed value was, cut at :data:`SHORT_SOURCE` characters.
+
+    >>> short_source("changed from 30: Szczukowski et al. 2002, Plant Soil Environ. 48:413")
+    'Szczukowski et al. 2002'
+    >>> short_source("Hay and Forage Grower (hayandforage.com, Maintenance), R. Smith: one-third")
+    'Hay and Forage Grower (hayandforage.com, Maintenance)'
+    >>> short_source("derived: 1.0 x (1 - 0.30)")
+    'derived'
+    """
+    text = _CHANGED.sub("", text.strip(), count=1)
+    depth = 0
+    for i, ch in enumerate(text):
+        depth += 1 if ch in "([" else (-1 if ch in ")]" else 0)
+        if ch in ",:;" and depth == 0:
+            text = text[:i]
+            break
+    text = text.strip()
+    return text if len(text) <= SHORT_SOURCE else text[:SHORT_SOURCE - 1].rstrip() + "\u2026"
+
+
 def presets_text(verbose: bool = False, system: str = "metric") -> str:
     """The crop presets; with ``verbose`` every value with its source, spelled and converted to ``system``."""
     from tea.inputs import schema, units
@@ -297,7 +327,7 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
                 if regions:
                     out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
         else:
-            sources = sorted({s.split(":")[0].split(",")[0] for s in p.sources.values()})
+            sources = sorted({short_source(s) for s in p.sources.values()} - {""})
             out.append("    sources: " + "; ".join(sources))
     out.append("")
     out.append("`tea presets -v` lists every value with its source (--units us_customary in US units); "
