@@ -330,3 +330,19 @@ class TestReplaceAndProblems:
         assert issubclass(CaseError, tea.TeaError)
         with pytest.raises(ValueError):
             CaseError([])
+
+
+def test_a_wrong_value_is_told_in_the_units_and_currency_the_case_uses():
+    """A text where a US case's money per acre belongs: the one-line error names USD/acre/yr, as the key is
+    spelled (not the metric currency/ha/yr)."""
+    from conftest import CASES_DIR
+
+    text = (CASES_DIR / "sandy_slope_switchgrass.toml").read_text(encoding="utf-8")
+    assert "current_margin_per_acre = " in text
+    bad = "\n".join('current_margin_per_acre = "lots"' if line.startswith("current_margin_per_acre = ") else line
+                    for line in text.splitlines())
+    with pytest.raises(CaseError) as err:
+        load_text(bad, source="us.toml")
+    [problem] = [p for p in err.value.problems if "current_margin" in p.key]
+    assert problem.key == "field.current_margin_per_acre"
+    assert problem.message == "expected a number [USD/acre/yr], got 'lots'"

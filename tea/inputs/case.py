@@ -312,16 +312,16 @@ def _expected(k: schema.Key, system: str = "metric", currency: str = "") -> str:
     return f"{what}" + (f" [{unit}]" if unit else "")
 
 
-def _type_error(k: schema.Key, value: Any) -> str | None:
-    """Why ``value`` has the wrong type for ``k``, or None."""
+def _type_error(k: schema.Key, value: Any, system: str = "metric", currency: str = "") -> str | None:
+    """Why ``value`` has the wrong type for ``k``, or None (units as ``system`` and ``currency`` spell them)."""
     is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
 
     def too_big() -> str:
-        return f"expected {_expected(k)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
+        return f"expected {_expected(k, system, currency)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
 
     if k.kind == "float":
         if not is_num:
-            return f"expected {_expected(k)}, got {brief(value)}"
+            return f"expected {_expected(k, system, currency)}, got {brief(value)}"
         if isinstance(value, float) and not math.isfinite(value):
             return f"expected a finite number, got {brief(value)}"
         if abs(value) > MAGNITUDE_LIMIT:  # exact for any int: no conversion to float
@@ -335,7 +335,7 @@ def _type_error(k: schema.Key, value: Any) -> str | None:
             return too_big()
     elif k.kind in ("str", "enum"):
         if not isinstance(value, str):
-            return f"expected {_expected(k)}, got {brief(value)}"
+            return f"expected {_expected(k, system, currency)}, got {brief(value)}"
         if k.kind == "enum" and value not in k.choices:
             return f"expected one of {', '.join(k.choices)}, got {brief(value)}" + _suggest(value, k.choices)
     elif k.kind == "bool":
@@ -408,7 +408,10 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     if not isinstance(data, Mapping):
         raise CaseError([Problem(source, "", "expected a TOML document of [sections]")])
 
-    # 1. the case's own keys: known, well typed, one spelling each
+    # 1. the case's own keys: known, well typed, one spelling each (a wrong one told in the case's currency)
+    case_table = data.get("case")
+    given_currency = case_table.get("currency") if isinstance(case_table, Mapping) else None
+    given_currency = given_currency if isinstance(given_currency, str) and not currency_problem(given_currency) else ""
     for section, table in data.items():
         if section in EXTENSION_SECTIONS:
             parsed, found = _parse_extension(section, table, source)
@@ -442,7 +445,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             if k.path in values or k.path in rejected:
                 bad(path, f"given twice (also as {k.section}.{spelled.get(k.path) or rejected[k.path]}); give it once")
                 continue
-            why = _type_error(k, value)
+            us = key == units.spell(k.template, "us_customary") != units.spell(k.template)
+            why = _type_error(k, value, "us_customary" if us else "metric", given_currency)
             if why:
                 bad(path, why)
                 rejected[k.path] = key
