@@ -430,3 +430,24 @@ def test_a_us_workbook_read_back_names_the_unit_it_is_written_in(tmp_path, demo)
     with pytest.raises(tea.CaseError) as err:
         tea.load_case(path)
     assert any("field.area_acre" in p.key and "expected a number [acre]" in p.message for p in err.value.problems)
+
+
+def test_a_workbook_read_back_tells_every_problem_at_once_each_at_its_cell(tmp_path, demo):
+    """A text in one cell and a discount rate of 5 (500 %) in another: both in one run, each naming its cell
+    on the inputs sheet, and no spurious 'missing value' for the cell already told."""
+    case = demo["sandy_slope_switchgrass"][0]
+    path = _write(tmp_path, case, sensitivity=False, risk=False)
+    wb = load_workbook(path)
+    ws = wb["Inputs"]
+    row = {ws.cell(r, COL["Key"]).value: r for r in range(5, ws.max_row + 1)}
+    ws.cell(row["area_acre"], COL["Value"]).value = "forty"
+    ws.cell(row["discount_rate"], COL["Value"]).value = 5
+    wb.save(path)
+    with pytest.raises(tea.CaseError) as err:
+        tea.load_case(path)
+    keys = [p.key for p in err.value.problems]
+    area_cell = f"Inputs!{ws.cell(row['area_acre'], COL['Value']).coordinate}"
+    rate_cell = f"Inputs!{ws.cell(row['discount_rate'], COL['Value']).coordinate}"
+    assert f"field.area_acre ({area_cell})" in keys, keys
+    assert f"finance.discount_rate ({rate_cell})" in keys, keys
+    assert not [p for p in err.value.problems if "area" in p.key and "missing value" in p.message]

@@ -223,9 +223,7 @@ def load_case(path: str | Path) -> Case:
     if not path.exists():
         raise CaseError([Problem(source, "", "file not found")])
     if path.suffix.lower() == ".xlsx":
-        from tea.inputs.workbook_reader import read_case_mapping  # only when a workbook is read back
-
-        return load_mapping(read_case_mapping(path), source=source)
+        return _load_workbook(path, source)
     try:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
@@ -233,6 +231,28 @@ def load_case(path: str | Path) -> Case:
     except (OSError, UnicodeDecodeError) as exc:
         raise CaseError([Problem(source, "", f"cannot read the file ({exc.__class__.__name__}: {exc})")]) from None
     return load_text(text, source=source)
+
+
+def _load_workbook(path: Path, source: str) -> Case:
+    """A workbook's inputs sheet as a case: every problem at once (wrong cells, and what the loader finds in
+    the rest), each naming its cell."""
+    from tea.inputs.workbook_reader import CellErrors, read_with_cells  # only when a workbook is read back
+
+    try:
+        mapping, cells = read_with_cells(path)
+        first: list[Problem] = []
+    except CellErrors as exc:
+        mapping, cells, first = exc.mapping, exc.cells, list(exc.problems)
+    try:
+        case = load_mapping(mapping, source=source)
+    except CaseError as exc:
+        told = {p.key.split(" (")[0] for p in first}
+        more = [Problem(p.source, f"{p.key} ({cells[p.key]})" if p.key in cells else p.key, p.message)
+                for p in exc.problems if p.key not in told]
+        raise CaseError(first + more) from None
+    if first:
+        raise CaseError(first)
+    return case
 
 
 def load_text(text: str, source: str = "<case>") -> Case:

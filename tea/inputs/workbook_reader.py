@@ -75,8 +75,8 @@ class _Formula:
         return f"={self.text}"
 
 
-def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
-    """The case-file mapping held by the inputs sheet of a workbook written by `tea`.
+def read_with_cells(path: str | Path) -> tuple[dict[str, dict[str, Any]], dict[str, str]]:
+    """The case-file mapping held by the inputs sheet of a workbook written by `tea`, and the cell of each key.
 
     Returns ``{section: {key spelled in the case's units: value}}`` for
     :func:`tea.inputs.case.load_mapping`. A row is taken when the case file gave it
@@ -85,10 +85,13 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
     filled in again by the loader, so an edited climate or preset takes effect.
     A blank value means "not given".
 
+    and ``{"section.key": "Inputs!B12"}``.
+
     Raises
     ------
     CaseError
-        naming the file and the cell or key when the workbook cannot be read.
+        naming the file and the cell or key when the workbook cannot be read;
+        :class:`CellErrors` when single cells are wrong (the rest is read).
     """
     source = str(path)
     p = Path(path)
@@ -110,6 +113,11 @@ def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
     empty = [None] * width
     rows = [grid.get(i, empty) for i in range(max(grid, default=-1) + 1)]
     return _mapping(rows, titles[0], source)
+
+
+def read_case_mapping(path: str | Path) -> dict[str, dict[str, Any]]:
+    """The case-file mapping of a workbook written by `tea` (:func:`read_with_cells` without the cells)."""
+    return read_with_cells(path)[0]
 
 
 class _Book:
@@ -329,8 +337,8 @@ def _cell_value(c, kind: str, strings: list[str]) -> Any:
     return value
 
 
-def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, dict[str, Any]]:
-    """The case mapping of the inputs sheet's rows."""
+def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> tuple[dict[str, dict[str, Any]], dict[str, str]]:
+    """The case mapping of the inputs sheet's rows, and the cell of each key's value."""
     head = None
     for i, row in enumerate(rows):
         if row and tuple(row[: len(INPUT_COLUMNS)]) == INPUT_COLUMNS:
@@ -343,6 +351,7 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
     problems: list[Problem] = []
     lists: dict[tuple[str, str], list[tuple[int, Any, Any, str, int]]] = {}
     out: dict[str, dict[str, Any]] = {}
+    cells: dict[str, str] = {}  # "section.key" -> its value's cell, e.g. "Inputs!B12"
     current_origin: dict[tuple[str, str], str] = {}
     seen: dict[tuple[str, str], int] = {}
     index = _key_index()
@@ -383,6 +392,7 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
         if isinstance(origin, str):
             current_origin[(section, base)] = origin
         where = f"{_name(section)}.{_name(key)} ({cell(col['Value'], r)})"
+        cells.setdefault(f"{section}.{base}", cell(col["Value"], r))
         if k.kind == "list":
             lists.setdefault((section, base), []).append((int(m.group(2)) if m else 1, value, written, where, r))
             continue
@@ -438,8 +448,17 @@ def _mapping(rows: list[Sequence[Any]], title: str, source: str) -> dict[str, di
             problems.append(Problem(source, where, "malformed JSON: nested too deeply (a kept section needs "
                                     "a few levels)"))
     if problems:
-        raise CaseError(problems)
-    return out
+        raise CellErrors(problems, out, cells)
+    return out, cells
+
+
+class CellErrors(CaseError):
+    """Problems of single cells, with the rest of the sheet read (``mapping``) and where each key's value sits
+    (``cells``), so that the loader can tell every other problem of the workbook in the same run."""
+
+    def __init__(self, problems: list[Problem], mapping: dict[str, dict[str, Any]], cells: dict[str, str]):
+        super().__init__(problems)
+        self.mapping, self.cells = mapping, cells
 
 
 def _name(text: str) -> str:
