@@ -135,3 +135,10 @@ def test_a_crowded_comparison_panel_names_the_highest_and_lowest_and_greys_the_r
     assert "and 8 other cases in grey" in chart.alt
     few = charts.compare_cumulative([("EUR per ha", series[:3])], name="few")
     assert [t for t in _svg_texts(few.svg) if "field" in t] == ["1. field 1", "2. field 2", "3. field 3"]
+
+
+def test_dollar_signs_in_a_name_are_text_not_math_markup():
+    """matplotlib reads $...$ as math markup unless escaped: a case named with dollar signs shows them."""
+    series = [charts.Series("1. $\\frac{1}{2}$ acre", [0.0, 1.0], [-1.0, 2.0], None)]
+    chart = charts.compare_cumulative([("USD per acre", series)], name="dollars")
+    assert "1. $\\frac{1}{2}$ acre" in _svg_texts(chart.svg)

@@ -399,8 +399,10 @@ class Series:
 MOST_NAMED_LINES = len(SERIES)
 #: with more cases on a panel: how many that end highest, and how many that end lowest, are named in colour
 NAMED_HIGHEST, NAMED_LOWEST = 3, 1
-#: colour of the lines of the cases not named on a crowded panel, and the length its legend's names are cut to
-OTHERS, CROWDED_LABEL_CHARS = "#b9c0c4", 34
+#: colour of the lines of the cases not named on a crowded panel
+OTHERS = "#b9c0c4"
+#: the length a name in a comparison chart's legend is cut to (the table above the chart names each case in full)
+LEGEND_CHARS = 48
 
 
 def _cut(text: str, most: int) -> str:
@@ -454,7 +456,7 @@ def compare_cumulative(
             for s in (series[j] for j in named):
                 colour, marker = SERIES[k % len(SERIES)], MARKERS[k % len(MARKERS)]
                 ax.plot(s.years, s.values, color=colour, marker=marker, markersize=2.4, linewidth=1.2,
-                        label=plain(_cut(s.label, CROWDED_LABEL_CHARS) if others else s.label))
+                        label=plain(_cut(s.label, LEGEND_CHARS)))
                 if s.payback_year is not None:
                     i = list(s.years).index(s.payback_year) if s.payback_year in list(s.years) else None
                     if i is not None:

@@ -85,7 +85,7 @@ def _panels(cases, ledgers, results) -> list[tuple[str, list[charts.Series]]]:
         unit = f"{case.currency} per {per_area(case)}"
         values = [display.convert(float(x), "money/ha", case.unit_system)[0] for x in frame["cumulative_cash_flow"]]
         panels.setdefault((unit, case.unit_system), []).append(
-            charts.Series(f"{i + 1}. {case.name}: {crop_name(case)}", [float(y) for y in frame["year"]], values,
+            charts.Series(f"{i + 1}. {case.name}", [float(y) for y in frame["year"]], values,
                           value_of(res, "payback_year")))
     return [(unit, series) for (unit, _), series in panels.items()]
 
