@@ -221,6 +221,9 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
             return got
         x = S.dense(x)
     if kind == "total":
+        if x.ndim == 2 and x.dtype == np.float64:
+            # the years of each row added in order; np.sum's reduction over short rows is several times slower
+            return np.einsum("ij->i", x)[:, None]
         return np.sum(x, axis=1, keepdims=True)
     if kind == "npv":
         return np.sum(x * (1.0 + np.asarray(arg, dtype=float)) ** -env.t, axis=1, keepdims=True)
@@ -240,9 +243,10 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
         none = np.all(np.isnan(x), axis=1, keepdims=True)
         return np.where(none, np.nan, np.argmin(filled, axis=1)[:, None].astype(float))
     if kind == "first_year":
-        hit = np.abs(x) > 0  # not zero and not "no value"
-        first = np.argmax(hit, axis=1)[:, None]
-        return np.where(np.take_along_axis(hit, first, axis=1), first.astype(float), np.nan)
+        hit = (x > 0) | (x < 0)  # not zero and not "no value" (no temporary array of magnitudes)
+        first = np.argmax(hit, axis=1)
+        found = hit[np.arange(hit.shape[0]), first]
+        return np.where(found, first.astype(float), np.nan)[:, None]
     raise ValueError(f"unknown reduction {kind!r}")
 
 

@@ -304,12 +304,20 @@ def npv(x: Sep, factors: np.ndarray) -> np.ndarray | None:
 
 
 def at(x: Sep, year: np.ndarray) -> np.ndarray | None:
-    """x in a year every row shares; None where rows ask different years."""
+    """x in a year, the same for every row or one per row: each term's amount times its pattern in that
+    year (no row of years made dense); NaN where a row's year is not a year of x. None for a shared year
+    outside the years (the caller's rule for it applies)."""
     y = np.asarray(year, dtype=float)
-    if y.size != 1 or not np.isfinite(y.flat[0]) or not 0 <= y.flat[0] < x.years:
-        return None
-    i = int(y.flat[0])
-    return _column(sum(np.multiply(c, p[:, i:i + 1]) for c, p in x.terms), x.rows)
+    if y.size == 1:
+        if not np.isfinite(y.flat[0]) or not 0 <= y.flat[0] < x.years:
+            return None
+        i = int(y.flat[0])
+        return _column(sum(np.multiply(c, p[:, i:i + 1]) for c, p in x.terms), x.rows)
+    y = np.broadcast_to(y.reshape(-1, 1), (x.rows, 1))
+    ok = np.isfinite(y) & (y >= 0) & (y < x.years)
+    idx = np.where(ok, y, 0).astype(np.int64).reshape(-1)
+    got = sum((np.multiply(c, p[0, idx].reshape(-1, 1)) for c, p in x.terms), np.zeros((x.rows, 1)))
+    return np.where(ok, got, np.nan)
 
 
 def column(x: Sep, s: int) -> np.ndarray:
