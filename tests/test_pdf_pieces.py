@@ -148,3 +148,28 @@ def test_join_keeps_the_pages_in_order(tmp_path):
     reader = PdfReader(target)  # pypdf reads the joined file
     assert [p.extract_text().strip() for p in reader.pages] == ["page one", "page two", "three"]
     assert reader.metadata["/Title"] == "first"
+
+
+def test_case_pages_written_together_in_one_piece_keep_their_order_and_fit(tmp_path, monkeypatch):
+    """Pages per piece as a comparison of many cases takes them (here two of three, so that one piece holds
+    several pages): the same file with one worker or two; poppler reads each case page on its own sheet,
+    in order, each saying which case of how many it is."""
+    loaded = []
+    for path in DEMO_CASES[:3]:
+        case = tea.load_case(path)
+        frame = tea.build_ledger(case)
+        loaded.append((case, frame, tea.summarise(case, frame)))
+    cases, frames, results = (list(x) for x in zip(*loaded))
+    assert report.pages_per_piece(3) == 1 and report.pages_per_piece(100) == report.MOST_PAGES_PER_PIECE
+    monkeypatch.setattr(report, "pages_per_piece", lambda n: 2)
+    made = {}
+    for jobs in ("1", "2"):
+        monkeypatch.setenv(workers.JOBS_VARIABLE, jobs)
+        report._fit_cache.clear()
+        made[jobs] = report.render_comparison(cases, frames, results, tmp_path / f"jobs{jobs}.pdf")
+    assert made["1"].read_bytes() == made["2"].read_bytes()
+    info = dict(line.split(":", 1) for line in _run("pdfinfo", str(made["2"])).splitlines() if ":" in line)
+    assert info["Pages"].strip() == "4"
+    for k, case in enumerate(cases, start=2):
+        page = _run("pdftotext", "-f", str(k), "-l", str(k), str(made["2"]), "-")
+        assert case.name in page and f"case {k - 1} of 3" in page

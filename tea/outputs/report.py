@@ -183,30 +183,40 @@ def render_comparison(
     if kind == "html" and key in _fit_cache:  # the fit of the same report, just measured
         return atomic_write_text(path, whole(_fit_cache[key]), force=True)
 
-    def piece(k: int) -> tuple[int | None, bytes | None]:
-        """Piece 0 the overview, piece i the page of case i - 1: laid out, and written as PDF for a PDF."""
+    def fitted(i: int):
+        """The page of case i, fitted to its sheet: (density, laid-out document)."""
+        page, label = case_page(i), f"case {i + 1} of {len(cases)}"
+
+        def html_at(d: int) -> str:
+            return _render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
+                           page_label=label, generator=f"tea {__version__}")
+
+        return pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT, CHART_SCALE,
+                       _stylesheets(), floor=page.first_density)
+
+    batch = pages_per_piece(len(cases))
+    batches = [range(start, min(start + batch, len(cases))) for start in range(0, len(cases), batch)]
+
+    def piece(k: int) -> tuple[list[int], bytes | None]:
+        """Piece 0 the overview, piece k the pages of the k-th batch of cases, each fitted to its own sheet:
+        laid out, and written as one PDF for a PDF."""
         if k == 0:
             html = _render("compare.html.j2", page_size=size, overview=compare.overview(cases, ledgers, results, size),
                            meta=meta, embed=True, page_label="", pages=[], generator=f"tea {__version__}")
-            density, doc = None, pdf.layout(html, _stylesheets())
-        else:
-            page, label = case_page(k - 1), f"case {k} of {len(cases)}"
-
-            def html_at(d: int) -> str:
-                return _render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
-                               page_label=label, generator=f"tea {__version__}")
-
-            density, doc = pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT,
-                                   CHART_SCALE, _stylesheets(), floor=page.first_density)
-        return density, (pdf.write_pdf(doc) if kind == "pdf" else None)
+            doc = pdf.layout(html, _stylesheets())
+            return [], (pdf.write_pdf(doc) if kind == "pdf" else None)
+        made = [fitted(i) for i in batches[k - 1]]
+        if kind != "pdf":
+            return [d for d, _ in made], None
+        docs = [doc for _, doc in made]
+        return [d for d, _ in made], pdf.write_pdf(docs[0].copy([p for doc in docs for p in doc.pages]))
 
     pdf.prepare()  # the engine's start-up paid once, before the pieces are shared out to workers
     densities: list[int] = []
 
     def parts():
-        for density, data in workers.each(1 + len(cases), piece):
-            if density is not None:
-                densities.append(density)
+        for made, data in workers.each(1 + len(batches), piece):
+            densities.extend(made)
             if data is not None:
                 yield data
         _remember(key, tuple(densities))
@@ -216,6 +226,18 @@ def render_comparison(
             pass
         return atomic_write_text(path, whole(densities), force=True)
     return atomic_write(path, lambda tmp: pdf.join(parts(), tmp), force=True)
+
+
+#: case pages written together as one piece of a comparison, at most: one write and one join for several
+#: pages (fewer font subsets, less joining), still a few laid-out pages in memory at a time
+MOST_PAGES_PER_PIECE = 8
+
+
+def pages_per_piece(cases: int) -> int:
+    """Case pages per piece of a comparison of ``cases`` cases: about an eighth of them, 1 to
+    :data:`MOST_PAGES_PER_PIECE`; it depends on the number of cases alone, so the file does not depend on the
+    number of workers."""
+    return max(1, min(MOST_PAGES_PER_PIECE, cases // 8))
 
 
 def summary_html(case: Case, ledger: pd.DataFrame, results: Results, page_size: str | None = None,
