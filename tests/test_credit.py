@@ -209,3 +209,48 @@ class TestIrrRule:
         assert res["irr"] == pytest.approx(positive[0], abs=1e-9)
         assert npf.npv(res["irr"], flows) == pytest.approx(0.0, abs=1e-6)
         assert "Norström" in res.notes["irr"]
+
+
+def test_a_covenant_first_tested_after_the_loan_has_ended_is_refused():
+    """A covenant whose first test year comes after the last repayment would never be tested: one line naming
+    loan.covenant_first_year and the years allowed (common lending practice: a covenant is tested while the
+    debt is outstanding)."""
+    from tea.core.errors import CaseError
+    from tea.inputs.case import load_text
+
+    from conftest import CASES_DIR
+
+    text = (CASES_DIR / "clay_corner_miscanthus.toml").read_text(encoding="utf-8")
+    text = text.replace("[loan]", "[loan]\ncovenant_first_year = 30", 1)
+    with pytest.raises(CaseError) as err:
+        load_text(text, source="late_covenant.toml")
+    [p] = err.value.problems
+    assert p.key == "loan.covenant_first_year" and "never be tested" in p.message
+
+
+def test_tax_a_loan_cut_short_and_uncovered_debt_service_are_told_in_the_terminal(tmp_path):
+    """What a grower must not miss reaches the terminal summary, from the engine's own figures: the after-tax
+    NPV and IRR of a taxed case, the debt service its cash does not cover in interest-only grace years, and a
+    sculpted loan drawn below what was asked for."""
+    from conftest import CASES_DIR, run_cli
+
+    clay = (CASES_DIR / "clay_corner_miscanthus.toml").read_text(encoding="utf-8").split("# --- What moves")[0]
+    taxed = clay.replace('grace_interest = "capitalised"', 'grace_interest = "interest_only"', 1) \
+        + '\n[tax]\nrate = 0.25\nestablishment = "amortised"\namortisation_years = 10\n'
+    path = tmp_path / "taxed.toml"
+    path.write_text(taxed, encoding="utf-8")
+    res = run_cli(["run", path, "--brief"])
+    assert res.code == 0, res.text
+    figures = tea.summarise(tea.load_case(path))
+    assert figures["tax_total"] > 0 and figures["money_short_of_debt_service"] > 0
+    assert "NPV after tax" in res.out and "IRR after tax" in res.out
+    assert "Debt service not covered" in res.out and "Largest yearly loan payment" in res.out
+    sculpted = clay.replace("share_of_establishment = 0.6", "share_of_establishment = 1.0\nsculpt_dscr = 2.5", 1) \
+        .replace('profile = "annuity"', 'profile = "sculpted"', 1)
+    path = tmp_path / "sculpted.toml"
+    path.write_text(sculpted, encoding="utf-8")
+    figures = tea.summarise(tea.load_case(path))
+    assert figures["loan_asked"] > figures["loan_principal"] > 0
+    res = run_cli(["run", path, "--brief"])
+    flat = " ".join(res.out.split())  # lines wrap at 100 characters
+    assert "asked for: the sculpted profile draws at most what its target DSCR repays" in flat

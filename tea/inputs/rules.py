@@ -180,6 +180,11 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     if isinstance(share, (int, float)) and share > 0 and isinstance(life, int) and isinstance(grace, int) \
             and isinstance(term, int) and grace + term > life:
         bad("loan.term_years", f"grace ({grace}) + term ({term}) years run past the stand life ({life} years)")
+    cov = values.get("loan.covenant_first_year")
+    if isinstance(share, (int, float)) and share > 0 and isinstance(grace, int) and isinstance(term, int) \
+            and isinstance(cov, int) and cov > grace + term and "loan.covenant_first_year" not in bad_keys:
+        bad("loan.covenant_first_year", f"year {cov} comes after the loan's last repayment (year {grace + term}): "
+            f"the covenant would never be tested; expected 0 (the first repayment year) to {grace + term}")
     if isinstance(life, int) and isinstance(first, int) and first > life and "harvest.first_year" not in bad_keys:
         bad("harvest.first_year", f"the first harvest (year {first}) falls after the stand's life ({life} years)")
     start = values.get("yield.decline_start_year")

@@ -220,8 +220,9 @@ def _loan_line(case: Case, res: Results) -> str:
     cover = (f"lowest DSCR {fig_text(case, res, 'min_dscr')} in {fig_text(case, res, 'min_dscr_year')} "
              f"(covenant {fig_text(case, res, 'dscr_covenant')}" if value_of(res, "min_dscr") is not None else "")
     below = value_of(res, "years_below_covenant") or 0
+    level = case["loan.profile"] == "annuity"  # the only profile whose payment is the same each year
     return (f"{fig_text(case, res, 'loan_principal')} at {display.percent(case['loan.rate'], 1)}, repaid at "
-            f"{fig_text(case, res, 'loan_payment')}; {cover}"
+            f"{'' if level else 'up to '}{fig_text(case, res, 'loan_payment')}; {cover}"
             + ((f"; {below:.0f} year{'s' if below != 1 else ''} below)" if below else ")") if cover else "")
             + f"; own funding peaks at {fig_text(case, res, 'equity_peak_funding_need')}.")
 
@@ -295,6 +296,10 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
                         f"moving towards {_quantity(case, _soc_target(case), 't C/ha')} "
                         f"({_soc_method(case)})", _source(case, "carbon.soc_ref_t_c_per_ha")),
     ]
+    if (v.get("tax.rate") or 0) > 0:  # the figures above are before the stand's own tax
+        items.append(("Tax", f"{display.percent(v['tax.rate'], 0)} of the stand's taxable result: NPV after tax "
+                      f"{fig_text(case, res, 'npv_after_tax')}, IRR after tax {fig_text(case, res, 'irr_after_tax')} "
+                      "(the other figures are before tax)", _source(case, "tax.rate")))
     if (v.get("carbon.credit_price_per_t_co2e") or 0) > 0:
         items.append(("Carbon credits", f"{_money(case, v['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e "
                       f"first verified in year {v.get('carbon.credit_first_year', 1)}, "

@@ -75,7 +75,8 @@ SUMMARY_ROWS = (
                 "ghg_net_t_co2e_per_year", "ghg_net_kg_co2e_per_t_dm", "ghg_net_kg_co2e_per_gj", "credited_t_co2e",
                 "credit_payback_t_co2e", "carbon_credit_pv")),
     ("Loan", ("loan_principal", "loan_payment", "loan_interest_total", "min_dscr", "min_dscr_year", "dscr_covenant",
-              "years_below_covenant", "equity_peak_funding_need")),
+              "years_below_covenant", "money_short_of_debt_service", "equity_peak_funding_need")),
+    ("After tax", ("npv_after_tax", "irr_after_tax", "tax_total")),
 )
 
 LABELS = {
@@ -119,13 +120,17 @@ LABELS = {
     "ghg_net_with_reversion_vs_current_use_t_co2e": "  the same, + reversion",
     "carbon_credit_pv": "Carbon credits, present value",
     "loan_principal": "Establishment loan",
-    "loan_payment": "Yearly loan payment",
+    "loan_payment": "Largest yearly loan payment",
     "loan_interest_total": "Interest over the loan",
     "min_dscr": "Lowest DSCR",
     "min_dscr_year": "Lowest DSCR in",
     "dscr_covenant": "DSCR covenant",
     "years_below_covenant": "Years below covenant",
     "equity_peak_funding_need": "Peak own funding after loan",
+    "money_short_of_debt_service": "Debt service not covered",
+    "npv_after_tax": "NPV after tax",
+    "irr_after_tax": "IRR after tax",
+    "tax_total": "Tax over the stand life",
 }
 
 TABLE = (
@@ -167,10 +172,14 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
     for title, names in SUMMARY_ROWS:
         if title == "Loan" and not res["loan_principal"]:
             continue
+        if title == "After tax" and not case["tax.rate"]:
+            continue
         out.append(f"{title} (per {per} | whole field)")
         for name in names:
             if name in ("credited_t_co2e", "credit_payback_t_co2e", "carbon_credit_pv") \
                     and not case["carbon.credit_price_per_t_co2e"]:
+                continue
+            if name == "money_short_of_debt_service" and not res[name]:
                 continue
             per_ha = _fig(res, case, name)
             if name.startswith("breakeven_mature") and res[name] is not None:  # beside the case's own value
@@ -178,6 +187,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 per_ha += f" (case: {given:,.2f})"
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
+            if name == "loan_principal" and (res["loan_asked"] or 0) > (res[name] or 0) + 0.005:
+                out.append(f"  {'':<{width}}less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted "
+                           "profile draws at most what its target DSCR repays")
         out.append("")
     block = yield_text.site_lines(case)
     if block:

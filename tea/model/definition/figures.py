@@ -255,6 +255,9 @@ DEFS = WORKINGS + (
            "costs.", npv(L.carbon_credit_net_cash, RATE), scales=True),
     figure("loan_principal", M, "loan", "Establishment loan", "Establishment loan drawn at planting.",
            at_year(L.loan_drawdown, 0), scales=True),
+    figure("loan_asked", M, "loan", "Loan asked for",
+           "The loan asked for (share x establishment cost); a sculpted profile draws at most what its target "
+           "DSCR repays.", L.loan_requested + 0, scales=True),
     figure("loan_payment", "money/ha/yr", "loan", "Largest yearly debt service",
            "Largest debt service of a year (the level payment of an annuity).", highest(L.debt_service),
            scales=True),
