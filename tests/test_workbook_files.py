@@ -376,6 +376,14 @@ def test_cli_writes_a_portfolio(tmp_path, capsys):
     assert wb.sheetnames[0] == "Side by side" and "C03 Notes" in wb.sheetnames
     assert [t for t in wb.sheetnames if t.endswith("Sensitivity")] == ["C01 Sensitivity"]
     assert sum(t.endswith(" Summary") for t in wb.sheetnames) == 3
+    # the demos are in EUR and USD: no unit on the side-by-side sheet names one currency for all of them,
+    # and each case's own currency heads its column
+    side = wb["Side by side"]
+    rows = [[c for c in row] for row in side.iter_rows(min_row=1, max_row=40, values_only=True)]
+    units = [row[1] for row in rows[6:] if row and row[1]]
+    assert units and not [u for u in units if "EUR" in u or "USD" in u], units
+    heads = " ".join(str(c) for c in rows[5] if c)
+    assert "EUR" in heads and "USD" in heads
     wb.close()
     assert cli.main(args) == 2  # exists: not overwritten without --force
     assert "exists" in capsys.readouterr().err

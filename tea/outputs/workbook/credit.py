@@ -511,8 +511,13 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     """The first sheet of a portfolio, the cases side by side: each cell a link to the case's own figures sheet."""
     ws.set_tab_color(PALETTE["head_fill"])
     text(ws, 0, 0, f"Side by side: {len(cases)} cases", st("title"))
+    currencies = {c.currency for c in cases}
+    money = next(iter(currencies)) if len(currencies) == 1 else "currency"  # each case's own, in its column head
     text(ws, 1, 0, "Every figure links to the case's own figures sheet; whole field where a figure scales with the "
-                   "area, per ha otherwise. Planning estimates, not financial advice.", st("subtitle"))
+                   "area, per ha otherwise, in metric units (ha, metric t) for every case"
+                   + (", US customary ones too" if any(c.unit_system == "us_customary" for c in cases) else "")
+                   + ("; money in each case's own currency (under its name)" if len(currencies) > 1 else "")
+                   + ". Planning estimates, not financial advice.", st("subtitle"))
     head = st("head")
     for c, label in enumerate(("Figure", "Unit")):
         text(ws, 3, c, label, head)
@@ -525,8 +530,7 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     for name in (*KEY_FIGURES, *SOURCES_USES):
         d = model.figure(name)
         text(ws, r, 0, d.label + (" (whole field)" if d.scales else ""), st("label"))
-        text(ws, r, 1, unit_shown(whole_field_unit(d.unit) if d.scales else d.unit, cases[0].currency),
-             st("keyname"))
+        text(ws, r, 1, unit_shown(whole_field_unit(d.unit) if d.scales else d.unit, money), st("keyname"))
         for j, (case, lay) in enumerate(zip(cases, layouts)):
             v = cached(values[j][d.key])
             col = FIG_FIELD_COL if d.scales else FIG_VALUE_COL
