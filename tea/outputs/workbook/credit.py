@@ -84,6 +84,9 @@ class CreditWriter(SheetWriter):
         text(ws, r, 0, "Checks failing (see the Checks sheet)", st("label"))
         ws.write_formula(r, 1, f"={self.checks_count_cell}", st("key", "0"), self._checks_failing)
         ws.conditional_format(r, 1, r, 1, {"type": "cell", "criteria": ">", "value": 0, "format": st.flag_fmt})
+        r += 1
+        text(ws, r, 0, "Figures changed since tea wrote the file (an input edited)", st("label"))
+        ws.write_formula(r, 1, f"={self.changed_count_cell}", st("key", "0"), 0)
         r += 2
         text(ws, r, 0, "Cautions", st("group"))
         r += 1
@@ -274,6 +277,9 @@ class CreditWriter(SheetWriter):
         text(ws, 3, 0, "Checks failing", st("label"))
         failing = sum(1 for row in rows if not row[5])
         ws.write_formula(3, 1, f'=COUNTIF({status_range},"FAIL")', st("key", "0"), failing)
+        text(ws, 3, 2, "Figures changed since tea wrote the file", st("label"))
+        ws.write_formula(3, 3, f'=COUNTIF({status_range},"{CHANGED}")', st("key", "0"), 0)
+        self.changed_count_cell = xl(3, 3, sheet=title)
         ws.conditional_format(5, STATUS_COL, end, STATUS_COL, {"type": "cell", "criteria": "==", "value": '"FAIL"',
                                                               "format": st.flag_fmt})
         self.checks_count_cell = xl(3, 1, sheet=title)
@@ -315,13 +321,13 @@ class CreditWriter(SheetWriter):
     def _engine_check(self, ws, rows, d: Def, v, tol) -> None:
         live = self.lay.cell(d.key, None)
         if isinstance(v, str):
-            status = f'=IF(ISNUMBER(B{{r}}),"FAIL",IF(B{{r}}=C{{r}},"PASS","FAIL"))'
+            status = f'=IF(ISNUMBER(B{{r}}),"{CHANGED}",IF(B{{r}}=C{{r}},"PASS","{CHANGED}"))'
             rows.append((f"Live formula equals tea's value: {d.name}", f"={live}", v, ("text", v), status, True,
                          "no value when tea wrote the file" if v == "" else "a text when tea wrote the file"))
             return
-        status = f'=IF(ISNUMBER(B{{r}}),IF(ABS(B{{r}}-C{{r}})<={tol}*MAX(1,ABS(C{{r}})),"PASS","FAIL"),"FAIL")'
+        status = f'=IF(ISNUMBER(B{{r}}),IF(ABS(B{{r}}-C{{r}})<={tol}*MAX(1,ABS(C{{r}})),"PASS","{CHANGED}"),"{CHANGED}")'
         rows.append((f"Live formula equals tea's value: {d.name}", f"={live}", v, ("value", float(v)), status, True,
-                     "differs after an input was edited: run tea run BOOK.xlsx to recompute and check"))
+                     "CHANGED after an input was edited: run tea run BOOK.xlsx to recompute and check"))
 
     # -- values computed by tea
     def sensitivity(self) -> None:
@@ -505,6 +511,11 @@ class CreditWriter(SheetWriter):
         ws.set_column(0, 0, 34)
         ws.set_column(1, 1, 110)
         self.page_setup(ws, landscape=False)
+
+
+#: the status of a figure whose live formula no longer gives the value tea wrote: an input was edited (not a
+#: failed check; `tea run BOOK.xlsx` recomputes the edited case)
+CHANGED = "CHANGED"
 
 
 def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], values: Sequence[dict]) -> None:
