@@ -221,8 +221,10 @@ def _loan_line(case: Case, res: Results) -> str:
              f"(covenant {fig_text(case, res, 'dscr_covenant')}" if value_of(res, "min_dscr") is not None else "")
     below = value_of(res, "years_below_covenant") or 0
     level = case["loan.profile"] == "annuity"  # the only profile whose payment is the same each year
+    # the loan is paid in money of each year, the rest of the page in today's money
+    year_money = " in money of each year" if case["finance.inflation"] else ""
     return (f"{fig_text(case, res, 'loan_principal')} at {display.percent(case['loan.rate'], 1)}, repaid at "
-            f"{'' if level else 'up to '}{fig_text(case, res, 'loan_payment')}; {cover}"
+            f"{'' if level else 'up to '}{fig_text(case, res, 'loan_payment')}{year_money}; {cover}"
             + ((f"; {below:.0f} year{'s' if below != 1 else ''} below)" if below else ")") if cover else "")
             + f"; own funding peaks at {fig_text(case, res, 'equity_peak_funding_need')}.")
 

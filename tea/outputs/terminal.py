@@ -174,7 +174,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             continue
         if title == "After tax" and not case["tax.rate"]:
             continue
-        out.append(f"{title} (per {per} | whole field)")
+        money = "; payments in money of each year" if title == "Loan" and case["finance.inflation"] else ""
+        out.append(f"{title} (per {per} | whole field{money})")
         for name in names:
             if name in ("credited_t_co2e", "credit_payback_t_co2e", "carbon_credit_pv") \
                     and not case["carbon.credit_price_per_t_co2e"]:
