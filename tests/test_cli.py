@@ -381,7 +381,7 @@ def test_new_writes_a_case_that_checks(crop, units, tmp_path):
     assert ran.code == 0, ran.err
     # refuses to overwrite without --force
     again = run_cli(["new", target, "--crop", crop, "--units", units])
-    _assert_bad_input(again, path, [("", "exists; pass --force")])
+    _assert_bad_input(again, path, [("", "exists; add --force")])
     assert path.read_text(encoding="utf-8") == text
     forced = run_cli(["new", path, "--crop", crop, "--units", units, "--force"])
     assert forced.code == 0

@@ -254,3 +254,15 @@ def test_tax_a_loan_cut_short_and_uncovered_debt_service_are_told_in_the_termina
     res = run_cli(["run", path, "--brief"])
     flat = " ".join(res.out.split())  # lines wrap at 100 characters
     assert "asked for: the sculpted profile draws at most what its target DSCR repays" in flat
+
+
+def test_a_sculpt_target_given_to_another_profile_is_warned():
+    """sculpt_dscr given with an annuity: not silently ignored, one warning naming the key."""
+    from tea.inputs.case import load_text
+
+    from conftest import CASES_DIR
+
+    text = (CASES_DIR / "clay_corner_miscanthus.toml").read_text(encoding="utf-8")
+    case = load_text(text.replace("[loan]", "[loan]\nsculpt_dscr = 2.0", 1), source="annuity.toml")
+    assert any("loan.sculpt_dscr: applies to a sculpted profile only" in w for w in case.warnings)
+    assert not [w for w in load_text(text, source="demo.toml").warnings if "sculpt" in w]

@@ -45,7 +45,7 @@ def check_target(path: str | Path, force: bool) -> Path:
     if path.is_dir():
         raise WriteError(f"{path}: is a folder; give a file name")
     if path.exists() and not force:
-        raise OutputError(f"{path}: exists; pass --force (force=True) to overwrite it")
+        raise OutputError(f"{path}: exists; add --force to replace it")
     parent = path.parent
     if not parent.exists():
         raise OutputError(f"{path}: folder {parent} does not exist")

@@ -108,15 +108,16 @@ def money(value: float | None, currency: str = "", digits: int | None = None) ->
 def number(value: float | None, digits: int | None = None) -> str:
     """A plain quantity, rounded to about three significant figures.
 
-    >>> number(1234.567), number(12.3456), number(0.012345)
-    ('1,235', '12.3', '0.0123')
+    >>> number(1234.567), number(12.3456), number(0.012345), number(-0.0)
+    ('1,235', '12.3', '0.0123', '0')
     """
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "–"
     if digits is None:
         a = abs(value)
         digits = 0 if a >= 100 or a == 0 else min(6, 2 - math.floor(math.log10(a)))
-    return f"{value:,.{digits}f}"
+    text = f"{value:,.{digits}f}"
+    return text[1:] if text.startswith("-") and not text.strip("-0.,") else text  # no "-0": a zero has no sign
 
 
 def percent(value: float | None, digits: int = 1) -> str:

@@ -180,6 +180,9 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     if isinstance(share, (int, float)) and share > 0 and isinstance(life, int) and isinstance(grace, int) \
             and isinstance(term, int) and grace + term > life:
         bad("loan.term_years", f"grace ({grace}) + term ({term}) years run past the stand life ({life} years)")
+    if values.get("loan.profile") != "sculpted" and "loan.sculpt_dscr" in spelled:
+        warn("loan.sculpt_dscr", f"applies to a sculpted profile only; the {values.get('loan.profile')} "
+             "profile does not use it")
     cov = values.get("loan.covenant_first_year")
     if isinstance(share, (int, float)) and share > 0 and isinstance(grace, int) and isinstance(term, int) \
             and isinstance(cov, int) and cov > grace + term and "loan.covenant_first_year" not in bad_keys:
