@@ -115,18 +115,26 @@ def _run(*cmd: str) -> str:
 
 
 @pytest.mark.skipif(not POPPLER, reason="poppler-utils (pdfinfo, pdftotext, pdffonts) not installed")
-def test_comparison_bytes_do_not_depend_on_the_number_of_workers(tmp_path, monkeypatch):
-    loaded = []
-    for path in DEMO_CASES[:2]:
-        case = tea.load_case(path)
-        frame = tea.build_ledger(case)
-        loaded.append((case, frame, tea.summarise(case, frame)))
-    cases, frames, results = (list(x) for x in zip(*loaded))
+def _demos(n: int):
+    """The first n demo cases, their ledgers and figures, as three lists."""
+    cases = [tea.load_case(path) for path in DEMO_CASES[:n]]
+    frames = [tea.build_ledger(case) for case in cases]
+    return cases, frames, [tea.summarise(case, frame) for case, frame in zip(cases, frames)]
+
+
+def _by_jobs(cases, frames, results, tmp_path, monkeypatch) -> dict:
+    """The comparison written with one worker and with two: {"1": path, "2": path}."""
     made = {}
     for jobs in ("1", "2"):
         monkeypatch.setenv(workers.JOBS_VARIABLE, jobs)
         report._fit_cache.clear()
         made[jobs] = report.render_comparison(cases, frames, results, tmp_path / f"jobs{jobs}.pdf")
+    return made
+
+
+def test_comparison_bytes_do_not_depend_on_the_number_of_workers(tmp_path, monkeypatch):
+    cases, frames, results = _demos(2)
+    made = _by_jobs(cases, frames, results, tmp_path, monkeypatch)
     assert made["1"].read_bytes() == made["2"].read_bytes()
     info = dict(line.split(":", 1) for line in _run("pdfinfo", str(made["2"])).splitlines() if ":" in line)
     assert info["Pages"].strip() == "3"  # the overview, then one page per case
@@ -154,19 +162,10 @@ def test_case_pages_written_together_in_one_piece_keep_their_order_and_fit(tmp_p
     """Pages per piece as a comparison of many cases takes them (here two of three, so that one piece holds
     several pages): the same file with one worker or two; poppler reads each case page on its own sheet,
     in order, each saying which case of how many it is."""
-    loaded = []
-    for path in DEMO_CASES[:3]:
-        case = tea.load_case(path)
-        frame = tea.build_ledger(case)
-        loaded.append((case, frame, tea.summarise(case, frame)))
-    cases, frames, results = (list(x) for x in zip(*loaded))
+    cases, frames, results = _demos(3)
     assert report.pages_per_piece(3) == 1 and report.pages_per_piece(100) == report.MOST_PAGES_PER_PIECE
     monkeypatch.setattr(report, "pages_per_piece", lambda n: 2)
-    made = {}
-    for jobs in ("1", "2"):
-        monkeypatch.setenv(workers.JOBS_VARIABLE, jobs)
-        report._fit_cache.clear()
-        made[jobs] = report.render_comparison(cases, frames, results, tmp_path / f"jobs{jobs}.pdf")
+    made = _by_jobs(cases, frames, results, tmp_path, monkeypatch)
     assert made["1"].read_bytes() == made["2"].read_bytes()
     info = dict(line.split(":", 1) for line in _run("pdfinfo", str(made["2"])).splitlines() if ":" in line)
     assert info["Pages"].strip() == "4"
