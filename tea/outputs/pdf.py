@@ -241,6 +241,14 @@ def measure(doc, anchor: str) -> Measure:
     return Measure(k1 - k0 + 1, height, max(0.0, fixed), room)
 
 
+def estimated(m: Measure, current: int, d: int, type_scale: Sequence[float], chart_scale: Sequence[float],
+              exponent: float) -> float:
+    """The height [CSS px] the page measured at density ``current`` is expected to take at density ``d``: its
+    charts scaled exactly, its text with the type size to the power ``exponent``."""
+    fixed = m.fixed * chart_scale[d] / chart_scale[current]
+    return fixed + (m.height - m.fixed) * (type_scale[d] / type_scale[current]) ** exponent
+
+
 def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: Sequence[float], last: int,
            fill: float = FILL) -> int:
     """The lowest density above ``current`` whose estimated height fills at most ``fill`` of the sheet.
@@ -250,10 +258,8 @@ def choose(m: Measure, current: int, type_scale: Sequence[float], chart_scale: S
     wraps into fewer lines). Beyond the last type size the estimate cannot
     tell: the last density.
     """
-    text = m.height - m.fixed
     for d in range(current + 1, min(last, len(type_scale) - 1) + 1):
-        fixed = m.fixed * chart_scale[d] / chart_scale[current]
-        if fixed + text * (type_scale[d] / type_scale[current]) ** TEXT_EXPONENT <= fill * m.room:
+        if estimated(m, current, d, type_scale, chart_scale, TEXT_EXPONENT) <= fill * m.room:
             return d
     return last
 
@@ -263,10 +269,8 @@ def could_fit(m: Measure, current: int, floor: int, type_scale: Sequence[float],
     """The lowest density from ``floor`` up to ``current`` at which the page measured at ``current`` might
     fit: its charts scaled exactly, its text grown by the type size to the power
     :data:`LEAST_TEXT_EXPONENT` (the least it can grow). ``current`` when no less dense layout can fit."""
-    text = m.height - m.fixed
     for d in range(max(floor, 0), current):
-        fixed = m.fixed * chart_scale[d] / chart_scale[current]
-        if fixed + text * (type_scale[d] / type_scale[current]) ** LEAST_TEXT_EXPONENT <= m.room:
+        if estimated(m, current, d, type_scale, chart_scale, LEAST_TEXT_EXPONENT) <= m.room:
             return d
     return current
 

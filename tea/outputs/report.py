@@ -126,8 +126,7 @@ def render_summary(
     key = ("summary", case.hash, case.source, size, views.key)
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
         return atomic_write_text(path, html_at(_fit_cache[key], False), force=True)
-    density, doc = pdf.fit(lambda d: html_at(d, True), page.anchor, page.start_density(size), page.last_density,
-                           TYPE_PT, CHART_SCALE, _stylesheets(), floor=page.first_density)
+    density, doc = _fit(page, size, lambda d: html_at(d, True))
     _remember(key, density)
     if kind == "html":
         return atomic_write_text(path, html_at(density, False), force=True)
@@ -191,8 +190,7 @@ def render_comparison(
             return _render("summary.html.j2", page_size=size, page=page.at(d), meta=meta, embed=True,
                            page_label=label, generator=f"tea {__version__}")
 
-        return pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT, CHART_SCALE,
-                       _stylesheets(), floor=page.first_density)
+        return _fit(page, size, html_at)
 
     batch = pages_per_piece(len(cases))
     batches = [range(start, min(start + batch, len(cases))) for start in range(0, len(cases), batch)]
@@ -301,6 +299,13 @@ def _shown(value: Any) -> Any:
 def _stylesheets() -> list[Any]:
     """The page's stylesheet for the PDF engine, parsed once (the HTML for it carries only the paper's rules)."""
     return [pdf.stylesheet((TEMPLATES / "report.css").read_text(encoding="utf-8"))]
+
+
+def _fit(page: CasePage, size: str, html_at) -> tuple[int, Any]:
+    """A case page fitted to one sheet of paper ``size``: (density, laid-out document); ``html_at(d)`` gives
+    its HTML at density d."""
+    return pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT, CHART_SCALE,
+                   _stylesheets(), floor=page.first_density)
 
 
 def _render(template: str, **context: Any) -> str:
