@@ -20,6 +20,7 @@ from typing import Sequence
 
 from tea import __version__
 from tea.cli import analysis as analysis_cli
+from tea.cli import entry
 from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
@@ -239,8 +240,8 @@ def _main(argv: Sequence[str] | None) -> int:
     try:
         return args.func(args)
     except KeyboardInterrupt:
-        print("interrupted; no output file was left half-written", file=sys.stderr)
-        return 130
+        print(entry.MESSAGE, file=sys.stderr)
+        return entry.INTERRUPTED
     except BrokenPipeError:  # a reader that went away: no more printing, and not an error
         _quiet_stdout()
         return 0

@@ -5,6 +5,9 @@ replaced only when the caller allows it. The temporary file is hidden and
 named after the target and the writing process, ``.NAME.PID.RANDOM.part``;
 a run killed outright (``kill -9``, a power cut) can leave one behind, and
 the next write of the same target removes those whose process is gone.
+The temporary files being written are listed in this process
+(:func:`in_flight`), so that a run ended by Ctrl-C from outside the
+interpreter's own exception path removes them before it exits.
 A write the machine refuses (no permission, disk full, a folder in the way)
 raises :class:`~tea.core.errors.WriteError` naming the target.
 """
@@ -19,6 +22,14 @@ from pathlib import Path
 from typing import Callable
 
 from tea.core.errors import OutputError, WriteError
+
+#: the temporary files this process is writing now (added when made, removed once renamed or deleted)
+_IN_FLIGHT: set[Path] = set()
+
+
+def in_flight() -> list[Path]:
+    """The temporary files this process is writing at this moment."""
+    return list(_IN_FLIGHT)
 
 _REASONS = {
     errno.ENOSPC: "the disk is full",
@@ -104,6 +115,7 @@ def atomic_write(path: str | Path, write: Callable[[Path], None], force: bool = 
         raise write_refused(path, exc) from None
     os.close(fd)
     tmp_path = Path(tmp)
+    _IN_FLIGHT.add(tmp_path)
     try:
         write(tmp_path)
         os.chmod(tmp_path, 0o644)
@@ -114,6 +126,8 @@ def atomic_write(path: str | Path, write: Callable[[Path], None], force: bool = 
     except BaseException:
         tmp_path.unlink(missing_ok=True)
         raise
+    finally:
+        _IN_FLIGHT.discard(tmp_path)
     return path
 
 
