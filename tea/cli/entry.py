@@ -25,10 +25,7 @@ import signal
 import sys
 import threading
 
-#: the exit status of a run ended by Ctrl-C (128 + SIGINT, the shells' convention)
-INTERRUPTED = 130
-
-MESSAGE = "interrupted; no output file was left half-written"
+from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE as MESSAGE
 
 
 def _end_on_interrupt() -> None:

@@ -20,12 +20,11 @@ from typing import Sequence
 
 from tea import __version__
 from tea.cli import analysis as analysis_cli
-from tea.cli import entry
 from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
 from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say
-from tea.core.errors import CaseError, OutputError, TeaError, WriteError
+from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, TeaError, WriteError
 
 #: each exception class the command line expects, and its exit status (the first match wins)
 EXIT_STATUS: tuple[tuple[type[BaseException], int], ...] = (
@@ -240,8 +239,8 @@ def _main(argv: Sequence[str] | None) -> int:
     try:
         return args.func(args)
     except KeyboardInterrupt:
-        print(entry.MESSAGE, file=sys.stderr)
-        return entry.INTERRUPTED
+        print(INTERRUPTED_MESSAGE, file=sys.stderr)
+        return INTERRUPTED
     except BrokenPipeError:  # a reader that went away: no more printing, and not an error
         _quiet_stdout()
         return 0

@@ -15,6 +15,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 
+#: the exit status of a run ended by Ctrl-C (128 + SIGINT, the shells' convention), and its one line
+INTERRUPTED = 130
+INTERRUPTED_MESSAGE = "interrupted; no output file was left half-written"
+
+
 class TeaError(Exception):
     """Base class of every error `tea` raises on purpose."""
 
