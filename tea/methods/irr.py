@@ -73,6 +73,11 @@ _TINY_LEAD = 1e-300
 # Stop when a step changes z = 1/(1+r) (or 1+r) by at most this fraction of z:
 # the rate is then accurate to about 1e-13 * (1 + r).
 _STEP_RTOL = 1e-13
+# ... or when two Newton steps in a row say the next one would be that small: in
+# the quadratic regime a step s_k is followed by about s_k^3 / s_(k-1)^2, and
+# the rows stop when that prediction is below _STEP_RTOL / _PREDICTION_MARGIN
+# of z, one evaluation of the polynomial sooner than by measuring it.
+_PREDICTION_MARGIN = 1000.0
 # Safeguarded Newton steps, at most, before the rows not yet converged are bisected.
 _NEWTON_STEPS = 20
 # Geometric bisection steps for the (rare) rows still not converged: enough to
@@ -174,7 +179,7 @@ def _newton(g, z, lo, hi, p, d):
     """One safeguarded Newton step on c(z), c < 0 below the root and c > 0 above.
 
     ``lo`` and ``hi`` bracket the root; the new bracket is returned with the new
-    iterate and the size of the step. A Newton step that would leave the
+    iterate, the size of the step and whether it was a Newton step. A Newton step that would leave the
     bracket (which includes a non-positive derivative, since the iterate is
     always one end of it) is replaced by bisection [5]_. ``p`` and ``d`` are
     work space.
@@ -185,9 +190,10 @@ def _newton(g, z, lo, hi, p, d):
     hi = np.where(below, hi, z)
     np.divide(p, d, out=p)
     np.subtract(z, p, out=p)
-    new = np.where((p >= lo) & (p <= hi), p, 0.5 * (lo + hi))
+    newton = (p >= lo) & (p <= hi)
+    new = np.where(newton, p, 0.5 * (lo + hi))
     np.subtract(new, z, out=p)
-    return new, np.abs(p, out=p), lo, hi
+    return new, np.abs(p, out=p), lo, hi, newton
 
 
 def _geometric_bisection(g, lo, hi, steps):
@@ -222,20 +228,23 @@ def _start(receipts, receipt_time, receipt_time2, costs, cost_time, cost_time2, 
 
     With u = ln z, the present value of a group of coefficients with sum S,
     mean time m and variance of time s2 is S z^m exp(s2 u^2 / 2) to second
-    order (its cumulant expansion). Equating receipts and costs gives
-    u = (ln(-C/R) + u^2 (s2_C - s2_R) / 2) / (m_R - m_C), solved from the
-    two-flow value u0 = ln(-C/R) / (m_R - m_C) by two fixed-point steps.
-    ``lib`` is numpy or math; the arguments may share any common factor.
+    order (its cumulant expansion). Equating receipts and costs gives the
+    quadratic a - b u + s u^2 = 0 with a = ln(-C/R), b = m_R - m_C and
+    s = (s2_C - s2_R) / 2, whose root nearer the two-flow value u0 = a / b is
+    u = 2a / (b + sign(b) sqrt(b^2 - 4as)) (the form without cancellation);
+    where the quadratic has no real root, u0. ``lib`` is numpy or math; the
+    arguments may share any common factor.
     """
     mean_r = receipt_time / receipts
     mean_c = cost_time / costs
     spread = 0.5 * ((cost_time2 / costs - mean_c * mean_c) - (receipt_time2 / receipts - mean_r * mean_r))
     span = mean_r - mean_c
     a = lib.log(-costs / receipts)
-    u = a / span
-    u = (a + spread * u * u) / span
-    u = (a + spread * u * u) / span
-    return lib.exp(u)
+    disc = span * span - 4.0 * a * spread
+    if lib is math:
+        return math.exp(2.0 * a / (span + math.copysign(math.sqrt(disc), span)) if disc >= 0.0 else a / span)
+    root = np.sqrt(np.maximum(disc, 0.0))
+    return np.exp(np.where(disc >= 0.0, 2.0 * a / (span + np.copysign(root, span)), a / span))
 
 
 def _solve_unit(g: np.ndarray, skip: np.ndarray | None = None) -> np.ndarray:
@@ -278,24 +287,30 @@ def _solve_unit(g: np.ndarray, skip: np.ndarray | None = None) -> np.ndarray:
 
 def _iterate(g, z, lo, hi, skip):
     """Newton steps from z on every column of g not skipped, until each converges; any left after
-    the steps allowed are bisected. A column is set aside once converged; the columns still
-    working are gathered into a narrower array whenever half of those worked on are done."""
+    the steps allowed are bisected. A column is set aside once converged (its step, or the step its
+    last two Newton steps predict, within the tolerance); the columns still working are gathered
+    into a narrower array whenever half of those worked on are done."""
     out = np.full(z.shape, np.nan)
     idx = np.arange(z.size)
     pending = ~skip
     p, d = np.empty_like(z), np.empty_like(z)
+    last = np.zeros(z.shape)  # the previous step where it was a Newton step, else 0 (no prediction)
     for _ in range(_NEWTON_STEPS):
-        z, step, lo, hi = _newton(g, z, lo, hi, p[:z.size], d[:z.size])
-        done = pending & (step <= _STEP_RTOL * z)
+        z, step, lo, hi, newton = _newton(g, z, lo, hi, p[:z.size], d[:z.size])
+        tol = _STEP_RTOL * z
+        with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+            predicted = step * step * step <= (tol / _PREDICTION_MARGIN) * (last * last)
+        done = pending & ((step <= tol) | (newton & predicted))
         if done.any():
             out[idx[done]] = z[done]
             pending &= ~done
         left = np.count_nonzero(pending)
         if left == 0:
             return out
+        last = np.where(newton, step, 0.0)
         if 2 * left <= pending.size:
             keep = np.flatnonzero(pending)
-            g, z, lo, hi, idx = g[:, keep], z[keep], lo[keep], hi[keep], idx[keep]
+            g, z, lo, hi, idx, last = g[:, keep], z[keep], lo[keep], hi[keep], idx[keep], last[keep]
             pending = np.ones(keep.size, dtype=bool)
     keep = np.flatnonzero(pending)
     out[idx[keep]] = _geometric_bisection(g[:, keep], lo[keep], hi[keep], _BISECTION_STEPS)
@@ -474,6 +489,7 @@ def _solve_unit_scalar(seq, lo, z):
     """
     hi = 1.0
     head, rest = seq[0], seq[1:]
+    last = 0.0  # the previous step where it was a Newton step, else 0 (no prediction)
     for _ in range(_NEWTON_STEPS):
         p = head
         d = 0.0
@@ -490,10 +506,13 @@ def _solve_unit_scalar(seq, lo, z):
             new = z - p / d
         except ZeroDivisionError:
             new = math.nan
-        if not lo <= new <= hi:
+        newton = lo <= new <= hi
+        if not newton:
             new = 0.5 * (lo + hi)
-        if abs(new - z) <= _STEP_RTOL * new:
+        step, tol = abs(new - z), _STEP_RTOL * new
+        if step <= tol or (newton and step * step * step <= (tol / _PREDICTION_MARGIN) * (last * last)):
             return new
+        last = step if newton else 0.0
         z = new
     for _ in range(_BISECTION_STEPS):
         mid = math.sqrt(lo) * math.sqrt(hi)
