@@ -170,16 +170,28 @@ def _by_year(a: Array, t: Array, start: int, default: float, hold_last: bool) ->
     return np.where(inside, got, default)
 
 
+#: rows per block of a running total: its year-major copy (years x rows float64) stays in the core's cache
+CUMSUM_BLOCK = 2048
+
+
 def _cumsum(x: Array) -> Array:
-    """Running total along the years, year by year over all rows at once: the same additions in the same
-    order as ``np.cumsum(x, axis=1)``, which loops over the short rows one at a time."""
+    """Running total along the years: the same additions in the same order as ``np.cumsum(x, axis=1)``
+    (so the same result to the bit), made year by year on a year-major copy of a block of rows at a time,
+    each year one contiguous vector: about three times faster than numpy's loop over short rows."""
     x = np.asarray(x)
     if x.ndim != 2 or x.shape[0] < 64 or x.dtype.kind not in "fiub":
         return np.cumsum(x, axis=1)
-    out = np.empty(x.shape, dtype=np.result_type(x.dtype, np.int64) if x.dtype.kind in "iub" else x.dtype)
-    out[:, 0] = x[:, 0]
-    for k in range(1, x.shape[1]):
-        np.add(out[:, k - 1], x[:, k], out=out[:, k])
+    rows, years = x.shape
+    dtype = np.result_type(x.dtype, np.int64) if x.dtype.kind in "iub" else x.dtype
+    out = np.empty(x.shape, dtype=dtype)
+    buf = np.empty((years, min(CUMSUM_BLOCK, rows)), dtype=dtype)
+    for start in range(0, rows, CUMSUM_BLOCK):
+        block = x[start:start + CUMSUM_BLOCK]
+        tb = buf[:, :block.shape[0]]
+        np.copyto(tb, block.T)
+        for k in range(1, years):
+            np.add(tb[k - 1], tb[k], out=tb[k])
+        out[start:start + block.shape[0]] = tb.T
     return out
 
 
