@@ -232,6 +232,11 @@ def _reduce(kind: str, x: Array, arg: Any, env: _Env) -> Array:
         if got is not None:
             return got
         x = S.dense(x)
+    if x.dtype == bool:
+        if kind == "first_year":
+            first = np.argmax(x, axis=1)
+            return np.where(x[np.arange(x.shape[0]), first], first.astype(float), np.nan)[:, None]
+        x = x.astype(float)
     if kind == "total":
         if x.ndim == 2 and x.dtype == np.float64:
             # the years of each row added in order; np.sum's reduction over short rows is several times slower
@@ -338,10 +343,10 @@ class _Compiler:
             if fn in ("exp", "sign", "abs", "log"):
                 (a,) = fs
                 op = {"exp": np.exp, "sign": np.sign, "abs": np.abs, "log": np.log}[fn]
-                return lambda env: op(D(a(env)))
+                return lambda env: op(S.num(D(a(env))))
             if fn == "mod":
                 a, b = fs
-                return lambda env: np.mod(D(a(env)), D(b(env)))
+                return lambda env: np.mod(S.num(D(a(env))), S.num(D(b(env))))
             if fn == "given":
                 (a,) = fs
                 is_list = isinstance(n.args[0], E.Input) and n.args[0].path in LIST_KEYS
@@ -421,7 +426,7 @@ class _Compiler:
             def call(env, m=m, fargs=fargs, yearly=yearly):
                 # a line kept separable is made dense year-major ((years, rows), handed over as its
                 # (rows, years) view): a method working year by year over the rows (IRR) reads it as is
-                args = [S.dense_by_year(_full(f(env), env)) if y else D(f(env)) for f, y in zip(fargs, yearly)]
+                args = [S.num(S.dense_by_year(_full(f(env), env)) if y else D(f(env))) for f, y in zip(fargs, yearly)]
                 if any(y for y in yearly):
                     rows = max(np.asarray(a).shape[0] for a in args if np.ndim(a) == 2)
                     args = [np.broadcast_to(a, (rows, env.years)) if y else a for a, y in zip(args, yearly)]
@@ -485,7 +490,7 @@ class _StepCompiler(_Compiler):
         def whole(env):
             v = env.cache.get(node_id)
             if v is None:
-                v = env.cache[node_id] = np.asarray(D(f(env)))
+                v = env.cache[node_id] = S.num(np.asarray(D(f(env))))
             return v
         return whole
 
@@ -659,9 +664,7 @@ class Plan:
 def _shape(d: Def, v: Any, env: _Env) -> Array:
     if isinstance(v, S.Sep):
         return v
-    a = np.asarray(v)
-    if a.dtype.kind == "b":
-        a = a.astype(float)
+    a = np.asarray(v)  # a flag stays bool: 1 byte a value, and S.num makes it a number where one is needed
     if a.ndim < 2:
         a = a.reshape(1, 1) if a.ndim == 0 else a.reshape(-1, 1)
     if d.kind == "line":

@@ -30,7 +30,7 @@ from tea.model import expr as E
 from tea.model.declare import Def, Model
 from tea.model.definition import MODEL
 from tea.model.evaluate import LIST_KEYS, _Compiler, _Env, _column, evaluate, plan
-from tea.model.separable import dense
+from tea.model.separable import dense, num
 from tea.model.slopes import expanded
 
 ORIGINS = {"case": "case file", "preset": "preset", "derived": "looked up", "default": "default",
@@ -367,7 +367,7 @@ def explain(case: Case, name: str, year: int | None = None, depth: int = 2, mode
     demanded = {k for k, mask in demand.masks.items() if mask.any()}
 
     def value_of(d: Def) -> Any:
-        v = np.asarray(dense(values[d.key]))
+        v = np.asarray(num(dense(values[d.key])))
         if d.kind != "line":
             return v.reshape(-1)[0]
         row = np.broadcast_to(v, (1, years))[0]

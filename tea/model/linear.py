@@ -98,7 +98,7 @@ def scaled_recursion(model: Model, env: Any, d: Def, f: Callable[[Any, int], Any
                 return None
             degree_of[key], mini[key] = 1, np.asarray(p, dtype=float).reshape(1, -1)
             continue
-        a = np.asarray(S.dense(v))
+        a = np.asarray(S.num(S.dense(v)))
         if a.ndim == 2 and a.shape[0] != 1:
             return None
         degree_of[key], mini[key] = 0, a

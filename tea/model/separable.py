@@ -183,8 +183,24 @@ def _years_of(*xs: Any) -> int:
     return 1
 
 
+def num(x: Any) -> Any:
+    """A flag (bool) as numbers 0 and 1; anything else as it is. Flags are kept as bool (one byte a
+    value) for the comparisons, ands and first-year searches they mostly meet, and made numbers where
+    arithmetic needs them (numpy adds two bools as a logical or, and will not subtract them)."""
+    if isinstance(x, np.ndarray) and x.dtype == bool:
+        return x.astype(float)
+    if isinstance(x, np.bool_):
+        return float(x)
+    return x
+
+
+_ARITHMETIC = frozenset(("+", "-", "*", "/", "**"))
+
+
 def binop(op: str, a: Any, b: Any, ufunc) -> Any:
     """``a op b`` keeping the separable form where it stays exact and cheaper."""
+    if op in _ARITHMETIC:
+        a, b = num(a), num(b)
     sa, sb = isinstance(a, Sep), isinstance(b, Sep)
     if not (sa or sb):
         if op == "*" and ((_is_row(a) and a.shape[0] > 1 and _is_pattern(b))
