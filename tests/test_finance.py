@@ -372,6 +372,14 @@ class TestIrr:
         )
     )
     def test_never_raises_1d(self, flows):
+        self._never_raises(flows)
+
+    def test_a_root_near_zero_is_solved_to_the_end(self):
+        # z = 1/(1+r) near 1e-162: a step's cube underflows to 0 in absolute terms, so the stop
+        # that predicts the next step must work relative to z (found by the property test above)
+        self._never_raises(np.array([0.0, -1.61737073e16, 4.79551136e270, 0.0, 0.0, 1.14008190e270]))
+
+    def _never_raises(self, flows):
         # crash check in the manner of the numpy-financial fuzz tests; the
         # result must be NaN or a root of the NPV relative to the flows' scale
         rate = fin.irr(flows)

@@ -37,6 +37,9 @@ _STEP_RTOL = 1e-13
 # the rows stop when that prediction is below _STEP_RTOL / _PREDICTION_MARGIN
 # of z, one evaluation of the polynomial sooner than by measuring it.
 _PREDICTION_MARGIN = 1000.0
+# Newton steps in single precision that refine the start before the double-precision ones: from the
+# moment start (about 3 % off) three take z to about 1e-4, where single precision stops helping.
+_SINGLE_STEPS = 3
 # Safeguarded Newton steps, at most, before the rows not yet converged are bisected.
 _NEWTON_STEPS = 20
 # Geometric bisection steps for the (rare) rows still not converged: enough to
@@ -163,8 +166,28 @@ def _solve_unit(g: np.ndarray, skip: np.ndarray | None = None) -> np.ndarray:
         costs = 0.5 * (plain - size)
         z = _start(receipts[0], receipts[1], receipts[2], costs[0], costs[1], costs[2], np)
     np.copyto(z, 0.5, where=~((z > lo) & (z < 1.0)))
+    z = _single_precision_steps(g, z, lo, hi, _SINGLE_STEPS)
     skip = outside if skip is None else skip | outside
     return _iterate(g, z, lo, hi, skip)
+
+
+def _single_precision_steps(g, z, lo, hi, steps):
+    """A better start: Newton steps in single precision (half the memory a step reads, about twice as
+    fast), enough while z is still far from the root; a step that would leave the bracket (lo, hi) is
+    not taken. The bracket is not narrowed from single-precision signs, which near the root may be
+    wrong: the double-precision steps that follow keep their safeguard whole."""
+    if steps <= 0 or z.size == 0:
+        return z
+    g32 = g.astype(np.float32)
+    z32 = z.astype(np.float32)
+    p, d = np.empty_like(z32), np.empty_like(z32)
+    with np.errstate(all="ignore"):
+        for _ in range(steps):
+            _horner(g32, z32, p, d)
+            np.divide(p, d, out=p)
+            np.subtract(z32, p, out=p)
+            np.copyto(z32, p, where=(p > lo) & (p < hi))
+    return z32.astype(float)
 
 
 def _iterate(g, z, lo, hi, skip):
@@ -181,7 +204,8 @@ def _iterate(g, z, lo, hi, skip):
         z, step, lo, hi, newton = _newton(g, z, lo, hi, p[:z.size], d[:z.size])
         tol = _STEP_RTOL * z
         with np.errstate(over="ignore", under="ignore", invalid="ignore"):
-            predicted = step * step * step <= (tol / _PREDICTION_MARGIN) * (last * last)
+            rel, prev = step / z, last / z  # relative to z: no underflow for a root near 0
+            predicted = rel * rel * rel <= (_STEP_RTOL / _PREDICTION_MARGIN) * (prev * prev)
         done = pending & ((step <= tol) | (newton & predicted))
         if done.any():
             out[idx[done]] = z[done]
@@ -230,7 +254,8 @@ def _solve_unit_scalar(seq, lo, z):
         if not newton:
             new = 0.5 * (lo + hi)
         step, tol = abs(new - z), _STEP_RTOL * new
-        if step <= tol or (newton and step * step * step <= (tol / _PREDICTION_MARGIN) * (last * last)):
+        rel, prev = step / new, last / new  # relative to z: no underflow for a root near 0
+        if step <= tol or (newton and rel * rel * rel <= (_STEP_RTOL / _PREDICTION_MARGIN) * (prev * prev)):
             return new
         last = step if newton else 0.0
         z = new
