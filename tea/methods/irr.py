@@ -247,11 +247,13 @@ def irr(flows):
     The start is the root of a two-flow approximation (all costs at their mean
     time, all receipts at theirs), corrected for the spread of each around
     its mean time (second-order cumulant expansion of the present values);
-    then Newton steps with a bisection safeguard on the sign bracket [5]_,
-    each row set aside as soon as its step is within the tolerance, and a
-    geometric bisection for any row left after 20 steps. The rate is accurate to about
-    1e-13 * (1 + r). One case (1-D input) goes to
-    :func:`irr_scalar`, the same method in plain Python floats.
+    then Newton steps with a bisection safeguard on the sign bracket [5]_
+    (the first three in single precision, which do not narrow the bracket),
+    each row set aside as soon as its step, or the next step its last two
+    predict, is within the tolerance, and a geometric bisection for any row
+    left after 20 steps. The rate is accurate to about 1e-13 * (1 + r). One
+    case (1-D input) goes to :func:`irr_scalar`, the same method in plain
+    Python floats (without the single-precision steps).
 
     Rates closer to -100 % than the float resolution round to -1.0. A row
     whose first nonzero flow (last, when r < 0) is below 1e-300 of its largest
