@@ -31,6 +31,7 @@ def in_flight() -> list[Path]:
     """The temporary files this process is writing at this moment."""
     return list(_IN_FLIGHT)
 
+
 _REASONS = {
     errno.ENOSPC: "the disk is full",
     errno.EFBIG: "the file is too large for this disk or its quota",
