@@ -72,6 +72,31 @@ class TestProfiles:
         assert ratios.min() >= 1.4 and np.ptp(ratios) <= 1e-9 * ratios.max()
         assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
 
+    def test_sculpted_loan_capitalises_the_interest_a_year_without_cash_leaves_unpaid(self):
+        # the demo willow is harvested every third year: most of its repayment years have no cash, so its
+        # sculpted service is 0 there and the year's interest is added to the balance, not repaid as a
+        # negative principal
+        case, f, res = run(WILLOW)
+        assert case["loan.profile"] == "sculpted"
+        r, g, n = case["loan.rate"], case["loan.grace_years"], case["loan.term_years"]
+        opening = f["loan_balance"].shift(1, fill_value=0.0)
+        assert (f["loan_principal"] >= 0).all() and (f["loan_capitalised_interest"] >= 0).all()
+        # the roll-forward, year by year (plain arithmetic): opening + drawn + capitalised - repaid = closing
+        assert_allclose(opening + f["loan_drawdown"] + f["loan_capitalised_interest"] - f["loan_principal"],
+                        f["loan_balance"], rtol=1e-12, atol=1e-9)
+        # a repayment year with no cash: nothing paid, interest on the opening balance capitalised
+        idle = (f["year"] > g) & (f["year"] < g + n) & (f["cfads"] < 0)
+        assert idle.sum() >= 4
+        assert_allclose(f.loc[idle, "loan_capitalised_interest"], opening[idle] * r, rtol=1e-12)
+        assert (f.loc[idle, "loan_principal"] == 0).all() and (f.loc[idle, "debt_service"] == 0).all()
+        # debt service is the interest paid plus the principal; all principal repaid is the loan drawn plus
+        # every interest capitalised (the balance ends at zero)
+        assert_allclose(f["debt_service"], f["loan_interest"] - f["loan_capitalised_interest"] + f["loan_principal"],
+                        rtol=1e-12, atol=1e-9)
+        assert f["loan_principal"].sum() == pytest.approx(
+            f["loan_drawdown"].sum() + f["loan_capitalised_interest"].sum(), rel=1e-12)
+        assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
+
 
 class TestCoverRatios:
     def test_llcr_and_interest_cover(self):

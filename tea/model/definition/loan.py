@@ -16,7 +16,10 @@ the basis of the discount rate.
   proportion to its CFADS, so that the DSCR is the same in every repayment
   year, the loan capped at what a target DSCR repays (the present value at
   the loan's rate of CFADS / target). The last repayment year clears the
-  balance.
+  balance. Interest a year's debt service does not pay (grace years
+  capitalised, a sculpted year whose cash is short) is its own line, interest
+  capitalised: principal repaid is never negative, and opening balance + drawn
+  + interest capitalised - principal repaid = closing balance in every year.
 * **DSCR** = CFADS / debt service, tested from the covenant's first year to
   the end of the term; not meaningful where cash is negative (then the money
   short is shown). **Interest cover** = CFADS / interest. **LLCR** = present
@@ -88,7 +91,7 @@ DEFS = (
     line("loan_opening_balance", "money/ha", "loan", "Opening balance", "Balance owed at the start of the year.",
          lag(L.loan_balance, 1), show=False),
     line("loan_interest", "money/ha", "loan", "Loan interest",
-         "Interest due on the opening balance (capitalised in grace years if so chosen); money of the year.",
+         "Interest due on the opening balance, paid or capitalised; money of the year.",
          (IN_GRACE | REPAYING) * L.loan_opening_balance * L.loan_rate),
     line("loan_scheduled_service", "money/ha", "loan", "Scheduled debt service",
          "Debt service the profile sets in a repayment year: the level payment, equal principal plus interest, "
@@ -100,16 +103,26 @@ DEFS = (
                                       maximum(L.cfads, 0) / LN.sculpt_dscr * L.loan_balance_after_grace
                                       / total(L.loan_sculpt_capacity), 0))),
          show=False),
+    line("loan_capitalised_interest", "money/ha", "loan", "Interest capitalised",
+         "Interest added to the balance instead of paid: all of it in a grace year where grace interest is "
+         "capitalised; in a repayment year before the last, the part the scheduled debt service does not pay "
+         "(a sculpted year whose cash available is short of the interest). Money of the year.",
+         where(GRACE_CAPITALISED, L.loan_interest,
+               REPAYING * (1 - LAST_REPAYMENT) * maximum(0, L.loan_interest - L.loan_scheduled_service))),
     line("loan_principal", "money/ha", "loan", "Principal repaid",
-         "Principal repaid: scheduled service - interest; the last repayment year, or a service that repays "
-         "all but a rounding remainder, clears the balance.",
+         "Principal repaid: scheduled service less interest, never below 0 (interest it leaves unpaid is "
+         "capitalised); the last repayment year, or a service that repays all but a rounding remainder, clears "
+         "the balance.",
          where(LAST_REPAYMENT | (REPAYING & (L.loan_scheduled_service - L.loan_interest
                                              >= L.loan_opening_balance * (1 - REPAID_TOLERANCE))),
-               L.loan_opening_balance, REPAYING * (L.loan_scheduled_service - L.loan_interest))),
-    line("debt_service", "money/ha", "loan", "Debt service", "Interest paid + principal repaid; money of the year.",
-         where(GRACE_CAPITALISED, 0, L.loan_interest) + L.loan_principal),
-    line("loan_balance", "money/ha", "loan", "Loan balance", "Balance owed at the end of the year; money of the year.",
-         L.loan_opening_balance + L.loan_drawdown + where(GRACE_CAPITALISED, L.loan_interest, 0) - L.loan_principal),
+               L.loan_opening_balance, REPAYING * maximum(0, L.loan_scheduled_service - L.loan_interest))),
+    line("debt_service", "money/ha", "loan", "Debt service",
+         "Interest paid (interest less the interest capitalised) + principal repaid; money of the year.",
+         L.loan_interest - L.loan_capitalised_interest + L.loan_principal),
+    line("loan_balance", "money/ha", "loan", "Loan balance",
+         "Balance owed at the end of the year: opening balance + drawn + interest capitalised - principal repaid; "
+         "money of the year.",
+         L.loan_opening_balance + L.loan_drawdown + L.loan_capitalised_interest - L.loan_principal),
     # covenant tests
     param("covenant_first_year", "yr", "loan", "First covenant test",
           "First year the DSCR covenant is tested (the first repayment year unless the case says).",
