@@ -20,11 +20,12 @@ SANDY = CASES_DIR / "sandy_slope_switchgrass.toml"
 
 def test_expected_ramp_by_hand():
     # hand calculation: ramp [0, 0.4, 0.8], failure 0.15, a failed stand a year late:
-    # E[f_t] = f_t + 0.15 (f_(t-1) - f_t): 0, 0.34, 0.74, 0.97, then 1
+    # E[f_t] = f_t + 0.15 (f_(t-1) - f_t): 0, 0.34, 0.74, 0.97, then 1; the planting year (0) grows no
+    # crop, so its fraction is 0 (not 1 - 0.15 = 0.85)
     case = load_case(CLAY).replace(**{"yield.ramp_up_fractions": [0.0, 0.4, 0.8],
                                       "establishment.failure_probability": 0.15})
     led = tea.build_ledger(case)
-    assert_allclose(led["ramp_expected"][1:6], [0.0, 0.34, 0.74, 0.97, 1.0], rtol=1e-12, atol=1e-15)
+    assert_allclose(led["ramp_expected"][0:6], [0.0, 0.0, 0.34, 0.74, 0.97, 1.0], rtol=1e-12, atol=1e-15)
 
 
 @pytest.mark.parametrize("path", DEMO_CASES, ids=lambda p: p.stem)

@@ -67,8 +67,9 @@ DEFS = (
           source="ISO 18125:2017 net calorific value as received"),
     # yield
     line("ramp_usual", "fraction", "yield", "Ramp-up as planted",
-         "Ramp-up fraction of the year where establishment succeeds.",
-         by_year(Y.ramp_up_fractions, start=1, default=1), show=False),
+         "Ramp-up fraction of the year where establishment succeeds: the case's fractions from year 1, then 1; "
+         "0 in the planting year (year 0), which grows no crop to harvest.",
+         L.stand_year * by_year(Y.ramp_up_fractions, start=1, default=1), show=False),
     line("ramp_after_failure", "fraction", "yield", "Ramp-up after a failed establishment",
          "Ramp-up fraction of the year where establishment fails and is replanted: a year late (year 1 yields "
          "nothing, year 2 what year 1 would have).",
