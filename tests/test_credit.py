@@ -113,6 +113,35 @@ class TestCoverRatios:
             if paid > 0 and f.loc[t, "cfads"] >= 0:
                 assert f.loc[t, "interest_cover"] == pytest.approx(f.loc[t, "cfads"] / paid)
 
+    def test_an_llcr_below_zero_is_no_cover_not_a_ratio(self):
+        # biomass given away: the cash available is negative, so the present value of the remaining loan life's
+        # CFADS is below zero (worked here from the definition with numpy-financial): no cover. The ledger shows
+        # no ratio and flags the year; the figures have no value, with the note saying why.
+        case, f, res = run(CLAY, **{"revenue.price_per_t_dm": 0.0})
+        r, end = case["loan.rate"], case["loan.grace_years"] + case["loan.term_years"]
+        covered = 0
+        for t in range(1, end + 1):
+            opening = f.loc[t - 1, "loan_balance"]
+            pv = npf.npv(r, np.concatenate([[0.0], f.loc[t:end, "cfads"].to_numpy()])) * (1 + r)
+            if pv < 0:
+                assert np.isnan(f.loc[t, "llcr"]) and f.loc[t, "llcr_no_cover"] == 1
+            else:
+                covered += 1
+                assert f.loc[t, "llcr"] == pytest.approx(pv / opening, rel=1e-10) and f.loc[t, "llcr_no_cover"] == 0
+        assert covered == 0 and res["llcr_no_cover_years"] == end
+        assert res["llcr"] is None and res["min_llcr"] is None and res["llcr_no_cover_at_first_test"] == 1
+        assert "no cover" in res.notes["llcr"] and "no cover" in res.notes["min_llcr"]
+        # the terminal says so in words, no negative ratio
+        from tea.outputs.terminal import summary_text
+
+        shown = [ln for ln in summary_text(case, f, res, yearly=False).splitlines() if "LLCR" in ln]
+        assert len(shown) == 1 and "below 0: no cover" in shown[0] and "-" not in shown[0].replace("–", "")
+        # the demo as given is covered in every year: a ratio, no flag
+        case, f, res = run(CLAY)
+        assert res["llcr"] > 0 and res["llcr_no_cover_years"] == 0 and "llcr" not in res.notes
+        shown = [ln for ln in summary_text(case, f, res, yearly=False).splitlines() if "LLCR" in ln]
+        assert len(shown) == 1 and f"{res['llcr']:.2f}" in shown[0]
+
     def test_negative_cash_is_no_ratio_but_money_short(self):
         case, f, res = run(WILLOW, **{"loan.profile": "annuity"})
         short = (f["debt_service"] > 0) & (f["cfads"] < 0)

@@ -25,7 +25,10 @@ the basis of the discount rate.
   short is shown). **Interest cover** = CFADS / interest. **LLCR** = present
   value at the loan's rate of CFADS over the remaining loan life / balance
   outstanding (Yescombe, *Principles of Project Finance*, 2nd ed. 2014,
-  ch. 12).
+  ch. 12); where that present value is below zero there is no cover, and a
+  negative ratio would read as a (small) cover: the LLCR is then blank and
+  the year flagged "no loan-life cover", as DSCR is blank where cash is
+  negative.
 * A grant paid in arrears can be bridged: a short loan at the loan's rate,
   repaid with interest when the grant arrives. A debt service reserve holds
   ``reserve_years`` of the next year's debt service, funded from planting and
@@ -155,12 +158,22 @@ DEFS = (
     line("loan_life_pv_cfads", "money/ha", "loan", "CFADS discounted to year 0 over the loan life",
          "CFADS of the years the loan is outstanding, discounted at the loan's rate to year 0.",
          ((t >= 1) & (t <= G + N)) * L.cfads * (1 + L.loan_rate) ** (0 - t), show=False),
+    line("llcr_pv_cfads", "money/ha", "loan", "CFADS of the remaining loan life, present value",
+         "CFADS of the years from this one to the end of the term, discounted at the loan's rate to the start of "
+         "the year; money of the year.",
+         (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** t,
+         show=False),
     line("llcr", "ratio", "loan", "LLCR",
          "Loan-life cover ratio: present value at the loan's rate of the CFADS of the remaining loan life / "
-         "balance owed at the start of the year.",
-         where((L.loan_opening_balance > 0) & (t >= 1),
-               (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** t
-               / L.loan_opening_balance, NOTHING)),
+         "balance owed at the start of the year; blank where that present value is below zero (no cover: not a "
+         "meaningful ratio, see the next line).",
+         where((L.loan_opening_balance > 0) & (t >= 1) & (L.llcr_pv_cfads >= 0),
+               L.llcr_pv_cfads / L.loan_opening_balance, NOTHING)),
+    line("llcr_no_cover", "flag", "loan", "No loan-life cover (LLCR below 0)",
+         "1 in a year with a balance owed where the present value of the CFADS of the remaining loan life is "
+         "below zero: the cash to come does not cover even its own costs, let alone the loan (an LLCR below 0, "
+         "shown as no cover rather than as a negative ratio).",
+         (L.loan_opening_balance > 0) & (t >= 1) & (L.llcr_pv_cfads < 0)),
     # the grant bridge and the reserve
     line("bridge_drawdown", "money/ha", "loan", "Grant bridge drawn",
          "A grant paid in arrears, bridged from planting.",
