@@ -157,6 +157,31 @@ def test_cli_explain_text_and_json(cases, capsys):
     assert main(["explain", str(path), "npv", "--year", "3"]) == 2
 
 
+def test_a_figure_with_no_value_in_the_case_says_so_and_why(cases, capsys):
+    # the switchgrass demo borrows nothing: its DSCR (line and figure) and LLCR have no value, and the
+    # explanation says so first, then names the inputs that would give them one
+    sandy = ROOT / "cases" / "sandy_slope_switchgrass.toml"
+    assert cases["sandy_slope_switchgrass"]["loan.share_of_establishment"] == 0
+    for name in ("dscr", "min_dscr", "llcr"):
+        ex = X.explain(cases["sandy_slope_switchgrass"], name)
+        assert ex.no_value and "no loan" in ex.no_value, name
+    assert main(["explain", str(sandy), "dscr"]) == 0
+    out = capsys.readouterr().out
+    assert "No value: this line has no value in this case, because the case draws no loan" in out
+    assert "Case inputs whose change would give it a value" in out and "Case inputs it uses" not in out
+    assert main(["explain", str(sandy), "dscr", "--json"]) == 0
+    assert "no loan" in json.loads(capsys.readouterr().out)["no_value"]
+    # the clay demo borrows: its DSCR has a value, and no such line; in a grace year (2: no debt service) the
+    # line has none, and the reason is the condition its formula puts on the debt service
+    clay = cases["clay_corner_miscanthus"]
+    assert X.explain(clay, "dscr").no_value is None and X.explain(clay, "min_dscr").no_value is None
+    graced = X.explain(clay, "dscr", year=2)
+    assert clay["loan.grace_years"] >= 2 and "[debt service] > 0 is not met in year 2" in graced.no_value
+    assert main(["explain", str(ROOT / "cases" / "clay_corner_miscanthus.toml"), "dscr"]) == 0
+    out = capsys.readouterr().out
+    assert "No value" not in out and "Case inputs it uses" in out
+
+
 def test_every_figure_and_line_of_every_demo_explains(cases):
     for case in cases.values():
         for kind, name, _ in X.listing():
