@@ -72,6 +72,31 @@ class TestProfiles:
         assert ratios.min() >= 1.4 and np.ptp(ratios) <= 1e-9 * ratios.max()
         assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
 
+    def test_sculpted_loan_capitalises_the_interest_a_year_without_cash_leaves_unpaid(self):
+        # the demo willow is harvested every third year: most of its repayment years have no cash, so its
+        # sculpted service is 0 there and the year's interest is added to the balance, not repaid as a
+        # negative principal
+        case, f, res = run(WILLOW)
+        assert case["loan.profile"] == "sculpted"
+        r, g, n = case["loan.rate"], case["loan.grace_years"], case["loan.term_years"]
+        opening = f["loan_balance"].shift(1, fill_value=0.0)
+        assert (f["loan_principal"] >= 0).all() and (f["loan_capitalised_interest"] >= 0).all()
+        # the roll-forward, year by year (plain arithmetic): opening + drawn + capitalised - repaid = closing
+        assert_allclose(opening + f["loan_drawdown"] + f["loan_capitalised_interest"] - f["loan_principal"],
+                        f["loan_balance"], rtol=1e-12, atol=1e-9)
+        # a repayment year with no cash: nothing paid, interest on the opening balance capitalised
+        idle = (f["year"] > g) & (f["year"] < g + n) & (f["cfads"] < 0)
+        assert idle.sum() >= 4
+        assert_allclose(f.loc[idle, "loan_capitalised_interest"], opening[idle] * r, rtol=1e-12)
+        assert (f.loc[idle, "loan_principal"] == 0).all() and (f.loc[idle, "debt_service"] == 0).all()
+        # debt service is the interest paid plus the principal; all principal repaid is the loan drawn plus
+        # every interest capitalised (the balance ends at zero)
+        assert_allclose(f["debt_service"], f["loan_interest"] - f["loan_capitalised_interest"] + f["loan_principal"],
+                        rtol=1e-12, atol=1e-9)
+        assert f["loan_principal"].sum() == pytest.approx(
+            f["loan_drawdown"].sum() + f["loan_capitalised_interest"].sum(), rel=1e-12)
+        assert f["loan_balance"].iloc[-1] == pytest.approx(0.0, abs=1e-8)
+
 
 class TestCoverRatios:
     def test_llcr_and_interest_cover(self):
@@ -87,6 +112,35 @@ class TestCoverRatios:
             paid = f.loc[t, "debt_service"] - f.loc[t, "loan_principal"]  # interest paid, not capitalised
             if paid > 0 and f.loc[t, "cfads"] >= 0:
                 assert f.loc[t, "interest_cover"] == pytest.approx(f.loc[t, "cfads"] / paid)
+
+    def test_an_llcr_below_zero_is_no_cover_not_a_ratio(self):
+        # biomass given away: the cash available is negative, so the present value of the remaining loan life's
+        # CFADS is below zero (worked here from the definition with numpy-financial): no cover. The ledger shows
+        # no ratio and flags the year; the figures have no value, with the note saying why.
+        case, f, res = run(CLAY, **{"revenue.price_per_t_dm": 0.0})
+        r, end = case["loan.rate"], case["loan.grace_years"] + case["loan.term_years"]
+        covered = 0
+        for t in range(1, end + 1):
+            opening = f.loc[t - 1, "loan_balance"]
+            pv = npf.npv(r, np.concatenate([[0.0], f.loc[t:end, "cfads"].to_numpy()])) * (1 + r)
+            if pv < 0:
+                assert np.isnan(f.loc[t, "llcr"]) and f.loc[t, "llcr_no_cover"] == 1
+            else:
+                covered += 1
+                assert f.loc[t, "llcr"] == pytest.approx(pv / opening, rel=1e-10) and f.loc[t, "llcr_no_cover"] == 0
+        assert covered == 0 and res["llcr_no_cover_years"] == end
+        assert res["llcr"] is None and res["min_llcr"] is None and res["llcr_no_cover_at_first_test"] == 1
+        assert "no cover" in res.notes["llcr"] and "no cover" in res.notes["min_llcr"]
+        # the terminal says so in words, no negative ratio
+        from tea.outputs.terminal import summary_text
+
+        shown = [ln for ln in summary_text(case, f, res, yearly=False).splitlines() if "LLCR" in ln]
+        assert len(shown) == 1 and "below 0: no cover" in shown[0] and "-" not in shown[0].replace("–", "")
+        # the demo as given is covered in every year: a ratio, no flag
+        case, f, res = run(CLAY)
+        assert res["llcr"] > 0 and res["llcr_no_cover_years"] == 0 and "llcr" not in res.notes
+        shown = [ln for ln in summary_text(case, f, res, yearly=False).splitlines() if "LLCR" in ln]
+        assert len(shown) == 1 and f"{res['llcr']:.2f}" in shown[0]
 
     def test_negative_cash_is_no_ratio_but_money_short(self):
         case, f, res = run(WILLOW, **{"loan.profile": "annuity"})

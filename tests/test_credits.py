@@ -78,6 +78,23 @@ class TestCosts:
         led = tea.build_ledger(_case(**{"carbon.credit_price_per_t_co2e": 0.0}))
         assert (led["verification_cost"] == 0).all() and (led["credit_payback_cost"] == 0).all()
 
+    @pytest.mark.parametrize("changes", [
+        # the stand's SOC factors equal the current use's: IPCC Eq. 2.25 gives no stock change, so no removal
+        # is ever verified (hand: SOC_ref x F_LU x F_MG x F_I the same before and after)
+        {"carbon.crop_f_lu": 0.69, "carbon.crop_f_mg": 1.0, "carbon.crop_f_i": 1.0,
+         "carbon.current_f_lu": 0.69, "carbon.current_f_mg": 1.0, "carbon.current_f_i": 1.0},
+        # the first verification falls after the stand life (20 years): nothing is ever credited
+        {"carbon.credit_first_year": 25},
+    ], ids=["no_soc_gain", "first_verification_after_the_stand"])
+    def test_no_fee_where_no_credit_is_issued(self, changes):
+        # a credit price alone claims nothing: with no credit issued there is no verification to pay for and no
+        # registry account to keep, so the stand's cash is that of the same case without a credit price
+        led = tea.build_ledger(_case(**changes))
+        assert led["credited_t_co2e"].sum() == 0
+        assert (led["verification_cost"] == 0).all()
+        unpriced = tea.build_ledger(_case(**changes, **{"carbon.credit_price_per_t_co2e": 0.0}))
+        assert_allclose(led["net_cash_flow"], unpriced["net_cash_flow"], rtol=1e-12, atol=1e-12)
+
 
 class TestNetGhg:
     def test_life_plus_reversion_adds_the_soc_lost(self):

@@ -30,10 +30,16 @@ from tea.model.slopes import expanded
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = ("clay_corner_miscanthus", "sandy_slope_switchgrass", "flood_meadow_willow")
 M = expanded(MODEL)
-#: whole-number figures and the line each is read from (the figures' own formulas say so)
+#: whole-number figures and the line (or lines) each is read from (the figures' own formulas say so)
 STEPPED = {"payback_year": "cumulative_cash_flow", "discounted_payback_year": "cumulative_discounted_cash_flow",
            "peak_funding_year": "cumulative_cash_flow", "min_dscr_year": "dscr_tested",
-           "years_below_covenant": "dscr_tested"}
+           "years_below_covenant": "dscr_tested",
+           "llcr_no_cover_years": ("llcr_pv_cfads", "loan_opening_balance")}
+
+
+def basis_lines(name: str) -> tuple[str, ...]:
+    lines = STEPPED[name]
+    return (lines,) if isinstance(lines, str) else lines
 
 
 def changes(case, path):
@@ -60,7 +66,7 @@ class Moves:
         paths = sorted(set().union(*(reached(d.name) for d in MODEL.figures)))
         self.rows = [(p, v) for p in paths for v in changes(case, p)]
         figures = [d.name for d in MODEL.figures]
-        lines = sorted(set(STEPPED.values()))
+        lines = sorted({line for name in STEPPED for line in basis_lines(name)})
         base = evaluate(case.values, figures=figures, lines=lines)
         self.base = {**{f: base.figures[f][0] for f in figures}, **{n: base.lines[n][0] for n in lines}}
         self.got = {}
@@ -102,7 +108,7 @@ def test_listed_inputs_are_exactly_those_that_move_the_figure(cases, name):
             assert moving <= listed, (d.name, moving - listed)
             # a listed input moves the line the figure is read from, or is read by its own condition
             conditions = {p for dd in M.closure([M.figure(d.name)]) if dd.unit in ("flag", "yr") for p in E.inputs(dd.expr)}
-            basis = {p for p in listed if p in conditions or moves(p, STEPPED[d.name])}
+            basis = {p for p in listed if p in conditions or any(moves(p, ln) for ln in basis_lines(d.name))}
             assert listed == basis, (d.name, listed - basis)
         else:
             assert listed == moving, (d.name, sorted(listed - moving), sorted(moving - listed))
@@ -149,6 +155,31 @@ def test_cli_explain_text_and_json(cases, capsys):
     assert main(["explain", str(path), "nvp"]) == 2
     assert "did you mean npv" in capsys.readouterr().err
     assert main(["explain", str(path), "npv", "--year", "3"]) == 2
+
+
+def test_a_figure_with_no_value_in_the_case_says_so_and_why(cases, capsys):
+    # the switchgrass demo borrows nothing: its DSCR (line and figure) and LLCR have no value, and the
+    # explanation says so first, then names the inputs that would give them one
+    sandy = ROOT / "cases" / "sandy_slope_switchgrass.toml"
+    assert cases["sandy_slope_switchgrass"]["loan.share_of_establishment"] == 0
+    for name in ("dscr", "min_dscr", "llcr"):
+        ex = X.explain(cases["sandy_slope_switchgrass"], name)
+        assert ex.no_value and "no loan" in ex.no_value, name
+    assert main(["explain", str(sandy), "dscr"]) == 0
+    out = capsys.readouterr().out
+    assert "No value: this line has no value in this case, because the case draws no loan" in out
+    assert "Case inputs whose change would give it a value" in out and "Case inputs it uses" not in out
+    assert main(["explain", str(sandy), "dscr", "--json"]) == 0
+    assert "no loan" in json.loads(capsys.readouterr().out)["no_value"]
+    # the clay demo borrows: its DSCR has a value, and no such line; in a grace year (2: no debt service) the
+    # line has none, and the reason is the condition its formula puts on the debt service
+    clay = cases["clay_corner_miscanthus"]
+    assert X.explain(clay, "dscr").no_value is None and X.explain(clay, "min_dscr").no_value is None
+    graced = X.explain(clay, "dscr", year=2)
+    assert clay["loan.grace_years"] >= 2 and "[debt service] > 0 is not met in year 2" in graced.no_value
+    assert main(["explain", str(ROOT / "cases" / "clay_corner_miscanthus.toml"), "dscr"]) == 0
+    out = capsys.readouterr().out
+    assert "No value" not in out and "Case inputs it uses" in out
 
 
 def test_every_figure_and_line_of_every_demo_explains(cases):

@@ -112,6 +112,8 @@ def recalculated(tmp_path_factory):
         "loan.profile": "straight_line", "tax.rate": 0.25, "finance.stand_life_years": 23}))
     put("two_sign_changes", clay.replace(**{"costs.removal_per_ha": 9000.0}))
     put("no_loan", clay.replace(**{"loan.share_of_establishment": 0.0, "carbon.credit_price_per_t_co2e": 0.0}))
+    # biomass given away: the cash available is negative over the whole loan life (an LLCR below 0, no cover)
+    put("no_cover", clay.replace(**{"revenue.price_per_t_dm": 0.0}))
     # the lender's downside of each demo as a case of its own (price, yield and a year's delay moved)
     from tea.analysis.lender import downside_values
 
@@ -171,7 +173,7 @@ def _compare_cached(written: Path, recalculated: Path) -> int:
 
 
 @pytest.mark.parametrize("name", [*sorted(DEMOS), *(f"downside_{n}" for n in sorted(DEMOS)), "branches",
-                                  "two_sign_changes", "no_loan", "portfolio"])
+                                  "two_sign_changes", "no_loan", "no_cover", "portfolio"])
 def test_every_formula_recalculates_to_the_engine(recalculated, name):
     written, again, _ = recalculated[name]
     assert _compare_cached(written, again) > 2000
@@ -219,6 +221,26 @@ def test_the_checks_pass_on_every_demo_and_catch_a_loan_longer_than_the_stand(re
     failing = {ws.cell(r, 1).value for r in range(6, ws.max_row + 1) if ws.cell(r, 5).value == "FAIL"}
     assert "Loan term within the stand life" in failing
     assert wb["Checks"]["B4"].value >= 1
+
+
+def test_an_llcr_below_zero_is_shown_as_no_cover(recalculated):
+    # with the biomass given away the cash available is negative in every year of the loan: the present value
+    # of the CFADS over the remaining loan life is below 0, so no ratio covers the balance (Yescombe, Principles
+    # of Project Finance, 2nd ed., ch. 12: LLCR = PV(CFADS) / debt outstanding). LibreOffice's recalculation
+    # of the live formulas says so on the summary; the lender's table (values tea wrote) says the same.
+    written, again, case = recalculated["no_cover"]
+    ledger = tea.build_ledger(case)
+    r, end = case["loan.rate"], case["loan.grace_years"] + case["loan.term_years"]
+    first = case["loan.grace_years"] + 1  # the first covenant test: the first repayment year
+    pv = sum(ledger.loc[t, "cfads"] / (1 + r) ** (t - first + 1) for t in range(first, end + 1))
+    assert pv < 0
+    rows = [[c.value for c in row] for row in load_workbook(again, data_only=True)["Summary"].iter_rows()]
+    llcr = [row for row in rows if row[0] == "LLCR at the first test"]
+    assert llcr and llcr[0][2] == "below 0: no cover", llcr
+    lender = [row for row in rows if isinstance(row[0], str) and row[0].startswith("LLCR")
+              and row[0] != "LLCR at the first test"]
+    assert lender and lender[0][1:3] == ["below 0: no cover", "below 0: no cover"], lender
+    assert not any(isinstance(v, (int, float)) and v < 0 for row in llcr + lender for v in row[1:3])
 
 
 def test_saved_values_are_read_without_recalculation(recalculated):

@@ -21,7 +21,7 @@ import numpy as np
 from tea.inputs.case import Case
 from tea.model.evaluate import evaluate
 
-FIGURES = ("npv", "npv_vs_current_use", "irr", "min_dscr", "years_below_covenant", "llcr",
+FIGURES = ("npv", "npv_vs_current_use", "irr", "min_dscr", "years_below_covenant", "llcr", "llcr_no_cover_at_first_test",
            "money_short_of_debt_service", "equity_peak_funding_need")
 PRICE_KEYS = ("revenue.price_per_t_dm", "revenue.price_per_gj", "revenue.contract_price_per_t_dm",
               "revenue.contract_price_per_gj")

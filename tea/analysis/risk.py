@@ -55,7 +55,8 @@ from tea.inputs.case import case_header as json_header
 
 PERCENTILES = (5, 10, 50, 90, 95)
 #: figures drawn per draw
-FIGURES = ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr", "min_dscr", "llcr", "loan_principal",
+FIGURES = ("npv", "npv_vs_current_use", "eav", "eav_vs_current_use", "irr", "min_dscr", "llcr",
+           "llcr_no_cover_at_first_test", "loan_principal",
            "dscr_covenant", "establishment_cost")
 #: bins of the NPV histogram
 HISTOGRAM_BINS = 20
@@ -358,7 +359,13 @@ def run(case: Case, draws: int | None = None, seed: int | None = None, progress:
     if has_loan.any():
         low = figs["min_dscr"][has_loan]  # over each draw's covenant test years (0: cash was negative)
         stats["min_dscr"] = stat(low)
-        stats["llcr"] = stat(figs["llcr"][has_loan])
+        # an LLCR below 0 is no cover (the figure has no value): counted as 0, as the lowest DSCR counts
+        # negative cash, so that its percentiles are not those of the covered draws alone
+        no_cover = figs["llcr_no_cover_at_first_test"][has_loan] > 0
+        stats["llcr"] = stat(np.where(no_cover, 0.0, figs["llcr"][has_loan]))
+        if no_cover.any():
+            notes.append(f"LLCR below 0 (no cover) in {no_cover.mean():.1%} of the draws with a loan: counted as 0 "
+                         "in its percentiles (a negative ratio is not meaningful)")
         dscr_prob = probability(np.nan_to_num(low, nan=np.inf) < covenant)
     else:
         notes.append("no loan: the case borrows nothing, so no DSCR is computed")

@@ -78,6 +78,7 @@ class Explanation:
     inputs: list[InputUse]
     constants: list[dict[str, Any]]
     unused_inputs: list[str]
+    no_value: str | None = None  # why the figure or line has no value in this case (None: it has one)
 
     def to_dict(self) -> dict[str, Any]:
         def node(n: Node) -> dict[str, Any]:
@@ -87,7 +88,8 @@ class Explanation:
                     "not_shown": n.more}
         return {"case": self.case, "case_hash": self.case_hash, "year": self.year, "explains": node(self.root),
                 "inputs": [vars(i) | {"value": _plain(i.value)} for i in self.inputs],
-                "constants": self.constants, "in_formula_no_effect_here": self.unused_inputs}
+                "constants": self.constants, "in_formula_no_effect_here": self.unused_inputs,
+                "no_value": self.no_value}
 
 
 def _plain(v: Any) -> Any:
@@ -404,10 +406,108 @@ def explain(case: Case, name: str, year: int | None = None, depth: int = 2, mode
     uses = [InputUse(path, case.values.get(path), _unit(path, case), ORIGINS.get(case.origin.get(path, ""), "default"),
                      case.notes.get(path, ""), schema.BY_PATH[path].doc if path in schema.BY_PATH else "")
             for path in sorted(all_inputs)]
+    no_value = None
+    if _blank(value_of(root_def)):
+        no_value = _why_no_value(root_def, m, demand, value_of, case, year)
     return Explanation(case.name, case.hash, year, build(root_def, 0, set()), uses,
                        [{"name": c.name, "value": c.value, "unit": c.unit, "meaning": c.doc, "source": c.source}
                         for c in sorted(consts.values(), key=lambda c: c.name)],
-                       sorted(all_dead - all_inputs))
+                       sorted(all_dead - all_inputs), no_value)
+
+
+# ----------------------------------------------------------------------------- a value that is not there
+def _blank(v: Any) -> bool:
+    """No value: "no value" (NaN) in the year asked for, or in every year of the stand."""
+    a = np.asarray(v, dtype=object).reshape(-1)
+    return a.size > 0 and all(isinstance(x, (float, np.floating)) and np.isnan(x) for x in a)
+
+
+def _is_nothing(n: E.Node) -> bool:
+    return isinstance(n, E.Const) and isinstance(n.value, float) and np.isnan(n.value)
+
+
+def _why_no_value(d: Def, m: Model, demand: "_Demand", value_of, case: Case, year: int | None,
+                  depth: int = 0) -> str:
+    """Why a declaration has no value in this case, in words: no loan; a condition of its formula that leaves it
+    blank in every year asked for; or the line it is read from having none."""
+    computed = value_of
+
+    def value_of(x: Def) -> Any:  # a declaration the case never needed computed (a branch not taken): unknown
+        try:
+            return computed(x)
+        except KeyError:
+            return None
+
+    def on(n: E.Node) -> np.ndarray | None:  # where a condition holds, over the years asked for
+        try:
+            return np.broadcast_to(np.asarray(demand.value(n), dtype=float) != 0, years.shape)
+        except (KeyError, TypeError, ValueError):
+            return None
+
+    closure = {x.key for x in m.closure([d])}
+    drawn = value_of(m.line("loan_amount")) if ("line", "loan_amount") in closure else None
+    if drawn is not None and drawn == 0:
+        return ("the case draws no loan (loan drawn at planting: 0; share of the establishment cost borrowed: "
+                f"{case.values.get('loan.share_of_establishment', 0):g}), so there is no debt to service or cover")
+    years = np.zeros((1, demand.years), bool)
+    if d.kind != "line":
+        years[:, 0] = True  # one value: a condition of it is the same in every column
+        when = "in this case"
+    elif year is None:
+        years[:, : case.stand_life + 1] = True
+        when = "in any year of the stand"
+    else:
+        years[:, year] = True
+        when = f"in year {year}"
+    for n in E.walk(d.expr):
+        if not (isinstance(n, E.Call) and n.fn == "where" and (_is_nothing(n.args[1]) or _is_nothing(n.args[2]))):
+            continue
+        cond = on(n.args[0])
+        if cond is None:
+            continue
+        blank_when = ~cond if _is_nothing(n.args[2]) else cond
+        if not (blank_when | ~years).all():
+            continue
+        parts = _conjuncts(n.args[0]) if _is_nothing(n.args[2]) else [n.args[0]]
+        failing = [c for c in parts if on(c) is not None and not (on(c) & years).any()]
+        said = " and ".join(words(c, m) for c in (failing or parts))
+        verb = ("is never met" if year is None and d.kind == "line" else "is not met") if _is_nothing(n.args[2]) \
+            else "holds"
+        return f"its formula leaves it blank unless {words(n.args[0], m)}: {said} {verb} {when}" \
+            if _is_nothing(n.args[2]) else f"its formula leaves it blank where {said}, which {verb} {when}"
+    if depth < 3:
+        for n in E.walk(d.expr):
+            at = None
+            if isinstance(n, E.Reduce) and n.kind == "at" and isinstance(n.x, E.Ref):
+                try:
+                    at = float(np.asarray(demand.value(n.arg), dtype=float).reshape(-1)[0])
+                except (KeyError, TypeError, ValueError):
+                    continue
+                dep, got = m.get(n.x), value_of(m.get(n.x))
+                row = np.asarray(got if got is not None else []).reshape(-1)
+                if not (np.isfinite(at) and 0 <= at < row.size):
+                    continue
+                at = int(at)
+                blank = _blank(row[at])
+            elif isinstance(n, E.Ref):
+                dep = m.get(n)
+                got = value_of(dep)
+                blank = got is not None and _blank(got)
+            else:
+                continue
+            if blank:
+                why = _why_no_value(dep, m, demand, value_of, case, at if at is not None else year, depth + 1)
+                where_ = f"in year {at}" if at is not None else ("" if dep.kind != "line" else when)
+                return f"it is read from {dep.name} ({dep.label}), which has no value {where_}: {why}".replace(
+                    "value : ", "value: ")
+    return "its formula gives no value for this case's inputs"
+
+
+def _conjuncts(n: E.Node) -> list[E.Node]:
+    """The parts of a condition joined by "and"."""
+    if isinstance(n, E.Bin) and n.op == "&":
+        return _conjuncts(n.a) + _conjuncts(n.b)
+    return [n]
 
 
 #: a change of an input, either way: this share of its value (plus a small absolute step, so zeros move)

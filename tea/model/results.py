@@ -83,6 +83,10 @@ class Results:
         }
 
 
+#: what an LLCR below 0 is said to be: no cover, not a ratio to read
+NO_COVER = "below 0: no cover; a negative ratio is not meaningful"
+
+
 def _clean(v: float) -> float | None:
     v = float(v)
     return None if not np.isfinite(v) else v
@@ -114,6 +118,14 @@ def summarise(case: Case, frame: pd.DataFrame | None = None, model=MODEL) -> Res
     elif per_ha["years_below_covenant"]:
         notes["min_dscr"] = (f"below the covenant in {per_ha['years_below_covenant']:.0f} test year(s); "
                              "0 means the cash available was negative")
+    if not per_ha["loan_principal"]:
+        notes["llcr"] = notes["min_llcr"] = "no loan: no balance to cover"
+    else:
+        if per_ha["llcr_no_cover_at_first_test"]:
+            notes["llcr"] = NO_COVER
+        if per_ha["llcr_no_cover_years"]:
+            notes["min_llcr"] = (f"below 0: no cover in {per_ha['llcr_no_cover_years']:.0f} year(s) of the loan "
+                                 "; a negative ratio is not meaningful")
     if case["loan.profile"] == "sculpted" and per_ha["loan_principal"]:
         notes["breakeven_price_at_covenant"] = "not meaningful for a sculpted loan: it is sized to its target DSCR"
     for name in ("breakeven_price", "breakeven_price_vs_current_use"):

@@ -55,8 +55,15 @@ def explain_text(ex: Explanation, currency: str, system: str = "metric") -> str:
     out = [f"{ex.case} (case hash {ex.case_hash})" + (f", year {ex.year}" if ex.year is not None else ""), ""]
     if system != "metric":
         out[-1:] = ["The formulas work in metric units per ha; a value in brackets is in the case's units.", ""]
+    if ex.no_value:
+        what = "figure" if ex.root.kind == "figure" else ("line" if ex.year is None else f"line in year {ex.year}")
+        out += [f"No value: this {what} has no value in this case, because {ex.no_value}.", ""]
     _node(ex.root, currency, "", out, system)
-    out += ["", "Case inputs it uses (a 1 % change, or a step for a whole number or a choice, moves it):"]
+    if ex.no_value:
+        out += ["", "Case inputs whose change would give it a value (a 1 % change, or a step for a whole number "
+                "or a choice):"]
+    else:
+        out += ["", "Case inputs it uses (a 1 % change, or a step for a whole number or a choice, moves it):"]
     for u in ex.inputs:
         value = u.value if not isinstance(u.value, list) else ", ".join(f"{x:g}" for x in u.value)
         out.append(f"  {u.path} = {value} {u.unit}  [{u.origin}] {u.source}".rstrip())

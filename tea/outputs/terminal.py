@@ -75,7 +75,7 @@ SUMMARY_ROWS = (
                 "ghg_net_t_co2e_per_year", "ghg_net_kg_co2e_per_t_dm", "ghg_net_kg_co2e_per_gj", "credited_t_co2e",
                 "credit_payback_t_co2e", "carbon_credit_pv")),
     ("Loan", ("loan_principal", "loan_payment", "loan_interest_total", "min_dscr", "min_dscr_year", "dscr_covenant",
-              "years_below_covenant", "money_short_of_debt_service", "equity_peak_funding_need")),
+              "years_below_covenant", "money_short_of_debt_service", "llcr", "equity_peak_funding_need")),
     ("After tax", ("npv_after_tax", "irr_after_tax", "tax_total")),
 )
 
@@ -126,6 +126,7 @@ LABELS = {
     "min_dscr_year": "Lowest DSCR in",
     "dscr_covenant": "DSCR covenant",
     "years_below_covenant": "Years below covenant",
+    "llcr": "LLCR at the first test",
     "equity_peak_funding_need": "Peak own funding after loan",
     "money_short_of_debt_service": "Debt service not covered",
     "npv_after_tax": "NPV after tax",

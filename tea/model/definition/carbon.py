@@ -147,8 +147,11 @@ DEFS = (
          "Net balance of the stand less the current use's emissions (its SOC stays at its equilibrium).",
          L.ghg_net_t_co2e - L.current_ghg_t_co2e),
     # credits: removals credited at verification, a buffer held back, the loss at removal paid back
-    param("credit_enrolled", "flag", "carbon", "Credits sold", "1 where the case sells credits (a credit price > 0).",
-          CB.credit_price_per_t_co2e > 0),
+    param("credit_enrolled", "flag", "carbon", "Credits sold",
+          "1 where the case sells credits: a credit price > 0 and credits issued over the stand life (no removal "
+          "verified, or a first verification after the stand life, claims none, and pays no verification or "
+          "registry fee).",
+          (CB.credit_price_per_t_co2e > 0) & (total(L.credited_t_co2e) > 0)),
     line("credit_eligible_t_co2e", "t CO2e/ha", "carbon", "Removals eligible",
          "SOC gain of the year as CO2 while the stand stands, the removal year excepted.",
          L.stand_year * (t < LIFE) * maximum(L.soc_change_t_c, 0) * C_TO_CO2),

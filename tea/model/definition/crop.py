@@ -67,8 +67,9 @@ DEFS = (
           source="ISO 18125:2017 net calorific value as received"),
     # yield
     line("ramp_usual", "fraction", "yield", "Ramp-up as planted",
-         "Ramp-up fraction of the year where establishment succeeds.",
-         by_year(Y.ramp_up_fractions, start=1, default=1), show=False),
+         "Ramp-up fraction of the year where establishment succeeds: the case's fractions from year 1, then 1; "
+         "0 in the planting year (year 0), which grows no crop to harvest.",
+         L.stand_year * by_year(Y.ramp_up_fractions, start=1, default=1), show=False),
     line("ramp_after_failure", "fraction", "yield", "Ramp-up after a failed establishment",
          "Ramp-up fraction of the year where establishment fails and is replanted: a year late (year 1 yields "
          "nothing, year 2 what year 1 would have).",
@@ -103,6 +104,22 @@ DEFS = (
          "Growth standing at the end of the year before any harvest: last year's, unless it was harvested, plus "
          "this year's growth after the cut-back.",
          lag(L.uncut_t_dm, 1) * (1 - lag(L.harvest, 1)) + L.growth_after_cut_back_t_dm, show=False),
+    line("uncut_ramp_as_planted", "fraction", "yield", "Ramp-up standing uncut, as planted",
+         "Ramp-up fractions of the years since the cut-back or the last harvest, summed, where establishment "
+         "succeeds: above 0 where a harvest of the stand as planted takes dry matter.",
+         lag(L.uncut_ramp_as_planted, 1) * (1 - lag(L.harvest, 1)) + (t > H.cut_back_year) * L.ramp_usual,
+         show=False),
+    line("uncut_ramp_after_failure", "fraction", "yield", "Ramp-up standing uncut, after a failure",
+         "The same where establishment fails and the stand ramps up a year late: above 0 where a harvest of the "
+         "replanted stand takes dry matter.",
+         lag(L.uncut_ramp_after_failure, 1) * (1 - lag(L.harvest, 1))
+         + (t > H.cut_back_year) * L.ramp_after_failure, show=False),
+    line("harvest_takes_share", "fraction", "yield", "Chance a harvest takes dry matter",
+         "In a harvest year, the chance that it takes dry matter: (1 - failure probability) where the stand as "
+         "planted has growth standing uncut, + failure probability where the stand replanted a year late has; "
+         "the expected ledger is the same mix of the two outcomes.",
+         L.harvest * ((1 - I.establishment.failure_probability) * (L.uncut_ramp_as_planted > 0)
+                      + I.establishment.failure_probability * (L.uncut_ramp_after_failure > 0)), show=False),
     line("standing_t_dm", "t DM/ha", "yield", "Standing DM cut",
          "Standing dry matter cut: all growth since the cut-back or the last harvest.",
          L.harvest * L.uncut_t_dm),
@@ -160,8 +177,11 @@ DEFS = (
     line("k2o_applied_kg", "kg/ha", "nutrients", "K2O applied", "K2O applied to replace offtake.",
          L.k2o_offtake_kg * L.k2o_replace_share_at_timing),
     line("fertiliser_cost", "money/ha", "costs", "Replacement fertiliser",
-         "Replacement fertiliser (excluding establishment N) and its spreading.",
+         "Replacement fertiliser (excluding establishment N) and its spreading: one pass in a year with "
+         "fertiliser to put back, taken with the chance that the year's harvest takes dry matter (a stand "
+         "replanted after a failed establishment may have nothing to replace in its first harvest year).",
          (L.n_replaced_kg * N.n_price_per_kg + L.p2o5_applied_kg * N.p2o5_price_per_kg
           + L.k2o_applied_kg * N.k2o_price_per_kg
-          + (L.n_replaced_kg + L.p2o5_applied_kg + L.k2o_applied_kg > 0) * N.spreading_per_ha) * L.cost_index),
+          + (L.n_replaced_kg + L.p2o5_applied_kg + L.k2o_applied_kg > 0) * L.harvest_takes_share
+          * N.spreading_per_ha) * L.cost_index),
 )

@@ -16,13 +16,19 @@ the basis of the discount rate.
   proportion to its CFADS, so that the DSCR is the same in every repayment
   year, the loan capped at what a target DSCR repays (the present value at
   the loan's rate of CFADS / target). The last repayment year clears the
-  balance.
+  balance. Interest a year's debt service does not pay (grace years
+  capitalised, a sculpted year whose cash is short) is its own line, interest
+  capitalised: principal repaid is never negative, and opening balance + drawn
+  + interest capitalised - principal repaid = closing balance in every year.
 * **DSCR** = CFADS / debt service, tested from the covenant's first year to
   the end of the term; not meaningful where cash is negative (then the money
   short is shown). **Interest cover** = CFADS / interest. **LLCR** = present
   value at the loan's rate of CFADS over the remaining loan life / balance
   outstanding (Yescombe, *Principles of Project Finance*, 2nd ed. 2014,
-  ch. 12).
+  ch. 12); where that present value is below zero there is no cover, and a
+  negative ratio would read as a (small) cover: the LLCR is then blank and
+  the year flagged "no loan-life cover", as DSCR is blank where cash is
+  negative.
 * A grant paid in arrears can be bridged: a short loan at the loan's rate,
   repaid with interest when the grant arrives. A debt service reserve holds
   ``reserve_years`` of the next year's debt service, funded from planting and
@@ -88,7 +94,7 @@ DEFS = (
     line("loan_opening_balance", "money/ha", "loan", "Opening balance", "Balance owed at the start of the year.",
          lag(L.loan_balance, 1), show=False),
     line("loan_interest", "money/ha", "loan", "Loan interest",
-         "Interest due on the opening balance (capitalised in grace years if so chosen); money of the year.",
+         "Interest due on the opening balance, paid or capitalised; money of the year.",
          (IN_GRACE | REPAYING) * L.loan_opening_balance * L.loan_rate),
     line("loan_scheduled_service", "money/ha", "loan", "Scheduled debt service",
          "Debt service the profile sets in a repayment year: the level payment, equal principal plus interest, "
@@ -100,16 +106,26 @@ DEFS = (
                                       maximum(L.cfads, 0) / LN.sculpt_dscr * L.loan_balance_after_grace
                                       / total(L.loan_sculpt_capacity), 0))),
          show=False),
+    line("loan_capitalised_interest", "money/ha", "loan", "Interest capitalised",
+         "Interest added to the balance instead of paid: all of it in a grace year where grace interest is "
+         "capitalised; in a repayment year before the last, the part the scheduled debt service does not pay "
+         "(a sculpted year whose cash available is short of the interest). Money of the year.",
+         where(GRACE_CAPITALISED, L.loan_interest,
+               REPAYING * (1 - LAST_REPAYMENT) * maximum(0, L.loan_interest - L.loan_scheduled_service))),
     line("loan_principal", "money/ha", "loan", "Principal repaid",
-         "Principal repaid: scheduled service - interest; the last repayment year, or a service that repays "
-         "all but a rounding remainder, clears the balance.",
+         "Principal repaid: scheduled service less interest, never below 0 (interest it leaves unpaid is "
+         "capitalised); the last repayment year, or a service that repays all but a rounding remainder, clears "
+         "the balance.",
          where(LAST_REPAYMENT | (REPAYING & (L.loan_scheduled_service - L.loan_interest
                                              >= L.loan_opening_balance * (1 - REPAID_TOLERANCE))),
-               L.loan_opening_balance, REPAYING * (L.loan_scheduled_service - L.loan_interest))),
-    line("debt_service", "money/ha", "loan", "Debt service", "Interest paid + principal repaid; money of the year.",
-         where(GRACE_CAPITALISED, 0, L.loan_interest) + L.loan_principal),
-    line("loan_balance", "money/ha", "loan", "Loan balance", "Balance owed at the end of the year; money of the year.",
-         L.loan_opening_balance + L.loan_drawdown + where(GRACE_CAPITALISED, L.loan_interest, 0) - L.loan_principal),
+               L.loan_opening_balance, REPAYING * maximum(0, L.loan_scheduled_service - L.loan_interest))),
+    line("debt_service", "money/ha", "loan", "Debt service",
+         "Interest paid (interest less the interest capitalised) + principal repaid; money of the year.",
+         L.loan_interest - L.loan_capitalised_interest + L.loan_principal),
+    line("loan_balance", "money/ha", "loan", "Loan balance",
+         "Balance owed at the end of the year: opening balance + drawn + interest capitalised - principal repaid; "
+         "money of the year.",
+         L.loan_opening_balance + L.loan_drawdown + L.loan_capitalised_interest - L.loan_principal),
     # covenant tests
     param("covenant_first_year", "yr", "loan", "First covenant test",
           "First year the DSCR covenant is tested (the first repayment year unless the case says).",
@@ -142,12 +158,22 @@ DEFS = (
     line("loan_life_pv_cfads", "money/ha", "loan", "CFADS discounted to year 0 over the loan life",
          "CFADS of the years the loan is outstanding, discounted at the loan's rate to year 0.",
          ((t >= 1) & (t <= G + N)) * L.cfads * (1 + L.loan_rate) ** (0 - t), show=False),
+    line("llcr_pv_cfads", "money/ha", "loan", "CFADS of the remaining loan life, present value",
+         "CFADS of the years from this one to the end of the term, discounted at the loan's rate to the start of "
+         "the year; money of the year.",
+         (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** t,
+         show=False),
     line("llcr", "ratio", "loan", "LLCR",
          "Loan-life cover ratio: present value at the loan's rate of the CFADS of the remaining loan life / "
-         "balance owed at the start of the year.",
-         where((L.loan_opening_balance > 0) & (t >= 1),
-               (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** t
-               / L.loan_opening_balance, NOTHING)),
+         "balance owed at the start of the year; blank where that present value is below zero (no cover: not a "
+         "meaningful ratio, see the next line).",
+         where((L.loan_opening_balance > 0) & (t >= 1) & (L.llcr_pv_cfads >= 0),
+               L.llcr_pv_cfads / L.loan_opening_balance, NOTHING)),
+    line("llcr_no_cover", "flag", "loan", "No loan-life cover (LLCR below 0)",
+         "1 in a year with a balance owed where the present value of the CFADS of the remaining loan life is "
+         "below zero: the cash to come does not cover even its own costs, let alone the loan (an LLCR below 0, "
+         "shown as no cover rather than as a negative ratio).",
+         (L.loan_opening_balance > 0) & (t >= 1) & (L.llcr_pv_cfads < 0)),
     # the grant bridge and the reserve
     line("bridge_drawdown", "money/ha", "loan", "Grant bridge drawn",
          "A grant paid in arrears, bridged from planting.",

@@ -58,7 +58,7 @@ DEFS = (
          L.credit_payback_t_co2e * I.carbon.credit_price_per_t_co2e),
     line("verification_cost", "money/ha", "costs", "Verification and registry",
          "Verifications (first verification year, then every interval, while the stand stands) and yearly "
-         "registry fees, where credits are sold.",
+         "registry fees, where credits are sold (a credit price and credits issued).",
          L.credit_enrolled * L.stand_year * (t < I.finance.stand_life_years)
          * ((t >= I.carbon.credit_first_year) * (mod(t - I.carbon.credit_first_year,
                                                        I.carbon.verification_interval_years) == 0)

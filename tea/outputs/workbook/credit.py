@@ -32,6 +32,9 @@ LENDER_LABELS = {"npv": "NPV", "npv_vs_current_use": "NPV against the current us
                  "min_dscr": "Lowest DSCR (test years)", "years_below_covenant": "Years below the covenant",
                  "llcr": "LLCR", "money_short_of_debt_service": "Money short of debt service",
                  "equity_peak_funding_need": "Peak own funding after the loan"}
+#: a ratio with no value where it is below 0, and the figure flagging that: shown as no cover, not left blank
+NO_COVER = {"llcr": "llcr_no_cover_at_first_test"}
+NO_COVER_TEXT = "below 0: no cover"
 #: relative tolerance of the checks that compare two computations of one number
 CHECK_TOLERANCE = 1e-9
 STATUS_COL = 4
@@ -128,7 +131,12 @@ class CreditWriter(SheetWriter):
                 ws.write_number(r, FACTOR_COL + 1, f_whole, st("keyname"))
                 ws.write_formula(r, 1, f'=IF(ISNUMBER({whole}),{whole}*{xl(r, FACTOR_COL + 1)},"")', fmt, wv)
         cell = lay.cell(d.key, None)
-        if f_per == 1.0:
+        if d.name in NO_COVER:  # a ratio below 0 is no cover: said so, from the live flag beside it
+            flag = self.fig(NO_COVER[d.name])
+            no_cover = isinstance(v, str) and cached(self.values[flag.key]) == 1
+            ws.write_formula(r, 2, f'=IF(ISNUMBER({cell}),{cell},IF({lay.cell(flag.key, None)}=1,'
+                                   f'"{NO_COVER_TEXT}",""))', fmt, NO_COVER_TEXT if no_cover else v)
+        elif f_per == 1.0:
             ws.write_formula(r, 2, f"={cell}", fmt, v)
         else:
             ws.write_number(r, FACTOR_COL, f_per, st("keyname"))
@@ -163,7 +171,9 @@ class CreditWriter(SheetWriter):
             text(ws, r, 0, f"{label} [{shown}]" if shown else label, st("label"))
             for c, v in ((1, lc.base.get(name)), (2, lc.downside.get(name))):
                 if v is None or (isinstance(v, float) and math.isnan(v)):
-                    text(ws, r, c, "n/a", st("value"))
+                    flags = lc.base if c == 1 else lc.downside
+                    no_cover = name in NO_COVER and flags.get(NO_COVER[name]) == 1
+                    text(ws, r, c, NO_COVER_TEXT if no_cover else "n/a", st("value"))
                 else:
                     ws.write_number(r, c, float(v) * factor, fmt)
             r += 1
