@@ -125,7 +125,8 @@ class _Standby:
         returned waits for the result: made here if the worker ended without an answer."""
         try:
             self.conn.send((work, args))
-        except OSError:  # the worker is gone already
+        except Exception:  # the worker is gone already, or the work does not pickle: made here
+            self.process.terminate()
             self.close()
             return lambda: work(*args)
 
@@ -135,7 +136,7 @@ class _Standby:
             except (EOFError, OSError):
                 return work(*args)
             finally:
-                self.close()
+                self.conn.close()  # the worker ends on its own once it has answered
             if done:
                 return value
             raise value
