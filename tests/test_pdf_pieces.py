@@ -172,3 +172,67 @@ def test_case_pages_written_together_in_one_piece_keep_their_order_and_fit(tmp_p
     for k, case in enumerate(cases, start=2):
         page = _run("pdftotext", "-f", str(k), "-l", str(k), str(made["2"]), "-")
         assert case.name in page and f"case {k - 1} of 3" in page
+
+
+def _pid_and_modules(tag: str) -> tuple[str, int, bool]:
+    import sys
+
+    return tag, os.getpid(), "colorsys" in sys.modules
+
+
+def _raises_value_error(text: str) -> None:
+    raise ValueError(text)
+
+
+def _here_or_end(here: int) -> int:
+    if os.getpid() != here:
+        os._exit(9)  # stands in for a worker killed without an answer (out of memory)
+    return here
+
+
+def test_the_worker_standing_by_loads_its_modules_and_makes_the_work_handed_over(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    assert workers.stand_by("colorsys")  # a small standard-library module this process need not load
+    try:
+        tag, pid, loaded = workers.elsewhere(_pid_and_modules, "a")()
+    finally:
+        workers.stand_down()
+    assert (tag, loaded) == ("a", True) and pid != os.getpid()  # os.getpid: made in the other process
+
+
+def test_the_worker_standing_by_sends_back_the_error_of_its_work(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    assert workers.stand_by("colorsys")
+    with pytest.raises(ValueError, match="no such chart"):
+        workers.elsewhere(_raises_value_error, "no such chart")()
+
+
+def test_work_whose_standing_by_worker_dies_is_made_in_this_process(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    here = os.getpid()
+    assert workers.stand_by("colorsys")
+    assert workers.elsewhere(_pid_and_modules, "b")()[1] != here
+    # a standing-by worker that dies: the work is made here, and the run does not wait for it
+    assert workers.stand_by("colorsys")
+    assert workers.elsewhere(_here_or_end, here)() == here
+
+
+def test_no_worker_stands_by_with_one_job(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "1")
+    assert not workers.stand_by("colorsys")
+    assert workers.elsewhere(_pid_and_modules, "c")()[1] == os.getpid()
+
+
+@pytest.mark.parametrize("argv, one", [
+    (["run", "a.toml", "--pdf", "a.pdf"], True),
+    (["run", "--html=a.html", "a.toml", "--brief"], True),
+    (["run", "--pdf", "x.pdf", "--page-size", "A4", "a.toml", "--force"], True),
+    (["run", "a.toml", "b.toml", "--pdf", "c.pdf"], False),  # a comparison: its workers are forked later
+    (["run", "a.toml", "--xlsx", "a.xlsx"], False),
+    (["check", "a.toml", "--pdf"], False),
+    ([], False),
+])
+def test_the_command_line_is_read_ahead_for_one_page(argv, one):
+    from tea.cli.main import _one_page
+
+    assert _one_page(argv) is one

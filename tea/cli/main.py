@@ -233,7 +233,43 @@ def _parser() -> argparse.ArgumentParser:
     return build_parser()
 
 
+#: options of `tea run` that take a value (what :func:`_one_page` skips over)
+_RUN_VALUES = ("--xlsx", "--pdf", "--html", "--page-size")
+
+
+def _one_page(argv: Sequence[str]) -> bool:
+    """Whether the command line asks for one case's printed page (`tea run CASE --pdf/--html ...`), read
+    before the parser is built: only a head start rests on it (a worker loading the chart library)."""
+    if not argv or argv[0] != "run":
+        return False
+    cases, page, skip = 0, False, False
+    for arg in argv[1:]:
+        if skip:
+            skip = False
+        elif arg.startswith("--"):
+            page = page or arg.split("=", 1)[0] in ("--pdf", "--html")
+            skip = arg in _RUN_VALUES
+        elif not arg.startswith("-"):
+            cases += 1
+    return page and cases == 1
+
+
 def _main(argv: Sequence[str] | None) -> int:
+    from tea.outputs import workers
+
+    if _one_page(sys.argv[1:] if argv is None else list(argv)):
+        # one page: a worker loads the chart library now, while this process builds the options, loads the
+        # model and computes the case; it then draws the page's charts while this one starts the PDF engine
+        from tea.outputs import charts
+
+        workers.stand_by(*charts.MODULES)
+    try:
+        return _run(argv)
+    finally:
+        workers.stand_down()  # a worker standing by that was never given its work (the run ended before)
+
+
+def _run(argv: Sequence[str] | None) -> int:
     parser = _parser()
     args = parser.parse_args(argv)
     try:

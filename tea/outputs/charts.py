@@ -11,7 +11,10 @@ Every chart function takes plain numbers already in the units the page shows
   text kept as text (``svg.fonttype = "none"``) in DejaVu Sans.
 
 Figures are built with :class:`matplotlib.figure.Figure` directly, never through
-pyplot, so no global figure state or GUI backend is involved.
+pyplot, so no global figure state or GUI backend is involved. matplotlib is
+imported when a chart is first drawn, not with this module: a process that
+only describes its charts (:class:`Spec`) and has them drawn in a worker
+(:func:`tea.outputs.workers.standing_by`) never loads it.
 
 Text given to a chart (legend labels, axis labels) is escaped by matplotlib's
 SVG writer; a ``$`` is escaped here so that a case's name is never read as
@@ -25,15 +28,15 @@ import io
 import math
 import os
 import re
-from dataclasses import dataclass
-from typing import Sequence
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, Sequence
 from xml.sax.saxutils import escape as xml_escape
 
 os.environ.setdefault("MPLBACKEND", "Agg")
 
-import matplotlib  # noqa: E402
-from matplotlib.figure import Figure  # noqa: E402
-from matplotlib.ticker import MaxNLocator, ScalarFormatter  # noqa: E402
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
+    from matplotlib.ticker import ScalarFormatter
 
 #: matplotlib settings every chart is drawn with (fixed, so the output is byte-stable)
 STYLE = {
@@ -60,6 +63,8 @@ STYLE = {
     "legend.fontsize": 6.0,
     "legend.frameon": False,
     "lines.linewidth": 1.4,
+    "figure.autolayout": False,  # the charts' margins come from their own tight_layout call
+    "figure.constrained_layout.use": False,
 }
 
 #: colours of the page (also used by the stylesheet): ink, gain, loss, muted, accent
@@ -105,6 +110,34 @@ class Chart:
         return "data:image/svg+xml;base64," + base64.b64encode(self.svg.encode("utf-8")).decode("ascii")
 
 
+#: the chart functions a :class:`Spec` may name
+DRAWN_BY_SPEC = ("cumulative_cash", "yield_by_age", "soil_carbon", "compare_cumulative", "tornado")
+
+
+@dataclass(frozen=True)
+class Spec:
+    """A chart described by plain values: the chart function of this module (``kind``) and its arguments.
+
+    A process can describe its charts without drawing them and hand the
+    descriptions to a worker process (they pickle), which draws them
+    (:func:`draw_all`) and sends the :class:`Chart` objects back; drawn
+    anywhere, a spec gives the same chart.
+    """
+
+    kind: str
+    args: dict[str, Any] = field(default_factory=dict)
+
+    def draw(self) -> Chart:
+        if self.kind not in DRAWN_BY_SPEC:
+            raise ValueError(f"chart kind {self.kind!r}: expected one of {', '.join(DRAWN_BY_SPEC)}")
+        return globals()[self.kind](**self.args)
+
+
+def draw_all(specs: Sequence[Spec]) -> list[Chart]:
+    """The charts of the specs, in order."""
+    return [spec.draw() for spec in specs]
+
+
 # ----------------------------------------------------------------------------- helpers
 def plain(text: str) -> str:
     """Text safe for a matplotlib label: ``$`` cannot start mathematical markup."""
@@ -125,6 +158,8 @@ def formatter() -> ScalarFormatter:
 
     No offset and no scientific notation, so that a label reads as the value it marks.
     """
+    from matplotlib.ticker import ScalarFormatter
+
     f = ScalarFormatter(useOffset=False)
     f.set_scientific(False)
     return f
@@ -133,7 +168,7 @@ def formatter() -> ScalarFormatter:
 def axis_ticks(fig: Figure) -> tuple[tuple[str, float, str], ...]:
     """The ticks matplotlib draws on each axes of a drawn figure: (axis, value, label)."""
     out = []
-    with matplotlib.rc_context(STYLE):
+    with style():
         for ax in fig.axes:
             for name, axis in (("x", ax.xaxis), ("y", ax.yaxis)):
                 lo, hi = sorted(axis.get_view_interval())
@@ -144,7 +179,34 @@ def axis_ticks(fig: Figure) -> tuple[tuple[str, float, str], ...]:
     return tuple(out)
 
 
+#: the modules of matplotlib that drawing a chart takes (see :func:`load`)
+MODULES = ("matplotlib.figure", "matplotlib.ticker", "matplotlib.backends.backend_svg")
+
+
+def load() -> None:
+    """Import what drawing a chart takes (:data:`MODULES`) now, e.g. before forking workers that draw."""
+    import importlib
+
+    for module in MODULES:
+        importlib.import_module(module)
+
+
+def style():
+    """The context every chart is drawn in: matplotlib's settings :data:`STYLE` (matplotlib imported here)."""
+    import matplotlib
+
+    return matplotlib.rc_context(STYLE)
+
+
+def _locator(**kwargs):
+    from matplotlib.ticker import MaxNLocator
+
+    return MaxNLocator(**kwargs)
+
+
 def _new_figure(width_in: float, height_in: float) -> Figure:
+    from matplotlib.figure import Figure
+
     fig = Figure(figsize=(width_in, height_in))
     fig.patch.set_alpha(0.0)
     return fig
@@ -152,10 +214,10 @@ def _new_figure(width_in: float, height_in: float) -> Figure:
 
 def _style_axes(ax, years: Sequence[float]) -> None:
     ax.set_facecolor("none")
-    ax.xaxis.set_major_locator(MaxNLocator(integer=True, nbins=8))  # whole years only
+    ax.xaxis.set_major_locator(_locator(integer=True, nbins=8))  # whole years only
     ax.xaxis.set_major_formatter(formatter())
     ax.yaxis.set_major_formatter(formatter())
-    ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+    ax.yaxis.set_major_locator(_locator(nbins=5))
     if len(years):
         ax.set_xlim(min(years) - 0.6, max(years) + 0.6)
     ax.grid(axis="y", color="#dddddd", linewidth=0.4)
@@ -181,7 +243,10 @@ def svg_of(fig: Figure, name: str) -> str:
     if not re.fullmatch(r"[A-Za-z][A-Za-z0-9-]*", name):
         raise ValueError(f"chart name {name!r}: expected letters, digits and '-'")
     buf = io.StringIO()
-    with matplotlib.rc_context(STYLE):
+    with style():
+        # the figure's layout is final (made when the figure was): with no layout engine left on it, savefig
+        # draws it once, instead of a dry run first and then again for the file
+        fig.set_layout_engine(None)
         fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None, "Format": None, "Type": None})
     text = buf.getvalue()
     text = text[text.index("<svg"):]
@@ -254,7 +319,7 @@ def cumulative_cash(
 def cash_figure(years: Sequence[float], y: list[float], payback_year: float | None, unit_label: str,
                 width_in: float = WIDTH_IN, height_in: float = HEIGHT_IN) -> Figure:
     """The figure of :func:`cumulative_cash` (its arguments), before it becomes SVG."""
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
         ax.axhline(0.0, color="#666666", linewidth=0.6)
@@ -319,7 +384,7 @@ def yield_by_age(
     unit_label : str
         Axis unit, e.g. ``"t DM per ha"``.
     """
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
         hy = [t for t, h in zip(years, harvest) if h > 0]
@@ -362,7 +427,7 @@ def soil_carbon(
     unit_label : str
         Axis unit, e.g. ``"t C per ha"``.
     """
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
         s, c = list(soc), list(soc_current_use)
@@ -441,7 +506,7 @@ def compare_cumulative(
         One panel per unit, e.g. ``("EUR per ha", [Series(...), ...])``.
     """
     n = max(1, len(panels))
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height_in)
         axes = fig.subplots(1, n, squeeze=False)[0]
         k = 0
@@ -555,7 +620,7 @@ def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[f
         raise ValueError("tornado: expected one low and one high value per label (at least one)")
     narrow = width_in < 4.0
     height = (row_in * n + TORNADO_FRAME_IN * (1.35 if narrow else 1.0)) * scale
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height)
         ax = fig.add_subplot()
         ax.set_facecolor("none")
@@ -584,7 +649,7 @@ def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[f
         ax.set_ylim(-0.6, n - 0.4)
         ax.set_xlim(lo_all - pad * span, hi_all + pad * span)
         ax.xaxis.set_major_formatter(formatter())
-        ax.xaxis.set_major_locator(MaxNLocator(nbins=3 if narrow else 8))
+        ax.xaxis.set_major_locator(_locator(nbins=3 if narrow else 8))
         ax.grid(axis="x", color="#dddddd", linewidth=0.4)
         ax.set_axisbelow(True)
         ax.spines["left"].set_visible(False)
@@ -619,7 +684,7 @@ def season_light_figure(months: Sequence[str], par_in_season: Sequence[float], i
     intercepted : sequence of float
         PAR the canopy intercepts [MJ m⁻²].
     """
-    with matplotlib.rc_context(STYLE):
+    with style():
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
         x = list(range(1, len(months) + 1))
@@ -630,7 +695,7 @@ def season_light_figure(months: Sequence[str], par_in_season: Sequence[float], i
         ax.set_xticklabels([m[:1] for m in months])
         ax.set_xlim(0.4, len(months) + 0.6)
         ax.yaxis.set_major_formatter(formatter())
-        ax.yaxis.set_major_locator(MaxNLocator(nbins=5))
+        ax.yaxis.set_major_locator(_locator(nbins=5))
         ax.grid(axis="y", color="#dddddd", linewidth=0.4)
         ax.set_axisbelow(True)
         top = max(list(par_in_season) + [0.0])

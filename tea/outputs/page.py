@@ -352,6 +352,11 @@ def _soc_method(case: Case) -> str:
 
 def page_charts(case: Case, frame: pd.DataFrame, res: Results, anchor: str) -> list[charts.Chart]:
     """The charts of a case's page: running total of cash, yield by stand age, soil carbon."""
+    return charts.draw_all(page_chart_specs(case, frame, res, anchor))
+
+
+def page_chart_specs(case: Case, frame: pd.DataFrame, res: Results, anchor: str) -> list[charts.Spec]:
+    """The charts of :func:`page_charts` described by their values, to be drawn here or in a worker."""
     system, per = case.unit_system, per_area(case)
     years = [float(y) for y in frame["year"]]
 
@@ -361,12 +366,16 @@ def page_charts(case: Case, frame: pd.DataFrame, res: Results, anchor: str) -> l
     dm_unit = display.convert(1.0, "t DM/ha", system)[1]
     c_unit = display.convert(1.0, "t C/ha", system)[1]
     return [
-        charts.cumulative_cash(years, conv("cumulative_cash_flow", "money/ha"), value_of(res, "payback_year"),
-                               f"{case.currency} per {per}", name=f"{anchor}-cash"),
-        charts.yield_by_age(years, conv("growth_t_dm", "t DM/ha"), conv("sold_t_dm", "t DM/ha"),
-                            list(frame["harvest"]), dm_unit.replace("/", " per "), name=f"{anchor}-yield"),
-        charts.soil_carbon(years, conv("soc_t_c", "t C/ha"), conv("soc_current_use_t_c", "t C/ha"),
-                           c_unit.replace("/", " per "), name=f"{anchor}-soc"),
+        charts.Spec("cumulative_cash", dict(
+            years=years, cumulative=conv("cumulative_cash_flow", "money/ha"), payback_year=value_of(res, "payback_year"),
+            unit_label=f"{case.currency} per {per}", name=f"{anchor}-cash")),
+        charts.Spec("yield_by_age", dict(
+            years=years, grown=conv("growth_t_dm", "t DM/ha"), sold=conv("sold_t_dm", "t DM/ha"),
+            harvest=[float(h) for h in frame["harvest"]], unit_label=dm_unit.replace("/", " per "),
+            name=f"{anchor}-yield")),
+        charts.Spec("soil_carbon", dict(
+            years=years, soc=conv("soc_t_c", "t C/ha"), soc_current_use=conv("soc_current_use_t_c", "t C/ha"),
+            unit_label=c_unit.replace("/", " per "), name=f"{anchor}-soc")),
     ]
 
 

@@ -52,6 +52,7 @@ from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.outputs import charts, compare, pdf, workers
 from tea.outputs.page import BESIDE, CHART_SCALE, MAX_DENSITY, TYPE_PT, CasePage, page_charts, print_minus  # noqa: F401
+from tea.outputs.page import page_chart_specs
 from tea.outputs.whatmoves import SensitivityViews, shows_block
 
 
@@ -108,15 +109,16 @@ def render_summary(
     path, kind = _target(path, force)
     size = _page_size(page_size, case)
     views = SensitivityViews(case, sensitivity, "case-0")
-
-    def draw() -> tuple[list[charts.Chart], dict[str, Any] | None]:
-        return page_charts(case, ledger, results, "case-0"), views.below()
-
-    with workers.meanwhile(draw) as drawn:  # the charts are drawn while the PDF engine starts
-        pdf.prepare()
-        page_drawn, below = drawn()
-    views.keep_below(below)
-    page = CasePage(case, ledger, results, "case-0", views, page_drawn)
+    specs = page_chart_specs(case, ledger, results, "case-0")
+    tornado = views.below_spec()
+    # the charts are drawn in another process (one standing by with matplotlib loaded, if the command line
+    # started one) while this one starts the PDF engine
+    drawn = workers.elsewhere(charts.draw_all, specs + ([tornado] if tornado is not None else []))
+    pdf.prepare()
+    made = drawn()
+    if tornado is not None:
+        views.keep_below(made.pop())
+    page = CasePage(case, ledger, results, "case-0", views, made)
     meta = _meta([case], [results])
 
     def html_at(density: int, embed: bool) -> str:
@@ -209,7 +211,8 @@ def render_comparison(
         docs = [doc for _, doc in made]
         return [d for d, _ in made], pdf.write_pdf(docs[0].copy([p for doc in docs for p in doc.pages]))
 
-    pdf.prepare()  # the engine's start-up paid once, before the pieces are shared out to workers
+    charts.load()  # the chart library and the engine's start-up paid once, before the pieces go to workers
+    pdf.prepare()
     densities: list[int] = []
 
     def parts():

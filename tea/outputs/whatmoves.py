@@ -91,10 +91,17 @@ class SensitivityViews:
         """The block in its usual place, below the other charts (what every layout step but the last shows)."""
         return self.view(0, False)
 
-    def keep_below(self, view: dict[str, Any] | None) -> None:
-        """Take the block below the other charts as drawn elsewhere (by :meth:`below` in a worker process)."""
-        if self.run is not None and view is not None:
-            self._views[(False, False)] = view
+    def below_spec(self) -> charts.Spec | None:
+        """The tornado chart of the block below the other charts, described (None: no chart to draw here)."""
+        if self.run is None or self.chart is not None:
+            return None
+        return _tornado_spec(self.case, self.run, self.anchor, False, False)
+
+    def keep_below(self, chart: charts.Chart) -> None:
+        """Take the tornado chart of the block below the other charts as drawn elsewhere (from
+        :meth:`below_spec`, e.g. in a worker process)."""
+        if self.run is not None and self.chart is None:
+            self._views[(False, False)] = _block(self.case, self.run, chart, False)
 
 
 def shows_block(case: Case, given: charts.Chart | bool | None) -> bool:
@@ -105,12 +112,21 @@ def shows_block(case: Case, given: charts.Chart | bool | None) -> bool:
 
 def _tornado_view(case: Case, run, anchor: str, beside: bool, split: bool) -> dict[str, Any]:
     """The tornado chart of NPV, ranked by swing, per area unit of the case, and its caption."""
+    return _block(case, run, _tornado_spec(case, run, anchor, beside, split).draw(), beside)
+
+
+def _tornado_spec(case: Case, run, anchor: str, beside: bool, split: bool) -> charts.Spec:
+    """The tornado chart of :func:`_tornado_view`, described."""
     width = (TORNADO_SPLIT_WIDTH_IN if split else TORNADO_SIDE_WIDTH_IN) if beside else TORNADO_WIDTH_IN
     title = ("What moves the NPV: each input moved alone to its low and its high value, the others at base; "
              "largest swing first")
-    chart = charts.tornado(**tornado_parts(case, run, "npv", beside), name=f"{anchor}-tornado", width_in=width,
-                           row_in=charts.TORNADO_ROW_IN * (1.85 if beside else 1.0),
-                           title=title if not beside else "What moves the NPV")
+    return charts.Spec("tornado", dict(**tornado_parts(case, run, "npv", beside), name=f"{anchor}-tornado",
+                                       width_in=width, row_in=charts.TORNADO_ROW_IN * (1.85 if beside else 1.0),
+                                       title=title if not beside else "What moves the NPV"))
+
+
+def _block(case: Case, run, chart: charts.Chart, beside: bool) -> dict[str, Any]:
+    """The block of a drawn tornado chart: the chart and its note on where the ranges come from."""
     note = _ranges_note(case, run)
     if beside:
         note = ("Each input moved alone to its low and its high value, the others at base; largest swing first. "

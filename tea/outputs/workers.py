@@ -3,7 +3,10 @@
 A comparison's pages are laid out and written each on its own (see
 :func:`tea.outputs.report.render_comparison`), so they can be made side by
 side on a machine's cores (:func:`each`); one page's charts are drawn while
-the PDF engine starts (:func:`meanwhile`). The workers are forked from the running process:
+the PDF engine starts (:func:`meanwhile`, :func:`elsewhere`). A worker can also be started
+before its work is known (:func:`stand_by`): for one page the command line starts one that
+loads the chart library while this process loads the model and computes the case. The
+workers are forked from the running process:
 they start with its imports and its data (cases, ledgers, results) and are
 handed only the number of the piece to do; what they return comes back
 pickled, in the order of the pieces whatever order they finish in.
@@ -102,6 +105,118 @@ def meanwhile(work: Callable[[], T]) -> Iterator[Callable[[], T]]:
             yield result
     finally:
         _work = None
+
+
+class _Standby:
+    """One worker process forked now, which imports modules and then waits for one piece of work."""
+
+    def __init__(self, modules: tuple[str, ...]):
+        import multiprocessing
+
+        context = multiprocessing.get_context("fork")
+        self.conn, theirs = context.Pipe()
+        # daemonic: ended with this process if it is never given work (a case that does not load)
+        self.process = context.Process(target=_serve, args=(theirs, modules), name="tea-standby", daemon=True)
+        self.process.start()
+        theirs.close()
+
+    def call(self, work: Callable[..., T], *args) -> Callable[[], T]:
+        """Hand ``work(*args)`` over (``work`` a module-level function, ``args`` what pickles); the function
+        returned waits for the result: made here if the worker ended without an answer."""
+        try:
+            self.conn.send((work, args))
+        except Exception:  # the worker is gone already, or the work does not pickle: made here
+            self.process.terminate()
+            self.close()
+            return lambda: work(*args)
+
+        def result() -> T:
+            try:
+                done, value = self.conn.recv()
+            except (EOFError, OSError):
+                return work(*args)
+            finally:
+                self.conn.close()  # the worker ends on its own once it has answered
+            if done:
+                return value
+            raise value
+
+        return result
+
+    def close(self) -> None:
+        self.conn.close()
+        self.process.join(timeout=1.0)
+        if self.process.is_alive():
+            self.process.terminate()
+            self.process.join()
+
+
+def _serve(conn, modules: tuple[str, ...]) -> None:
+    """In a standing-by worker: import ``modules``, then make the one piece of work handed over and send
+    back (True, result) or (False, the exception it raised)."""
+    import importlib
+
+    for module in modules:
+        importlib.import_module(module)
+    try:
+        work, args = conn.recv()
+    except (EOFError, OSError):  # never given work
+        return
+    try:
+        answer = (True, work(*args))
+    except BaseException as exc:  # noqa: BLE001 - sent back, raised there
+        answer = (False, exc)
+    try:
+        conn.send(answer)
+    except Exception as exc:  # an answer that does not pickle: its error instead
+        conn.send((False, RuntimeError(f"{getattr(work, '__name__', work)}: {exc}")))
+    conn.close()
+
+
+_standby: _Standby | None = None
+
+
+def stand_by(*modules: str) -> bool:
+    """Fork one worker now, which imports ``modules`` while this process goes on and then waits for one
+    piece of work (:func:`elsewhere`); False, and nothing started, if fewer than two workers are available
+    or processes cannot be forked."""
+    global _standby
+    if _standby is not None or available() <= 1 or not sys.platform.startswith("linux"):
+        return False
+    _standby = _Standby(modules)
+    return True
+
+
+def stand_down() -> None:
+    """End the worker standing by, if it was never given its work."""
+    global _standby
+    if _standby is not None:
+        standby, _standby = _standby, None
+        standby.process.terminate()
+        standby.close()
+
+
+def elsewhere(work: Callable[..., T], *args) -> Callable[[], T]:
+    """``work(*args)`` made in another process while this one goes on; the function returned waits for the
+    result (and raises what ``work`` raised).
+
+    By the worker standing by (:func:`stand_by`) if there is one: it has the
+    modules it was started for loaded already, and takes ``work``, a
+    module-level function, and ``args`` pickled. Else as :func:`meanwhile`: in a
+    worker forked now, or in this process when the result is asked for.
+    """
+    global _standby
+    if _standby is not None:
+        standby, _standby = _standby, None
+        return standby.call(work, *args)
+    stack = contextlib.ExitStack()
+    result = stack.enter_context(meanwhile(lambda: work(*args)))
+
+    def wait() -> T:
+        with stack:
+            return result()
+
+    return wait
 
 
 def _settle() -> None:
