@@ -10,8 +10,6 @@
 
 from __future__ import annotations
 
-from tea.core.errors import CaseError, OutputError, Problem, TeaError
-
 
 def _installed_version() -> str:
     from importlib.metadata import PackageNotFoundError, version
@@ -23,8 +21,10 @@ def _installed_version() -> str:
 
 
 #: the public names imported when first used (``import tea`` itself stays light, so that the command line
-#: can answer an interrupt, or ``--help``, before the numerical libraries are loaded)
-_LAZY = {"Case": "tea.inputs.case", "load_case": "tea.inputs.case", "load_text": "tea.inputs.case",
+#: can answer an interrupt, or ``--help``, before the numerical libraries are loaded: its first lines wait
+#: for an interrupt a few milliseconds after the interpreter has started, see :mod:`tea.cli.entry`)
+_LAZY = {"CaseError": "tea.core.errors", "OutputError": "tea.core.errors", "Problem": "tea.core.errors",
+         "TeaError": "tea.core.errors", "Case": "tea.inputs.case", "load_case": "tea.inputs.case", "load_text": "tea.inputs.case",
          "load_mapping": "tea.inputs.case", "preset_names": "tea.inputs.case", "load_preset": "tea.inputs.case",
          "build_ledger": "tea.model.ledger", "Results": "tea.model.results", "summarise": "tea.model.results"}
 

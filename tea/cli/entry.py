@@ -26,12 +26,13 @@ import signal
 import sys
 import threading
 
-from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE as MESSAGE
 
 
 def _end_on_interrupt() -> None:
     """Wait for SIGINT (blocked in every thread), then clean up and end the process."""
     signal.sigwait({signal.SIGINT})
+    from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE as MESSAGE
+
     try:
         from tea.core.files import in_flight
 
@@ -74,5 +75,7 @@ def main() -> int:
         gc.freeze()
         return status
     except KeyboardInterrupt:  # where SIGINT cannot be watched for, or before the watch began
-        print(MESSAGE, file=sys.stderr)
+        from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE
+
+        print(INTERRUPTED_MESSAGE, file=sys.stderr)
         return INTERRUPTED
