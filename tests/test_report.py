@@ -384,11 +384,11 @@ def test_a_render_failing_while_writing_leaves_no_file(tmp_path, monkeypatch):
     target = tmp_path / "out.pdf"
     target.write_bytes(b"the earlier summary")
 
-    def broken(doc, path):
+    def broken(doc, path=None):
         Path(path).write_bytes(b"%PDF-1.7 half a file")
         raise RuntimeError("engine failed half way")
 
-    monkeypatch.setattr(report, "_write_pdf", broken)
+    monkeypatch.setattr(report.pdf, "write_pdf", broken)
     with pytest.raises(RuntimeError):
         report.render_summary(case, frame, res, target, force=True)
     assert target.read_bytes() == b"the earlier summary"

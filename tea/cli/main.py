@@ -258,11 +258,16 @@ def _main(argv: Sequence[str] | None) -> int:
     from tea.outputs import workers
 
     if _one_page(sys.argv[1:] if argv is None else list(argv)):
-        # one page: a worker loads the chart library now, while this process builds the options, loads the
-        # model and computes the case; it then draws the page's charts while this one starts the PDF engine
+        # one page: one worker loads the chart library and another the PDF engine now, while this process
+        # builds the options, loads the model and computes the case; then the one draws the page's charts
+        # while the other lays the page out (tea.outputs.report.render_summary). The three processes use the
+        # cores between them: the numerical library's own thread pool (one thread per core, started in each
+        # process that loads it) would only compete with them, for arithmetic on one case's 30 years
+        os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
         from tea.outputs import charts
 
-        workers.stand_by(*charts.MODULES)
+        workers.stand_by(*charts.MODULES, role="charts")
+        workers.stand_by("tea.outputs.pdf_page:warm_up", role="page")
     try:
         return _run(argv)
     finally:

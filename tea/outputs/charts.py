@@ -23,14 +23,15 @@ mathematical markup.
 
 from __future__ import annotations
 
-import base64
 import io
 import math
 import os
 import re
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Sequence
-from xml.sax.saxutils import escape as xml_escape
+
+from tea.outputs import chart_markup as markup
+from tea.outputs.chart_markup import LATER, Chart  # noqa: F401 - a chart as the page holds it
 
 os.environ.setdefault("MPLBACKEND", "Agg")
 
@@ -79,37 +80,6 @@ WIDTH_IN, HEIGHT_IN = 2.40, 1.50
 LABEL_ROOM = 0.32
 
 
-@dataclass(frozen=True)
-class Chart:
-    """One chart ready for the page.
-
-    Attributes
-    ----------
-    name : str
-        Short identifier, also the prefix of every SVG ``id``.
-    title : str
-        Heading shown above the chart (plain text; the template escapes it).
-    svg : str
-        The SVG markup (trusted: produced by :func:`svg_of`).
-    alt : str
-        A sentence describing what the chart shows, for readers who cannot see it.
-    ticks : tuple of (axis, value, label)
-        Every tick drawn, with its value and its label as printed (``"x"`` or
-        ``"y"`` of each axes in turn), read back from matplotlib after drawing.
-    """
-
-    name: str
-    title: str
-    svg: str
-    alt: str
-    ticks: tuple[tuple[str, float, str], ...] = ()
-
-    @property
-    def data_uri(self) -> str:
-        """The SVG as a ``data:`` URL (the PDF engine draws it as an image: the same picture, laid out faster)."""
-        return "data:image/svg+xml;base64," + base64.b64encode(self.svg.encode("utf-8")).decode("ascii")
-
-
 #: the chart functions a :class:`Spec` may name
 DRAWN_BY_SPEC = ("cumulative_cash", "yield_by_age", "soil_carbon", "compare_cumulative", "tornado")
 
@@ -131,6 +101,25 @@ class Spec:
         if self.kind not in DRAWN_BY_SPEC:
             raise ValueError(f"chart kind {self.kind!r}: expected one of {', '.join(DRAWN_BY_SPEC)}")
         return globals()[self.kind](**self.args)
+
+    def outline(self) -> Chart:
+        """The chart with its name, title and alternative text but not yet drawn (no SVG), made without the
+        chart library: a page can be laid out with it while the chart is drawn elsewhere (:attr:`Chart.src`)."""
+        if self.kind not in DRAWN_BY_SPEC:
+            raise ValueError(f"chart kind {self.kind!r}: expected one of {', '.join(DRAWN_BY_SPEC)}")
+        words = {"cumulative_cash": cash_words, "yield_by_age": yield_words, "soil_carbon": soil_words,
+                 "compare_cumulative": compare_words, "tornado": tornado_words}[self.kind]
+        title, alt = words(**self.args)
+        import inspect
+
+        given = {k: p.default for k, p in inspect.signature(globals()[self.kind]).parameters.items()
+                 if p.default is not p.empty}
+        given.update(self.args)
+        width = given["width_in"]
+        height = tornado_height_in(len(given["labels"]), width, given["row_in"], given["scale"]) \
+            if self.kind == "tornado" else given["height_in"]
+        size = tuple(f"{72.0 * x:f}".rstrip("0").rstrip(".") for x in (width, height))  # as matplotlib writes it
+        return Chart(name=given["name"], title=title, svg="", alt=alt, size_pt=size)
 
 
 def draw_all(specs: Sequence[Spec]) -> list[Chart]:
@@ -225,10 +214,6 @@ def _style_axes(ax, years: Sequence[float]) -> None:
     ax.set_xlabel("year after planting")
 
 
-_ID = re.compile(r'\bid="([^"]+)"')
-_REF = re.compile(r'(url\(#|href="#)([^)"]+)')
-
-
 def svg_of(fig: Figure, name: str) -> str:
     """The figure as inline SVG markup with ids prefixed by ``name``.
 
@@ -240,21 +225,14 @@ def svg_of(fig: Figure, name: str) -> str:
         Prefix of every element id, unique within the HTML page (letters,
         digits and ``-`` only).
     """
-    if not re.fullmatch(r"[A-Za-z][A-Za-z0-9-]*", name):
-        raise ValueError(f"chart name {name!r}: expected letters, digits and '-'")
+    markup.check_name(name)
     buf = io.StringIO()
     with style():
         # the figure's layout is final (made when the figure was): with no layout engine left on it, savefig
         # draws it once, instead of a dry run first and then again for the file
         fig.set_layout_engine(None)
         fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None, "Format": None, "Type": None})
-    text = buf.getvalue()
-    text = text[text.index("<svg"):]
-    text = re.sub(r"\s*<metadata>.*?</metadata>", "", text, flags=re.S)
-    text = _ID.sub(lambda m: f'id="{name}-{m.group(1)}"', text)
-    text = _REF.sub(lambda m: f"{m.group(1)}{name}-{m.group(2)}", text)
-    text = text.replace("<svg ", f'<svg class="chart" role="img" aria-labelledby="{name}-title" ', 1)
-    return text.strip() + "\n"
+    return markup.inline(buf.getvalue(), name)
 
 
 def from_figure(fig: Figure, name: str, title: str, alt: str) -> Chart:
@@ -277,10 +255,7 @@ def from_figure(fig: Figure, name: str, title: str, alt: str) -> Chart:
 def _finish(fig: Figure, name: str, title: str, alt: str) -> Chart:
     svg = svg_of(fig, name)  # draws the figure: its ticks are final now
     ticks = axis_ticks(fig)
-    # an accessible name inside the SVG itself, escaped as matplotlib escapes its own text
-    title_xml = f'\n <title id="{name}-title">{xml_escape(alt)}</title>'
-    svg = re.sub(r"(<svg[^>]*>)", lambda m: m.group(1) + title_xml, svg, count=1)
-    return Chart(name=name, title=title, svg=svg, alt=alt, ticks=ticks)
+    return Chart(name=name, title=title, svg=markup.titled(svg, name, alt), alt=alt, ticks=ticks)
 
 
 # ----------------------------------------------------------------------------- the charts
@@ -307,13 +282,19 @@ def cumulative_cash(
     unit_label : str
         Axis unit, e.g. ``"EUR per ha"``.
     """
+    fig = cash_figure(years, list(cumulative), payback_year, unit_label, width_in, height_in)
+    return _finish(fig, name, *cash_words(years, cumulative, payback_year, unit_label))
+
+
+def cash_words(years: Sequence[float], cumulative: Sequence[float], payback_year: float | None, unit_label: str,
+               **_drawing: Any) -> tuple[str, str]:
+    """The title and the alternative text of :func:`cumulative_cash` (its arguments)."""
     y = list(cumulative)
-    fig = cash_figure(years, y, payback_year, unit_label, width_in, height_in)
     pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
         "; it does not get back to zero within the stand life"
     alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
            f"lowest {_num(min(y))}, last {_num(y[-1])}{pay}.")
-    return _finish(fig, name, "Running total of cash", alt)
+    return "Running total of cash", alt
 
 
 def cash_figure(years: Sequence[float], y: list[float], payback_year: float | None, unit_label: str,
@@ -387,8 +368,7 @@ def yield_by_age(
     with style():
         fig = _new_figure(width_in, height_in)
         ax = fig.add_subplot()
-        hy = [t for t, h in zip(years, harvest) if h > 0]
-        hs = [s for s, h in zip(sold, harvest) if h > 0]
+        hy, hs = _harvests(years, sold, harvest)
         ax.bar(hy, hs, width=0.7, color=GAIN, alpha=0.85, label="sold", linewidth=0)
         ax.plot(years, grown, color=INK, linewidth=1.0, marker="o", markersize=1.8, label="grown that year")
         _style_axes(ax, years)
@@ -398,10 +378,22 @@ def yield_by_age(
         ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.2, columnspacing=0.8,
                   borderaxespad=0.1, borderpad=0.1)
         fig.tight_layout(pad=0.3)
+    return _finish(fig, name, *yield_words(years, grown, sold, harvest, unit_label))
+
+
+def yield_words(years: Sequence[float], grown: Sequence[float], sold: Sequence[float], harvest: Sequence[float],
+                unit_label: str, **_drawing: Any) -> tuple[str, str]:
+    """The title and the alternative text of :func:`yield_by_age` (its arguments)."""
+    hy, hs = _harvests(years, sold, harvest)
     first = f"first harvest in year {hy[0]:.0f}, {len(hy)} harvests" if hy else "no harvest within the stand life"
     alt = (f"Dry matter grown per year and sold in harvest years [{unit_label}]: {first}, "
            f"at most {_num(max(hs or [0.0]))} sold in one year.")
-    return _finish(fig, name, "Yield by stand age", alt)
+    return "Yield by stand age", alt
+
+
+def _harvests(years: Sequence[float], sold: Sequence[float], harvest: Sequence[float]) -> tuple[list, list]:
+    """The harvest years and what was sold in each."""
+    return [t for t, h in zip(years, harvest) if h > 0], [s for s, h in zip(sold, harvest) if h > 0]
 
 
 def soil_carbon(
@@ -445,9 +437,16 @@ def soil_carbon(
         ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), ncol=2, handlelength=1.6, columnspacing=0.8,
                   borderaxespad=0.1, borderpad=0.1)
         fig.tight_layout(pad=0.3)
+    return _finish(fig, name, *soil_words(years, soc, soc_current_use, unit_label))
+
+
+def soil_words(years: Sequence[float], soc: Sequence[float], soc_current_use: Sequence[float], unit_label: str,
+               **_drawing: Any) -> tuple[str, str]:
+    """The title and the alternative text of :func:`soil_carbon` (its arguments)."""
+    s, c = list(soc), list(soc_current_use)
     alt = (f"Soil organic carbon [{unit_label}]: {_num(s[0])} at planting, {_num(s[-1])} at the end "
            f"under the crop, {_num(c[-1])} had the current use continued.")
-    return _finish(fig, name, "Soil carbon (0-30 cm)", alt)
+    return "Soil carbon (0-30 cm)", alt
 
 
 @dataclass(frozen=True)
@@ -539,6 +538,11 @@ def compare_cumulative(
                 labels.append(f"{len(others)} other cases")
             ax.legend(handles, labels, loc="upper left", fontsize=5.8, handlelength=1.8, borderaxespad=0.2)
         fig.tight_layout(pad=0.4, w_pad=1.2)
+    return _finish(fig, name, *compare_words(panels))
+
+
+def compare_words(panels: Sequence[tuple[str, Sequence[Series]]], **_drawing: Any) -> tuple[str, str]:
+    """The title and the alternative text of :func:`compare_cumulative` (its arguments)."""
 
     def listed(series: Sequence[Series]) -> str:
         named = named_series(series)
@@ -547,7 +551,7 @@ def compare_cumulative(
 
     names = "; ".join(f"{unit}: {listed(series)}" for unit, series in panels)
     alt = f"Running total of cash by year for each case, large open markers at the payback year ({names})."
-    return _finish(fig, name, "Running total of cash, all cases", alt)
+    return "Running total of cash, all cases", alt
 
 
 #: bar colours of the tornado: the input at its low value, at its high value (not good/bad: that is the sign)
@@ -604,11 +608,23 @@ def tornado(
     """
     fig = tornado_figure(labels, low, high, base, unit_label, figure=figure, width_in=width_in, row_in=row_in,
                          scale=scale)
+    return _finish(fig, name, *tornado_words(labels, low, high, base, unit_label, figure=figure, title=title))
+
+
+def tornado_words(labels: Sequence[str], low: Sequence[float], high: Sequence[float], base: float, unit_label: str,
+                  *, figure: str = "NPV", title: str | None = None, **_drawing: Any) -> tuple[str, str]:
+    """The title and the alternative text of :func:`tornado` (its arguments)."""
     top = max(range(len(labels)), key=lambda i: abs(high[i] - low[i]))
     alt = (f"Tornado chart of {figure} [{unit_label}] with each input moved alone to its low and its high value, "
            f"largest swing first; base {_num(base)}; the largest swing, {' '.join(labels[top].split())}: "
            f"from {_num(low[top])} to {_num(high[top])}.")
-    return _finish(fig, name, title or f"What moves the {figure}", alt)
+    return title or f"What moves the {figure}", alt
+
+
+def tornado_height_in(rows: int, width_in: float, row_in: float = TORNADO_ROW_IN, scale: float = 1.0) -> float:
+    """The height [in] of a tornado chart of ``rows`` inputs (:func:`tornado_figure`'s arguments): its rows and
+    the room for the axis and legend, which take two lines below 4 in wide."""
+    return (row_in * rows + TORNADO_FRAME_IN * (1.35 if width_in < 4.0 else 1.0)) * scale
 
 
 def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[float], base: float, unit_label: str,
@@ -619,7 +635,7 @@ def tornado_figure(labels: Sequence[str], low: Sequence[float], high: Sequence[f
     if not (n == len(low) == len(high)) or n == 0:
         raise ValueError("tornado: expected one low and one high value per label (at least one)")
     narrow = width_in < 4.0
-    height = (row_in * n + TORNADO_FRAME_IN * (1.35 if narrow else 1.0)) * scale
+    height = tornado_height_in(n, width_in, row_in, scale)
     with style():
         fig = _new_figure(width_in, height)
         ax = fig.add_subplot()

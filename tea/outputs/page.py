@@ -381,7 +381,7 @@ def page_chart_specs(case: Case, frame: pd.DataFrame, res: Results, anchor: str)
 
 def chart_view(chart: charts.Chart) -> dict[str, Any]:
     """A chart for the template: inline SVG for the HTML page, the same SVG as an embedded image for the PDF."""
-    return {"title": chart.title, "alt": chart.alt, "svg": Markup(chart.svg), "img": chart.data_uri}
+    return {"title": chart.title, "alt": chart.alt, "svg": Markup(chart.svg), "img": chart.src}
 
 
 class CasePage:

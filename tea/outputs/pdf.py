@@ -9,7 +9,11 @@ lays the page out once more at the density the measure calls for, and steps
 on one density at a time only when that estimate falls short.
 
 * The page refers to nothing outside itself: the engine's URL fetcher refuses
-  every URL except ``data:`` (the charts, embedded in the page).
+  every URL except ``data:`` (the charts, embedded in the page) and the
+  page's own charts named by their outlines while they are being drawn,
+  which the layout's ``charts`` function gives (:func:`layout`): the page is
+  laid out with a placeholder of each chart's size and the drawn chart is put
+  in its place before the PDF is written (:func:`draw_in`).
 * The same HTML gives the same bytes: no dates in the PDF, and embedded font
   subsets stamped with a fixed time.
 """
@@ -24,7 +28,7 @@ import warnings
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, Callable, Iterable, Sequence
+from typing import Any, Callable, Iterable, Mapping, Sequence
 
 #: CSS px per inch (CSS Values and Units Level 3, sec. 5.2: 1in = 96px)
 PX_PER_IN = 96.0
@@ -43,12 +47,43 @@ FONT_EPOCH = "0"
 
 @lru_cache(maxsize=1)
 def _engine():
-    """WeasyPrint, its shared font configuration and a URL fetcher that allows only ``data:`` URLs."""
+    """WeasyPrint, its shared font configuration and the URL fetcher of the pages (:func:`_fetcher`)."""
     weasyprint = _import_weasyprint()
     from weasyprint.text.fonts import FontConfiguration
 
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
-    return weasyprint, FontConfiguration(), weasyprint.urls.URLFetcher(allowed_protocols=("data",))
+    return weasyprint, FontConfiguration(), _fetcher(weasyprint)
+
+
+def _fetcher(weasyprint):
+    """A URL fetcher that allows only ``data:`` URLs and the page's charts named by their outlines.
+
+    A chart not drawn yet is named in the page by its outline's URL
+    (:attr:`tea.outputs.charts.Chart.src`); when the engine reaches it, the
+    fetcher asks the ``charts`` function of the layout in progress for its SVG
+    (see :func:`layout`): the chart, or a placeholder of its size. A chart it
+    cannot give stops the layout.
+    """
+    from tea.outputs.chart_markup import LATER
+
+    urls = weasyprint.urls
+
+    class PageFetcher(urls.URLFetcher):
+        charts: Callable[[str], str] | None = None
+
+        def fetch(self, url, headers=None):
+            if url.startswith(LATER + ":"):
+                name = url[len(LATER) + 1:]
+                try:
+                    svg = self.charts(name) if self.charts is not None else None
+                except Exception as exc:  # the drawing failed: the page cannot be made
+                    raise urls.FatalURLFetchingError(f"chart {name!r}: {exc}") from exc
+                if not svg:
+                    raise urls.FatalURLFetchingError(f"chart {name!r}: not drawn")
+                return urls.URLFetcherResponse(url, body=svg.encode("utf-8"), headers={"Content-Type": "image/svg+xml"})
+            return super().fetch(url, headers)
+
+    return PageFetcher(allowed_protocols=("data",))
 
 
 #: allocations between two runs of the cyclic garbage collector while pages are made (Python's default: 700)
@@ -160,16 +195,51 @@ def stylesheet(text: str):
     return weasyprint.CSS(string=text, font_config=fonts, url_fetcher=fetcher)
 
 
-def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = None):
+def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = None,
+           charts: Callable[[str], str] | None = None):
     """Lay the HTML out as pages (a :class:`weasyprint.Document`).
 
     ``stylesheets`` come after the page's own ``<style>``; ``images`` is a
     dictionary the engine keeps the page's images in (its charts, parsed),
-    shared by layouts of the same page so that each is parsed once.
+    shared by layouts of the same page so that each is parsed once;
+    ``charts`` gives the SVG of a chart by name, for the charts the page names
+    by their outlines (:attr:`tea.outputs.charts.Chart.src`): the chart, or a
+    placeholder of its size (:attr:`tea.outputs.charts.Chart.placeholder`),
+    for which the chart is drawn in once drawn (:func:`draw_in`).
     """
     weasyprint, fonts, fetcher = _engine()
-    return weasyprint.HTML(string=html, base_url=None, url_fetcher=fetcher).render(
-        font_config=fonts, stylesheets=list(stylesheets), cache=images if images is not None else {})
+    fetcher.charts = charts
+    try:
+        return weasyprint.HTML(string=html, base_url=None, url_fetcher=fetcher).render(
+            font_config=fonts, stylesheets=list(stylesheets), cache=images if images is not None else {})
+    finally:
+        fetcher.charts = None
+
+
+def draw_in(images: dict, charts: Mapping[str, str]) -> bool:
+    """Put drawn charts in place of their placeholders in the pages laid out with ``images`` (the dictionary
+    given to :func:`layout`): ``charts`` gives the SVG of each by name. False, and the pages not all changed,
+    if the engine's pictures cannot be redrawn so (the pages must then be laid out with the charts).
+
+    The page's layout took only the placeholder's size, which is the drawn
+    chart's; the engine draws a picture when the PDF is written, from the SVG
+    it holds, which is replaced here (the engine's own SVG picture, made
+    again with the drawn chart).
+    """
+    from xml.etree import ElementTree
+
+    from tea.outputs.chart_markup import LATER
+
+    for url, image in images.items():
+        if not url.startswith(LATER + ":"):
+            continue
+        svg = charts.get(url[len(LATER) + 1:])
+        try:
+            image.__init__(ElementTree.fromstring(svg.encode("utf-8")), image._base_url, image._url_fetcher,
+                           image._context)
+        except Exception:  # noqa: BLE001 - a version of the engine whose pictures are made otherwise
+            return False
+    return True
 
 
 def write_pdf(doc, target: Path | None = None) -> bytes | None:
@@ -284,7 +354,8 @@ def could_fit(m: Measure, current: int, floor: int, type_scale: Sequence[float],
 
 
 def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_scale: Sequence[float],
-        chart_scale: Sequence[float], stylesheets: Sequence[Any] = (), floor: int | None = None) -> tuple[int, Any]:
+        chart_scale: Sequence[float], stylesheets: Sequence[Any] = (), floor: int | None = None,
+        charts: Callable[[str], str] | None = None, images: dict | None = None) -> tuple[int, Any]:
     """The density at which the page fits one sheet, and its layout: the least dense from ``floor`` that
     fits, as far as the measures of the layouts made tell.
 
@@ -292,16 +363,17 @@ def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_
     ``floor``, the least dense allowed, defaults to it). One layout when the
     page fits there and a less dense one cannot; else one measure, one
     estimate and one more layout, stepping on only if the estimate fell
-    short. The same page gives the same density in any process.
+    short. The same page gives the same density in any process. ``charts`` and
+    ``images`` as for :func:`layout`.
     """
     floor = start if floor is None else min(floor, start)
-    density, images = start, {}
-    doc = layout(html_at(density), stylesheets, images)
+    density, images = start, ({} if images is None else images)
+    doc = layout(html_at(density), stylesheets, images, charts)
     if len(doc.pages) == 1:
         fits, fitting = density, doc  # the densest layout known to fit
         density = could_fit(measure(doc, anchor), density, floor, type_scale, chart_scale)
         while density < fits:
-            doc = layout(html_at(density), stylesheets, images)
+            doc = layout(html_at(density), stylesheets, images, charts)
             if len(doc.pages) == 1:
                 return density, doc
             density = min(choose(measure(doc, anchor), density, type_scale, chart_scale, last), fits)
@@ -310,7 +382,7 @@ def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_
         return _checked(density, doc)
     density = choose(measure(doc, anchor), density, type_scale, chart_scale, last)
     while True:
-        doc = layout(html_at(density), stylesheets, images)
+        doc = layout(html_at(density), stylesheets, images, charts)
         if len(doc.pages) == 1 or density >= last:
             return _checked(density, doc)
         density += 1

@@ -39,7 +39,6 @@ memory stays that of a few pages however many cases there are.
 from __future__ import annotations
 
 from functools import lru_cache
-from importlib import resources
 from pathlib import Path
 from typing import Any, Sequence
 
@@ -50,19 +49,14 @@ from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, compare, pdf, workers
+from tea.outputs import charts, compare, pdf, pdf_page, workers
 from tea.outputs.page import BESIDE, CHART_SCALE, MAX_DENSITY, TYPE_PT, CasePage, page_charts, print_minus  # noqa: F401
 from tea.outputs.page import page_chart_specs
 from tea.outputs.whatmoves import SensitivityViews, shows_block
 
 
-def _templates_folder() -> Path:
-    """The templates folder: the top-level ``templates/`` of the source tree, installed as ``tea.templates``."""
-    return Path(str(resources.files("tea.templates")))
-
-
 #: the jinja2 templates and the page's CSS (package data of ``tea.templates``)
-TEMPLATES = _templates_folder()
+TEMPLATES = pdf_page.templates_folder()
 PAGE_SIZES = {"a4": "A4", "letter": "Letter"}
 
 #: the density each recently laid-out page needed, so that HTML made after the PDF reuses it
@@ -109,30 +103,48 @@ def render_summary(
     path, kind = _target(path, force)
     size = _page_size(page_size, case)
     views = SensitivityViews(case, sensitivity, "case-0")
-    specs = page_chart_specs(case, ledger, results, "case-0")
     tornado = views.below_spec()
-    # the charts are drawn in another process (one standing by with matplotlib loaded, if the command line
-    # started one) while this one starts the PDF engine
-    drawn = workers.elsewhere(charts.draw_all, specs + ([tornado] if tornado is not None else []))
-    pdf.prepare()
-    made = drawn()
-    if tornado is not None:
-        views.keep_below(made.pop())
-    page = CasePage(case, ledger, results, "case-0", views, made)
+    specs = page_chart_specs(case, ledger, results, "case-0") + ([tornado] if tornado is not None else [])
+
+    def page_with(shown: list[charts.Chart]) -> CasePage:
+        """The page with these charts (drawn, or their outlines), the tornado chart of NPV last."""
+        if tornado is not None:
+            views.keep_below(shown[-1])
+        return CasePage(case, ledger, results, "case-0", views, shown[:3])
+
     meta = _meta([case], [results])
-
-    def html_at(density: int, embed: bool) -> str:
-        return _render("summary.html.j2", page_size=size, page=page.at(density), meta=meta, embed=embed,
-                       page_label="", generator=f"tea {__version__}")
-
     key = ("summary", case.hash, case.source, size, views.key)
+    # the charts are drawn in one process (one standing by with matplotlib loaded, if the command line started
+    # one) while the page is laid out in another (one standing by with the PDF engine started, if the command
+    # line started one; else this one) with a placeholder of each chart's size; the charts are drawn in after
+    drawn = workers.elsewhere(charts.draw_all, specs, role="charts")
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
-        return atomic_write_text(path, html_at(_fit_cache[key], False), force=True)
-    density, doc = _fit(page, size, lambda d: html_at(d, True))
-    _remember(key, density)
-    if kind == "html":
-        return atomic_write_text(path, html_at(density, False), force=True)
-    return atomic_write(path, lambda tmp: _write_pdf(doc, tmp), force=True)
+        return atomic_write_text(path, _summary_page(page_with(drawn()), size, meta, _fit_cache[key], False),
+                                 force=True)
+    outlines = [spec.outline() for spec in specs]
+    page = page_with(outlines)
+    start = page.start_density(size)
+
+    def html_at(density: int) -> str:
+        return _summary_page(page, size, meta, density, True)
+
+    laying = workers.handed_over(
+        pdf_page.lay_out, (page.anchor, start, page.last_density, page.first_density, TYPE_PT, CHART_SCALE),
+        html_at(start), {chart.name: chart.placeholder for chart in outlines}, role="page", answer=html_at)
+    if not laying.in_worker:
+        pdf.prepare()  # while the charts are drawn
+    made = drawn()
+    laying.send({chart.name: chart.svg for chart in made})
+
+    def written(tmp: Path | None) -> int:
+        laying.send(None if tmp is None else str(tmp))
+        density = laying()
+        _remember(key, density)
+        return density
+
+    if kind == "pdf":
+        return atomic_write(path, written, force=True)
+    return atomic_write_text(path, _summary_page(page_with(made), size, meta, written(None), False), force=True)
 
 
 @pdf.fewer_collections()
@@ -300,23 +312,25 @@ def _shown(value: Any) -> Any:
 
 
 def _stylesheets() -> list[Any]:
-    """The page's stylesheet for the PDF engine, parsed once (the HTML for it carries only the paper's rules)."""
-    return [pdf.stylesheet((TEMPLATES / "report.css").read_text(encoding="utf-8"))]
+    return pdf_page.stylesheets()
 
 
-def _fit(page: CasePage, size: str, html_at) -> tuple[int, Any]:
+def _fit(page: CasePage, size: str, html_at, charts=None, images=None) -> tuple[int, Any]:
     """A case page fitted to one sheet of paper ``size``: (density, laid-out document); ``html_at(d)`` gives
-    its HTML at density d."""
+    its HTML at density d; ``charts`` and ``images`` as for :func:`tea.outputs.pdf.layout`."""
     return pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT, CHART_SCALE,
-                   _stylesheets(), floor=page.first_density)
+                   _stylesheets(), floor=page.first_density, charts=charts, images=images)
+
+
+def _summary_page(page: CasePage, size: str, meta: dict[str, Any], density: int, embed: bool) -> str:
+    """One case's page as HTML at ``density``: for the PDF engine (``embed``: the charts as images, the
+    stylesheet handed over parsed) or as the HTML file."""
+    return _render("summary.html.j2", page_size=size, page=page.at(density), meta=meta, embed=embed,
+                   page_label="", generator=f"tea {__version__}")
 
 
 def _render(template: str, **context: Any) -> str:
     return _environment().get_template(template).render(**context)
-
-
-def _write_pdf(doc, target: Path) -> None:
-    pdf.write_pdf(doc, target)
 
 
 def _remember(key: tuple[Any, ...], value: Any) -> None:
@@ -336,4 +350,3 @@ def _meta(cases: Sequence[Case], results: Sequence[Results]) -> dict[str, Any]:
         "keywords": "tea, stand-life economics, " + hashes,
         "lang": "en",
     }
-

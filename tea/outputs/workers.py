@@ -3,9 +3,15 @@
 A comparison's pages are laid out and written each on its own (see
 :func:`tea.outputs.report.render_comparison`), so they can be made side by
 side on a machine's cores (:func:`each`); one page's charts are drawn while
-the PDF engine starts (:func:`meanwhile`, :func:`elsewhere`). A worker can also be started
-before its work is known (:func:`stand_by`): for one page the command line starts one that
-loads the chart library while this process loads the model and computes the case. The
+the PDF engine starts (:func:`meanwhile`, :func:`elsewhere`). Workers can also be started
+before their work is known, each for a role (:func:`stand_by`): for one page the command
+line starts one that loads the chart library (role ``"charts"``) and one that starts the
+PDF engine (role ``"page"``) while this process loads the model and computes the case;
+then the one draws the charts while the other lays the page out
+(:func:`tea.outputs.pdf_page.lay_out`), sent more as it goes (:meth:`Later.send`,
+:func:`received`) and asking this process for what only it can make (:func:`ask`).
+Work handed over is made in this process instead, from the start, if no worker
+stands by for its role or its worker ends without an answer. The
 workers are forked from the running process:
 they start with its imports and its data (cases, ledgers, results) and are
 handed only the number of the piece to do; what they return comes back
@@ -23,7 +29,7 @@ from __future__ import annotations
 import contextlib
 import os
 import sys
-from typing import Callable, Iterator, TypeVar
+from typing import Any, Callable, Iterator, TypeVar
 
 from tea.core.errors import OutputError
 
@@ -107,6 +113,118 @@ def meanwhile(work: Callable[[], T]) -> Iterator[Callable[[], T]]:
         _work = None
 
 
+class Later:
+    """Work handed over to another process: call it for the result (it waits, and raises what the work
+    raised); :meth:`send` hands the work more, in order, which it takes with :func:`received`; the work
+    can ask this process for a value (:func:`ask`), which ``answer`` gives while the result is waited for.
+
+    The result is made in this process, from the start and with everything
+    sent so far, if the work was never handed over or its worker ended
+    without an answer (killed, out of memory).
+    """
+
+    def __init__(self, work: Callable[..., T], args: tuple, conn=None, process=None,
+                 answer: Callable[[Any], Any] | None = None):
+        self.work, self.args, self.conn, self.process, self.answer = work, args, conn, process, answer
+        self.sent: list[Any] = []
+
+    @property
+    def in_worker(self) -> bool:
+        """Whether the work is being made in another process (else it is made here when asked for)."""
+        return self.conn is not None
+
+    def send(self, value: Any) -> None:
+        """Hand the work one more value (it pickles); the work takes it with :func:`received`."""
+        self.sent.append(value)
+        if self.conn is not None:
+            try:
+                self.conn.send(("more", value))
+            except (OSError, ValueError):  # the worker is gone: the result is made here
+                self._drop()
+
+    def __call__(self):
+        while self.conn is not None:
+            try:
+                kind, value = self.conn.recv()
+                if kind == "ask":
+                    self.conn.send(("answer", _answered(self.answer, value)))
+                    continue
+            except (EOFError, OSError):
+                self._drop()
+                break
+            self._drop(end=False)
+            if kind == "done":
+                return value
+            raise value
+        return _here(self.work, self.args, self.sent, self.answer)
+
+    def _drop(self, end: bool = True) -> None:
+        if self.conn is not None:
+            self.conn.close()
+            self.conn = None
+        if self.process is not None:
+            if end and self.process.is_alive():
+                self.process.terminate()
+            self.process.join(timeout=1.0)
+            self.process = None
+
+
+#: in a worker, where :func:`received` takes what the work is sent; in this process while work is made here,
+#: the values sent to it
+_inbox: Any = None
+#: values sent to the work while it waited for an answer to :func:`ask`, to be received in turn
+_early: list[Any] = []
+#: while work handed over is made in this process, what answers its questions
+_answer: Callable[[Any], Any] | None = None
+
+
+def received() -> Any:
+    """In work handed over with :func:`handed_over`: the next value sent to it (:meth:`Later.send`), waiting
+    for it if need be."""
+    if _inbox is None:
+        raise RuntimeError("received(): only work handed over with handed_over() is sent values")
+    if isinstance(_inbox, list):
+        if not _inbox:
+            raise RuntimeError("received(): nothing more was sent")
+        return _inbox.pop(0)
+    if _early:
+        return _early.pop(0)
+    kind, value = _inbox.recv()
+    return value
+
+
+def ask(question: Any) -> Any:
+    """In work handed over with :func:`handed_over`: the answer of the process that handed it over (its
+    ``answer`` function) to ``question``; both pickle."""
+    if _inbox is None:
+        raise RuntimeError("ask(): only work handed over with handed_over() can ask")
+    if isinstance(_inbox, list):
+        return _answered(_answer, question)
+    _inbox.send(("ask", question))
+    while True:
+        kind, value = _inbox.recv()
+        if kind == "answer":
+            return value
+        _early.append(value)
+
+
+def _answered(answer: Callable[[Any], Any] | None, question: Any) -> Any:
+    if answer is None:
+        raise RuntimeError(f"ask({question!r}): the work was handed over with nothing to answer it")
+    return answer(question)
+
+
+def _here(work: Callable[..., T], args: tuple, sent: list[Any], answer: Callable[[Any], Any] | None = None) -> T:
+    """``work(*args)`` in this process, with ``sent`` to take in turn and ``answer`` for its questions."""
+    global _inbox, _answer
+    before = _inbox, _answer
+    _inbox, _answer = list(sent), answer
+    try:
+        return work(*args)
+    finally:
+        _inbox, _answer = before
+
+
 class _Standby:
     """One worker process forked now, which imports modules and then waits for one piece of work."""
 
@@ -120,31 +238,19 @@ class _Standby:
         self.process.start()
         theirs.close()
 
-    def call(self, work: Callable[..., T], *args) -> Callable[[], T]:
-        """Hand ``work(*args)`` over (``work`` a module-level function, ``args`` what pickles); the function
-        returned waits for the result: made here if the worker ended without an answer."""
+    def call(self, work: Callable[..., T], args: tuple, answer: Callable[[Any], Any] | None = None) -> Later:
+        """Hand ``work(*args)`` over (``work`` a module-level function, ``args`` what pickles)."""
         try:
-            self.conn.send((work, args))
+            self.conn.send(("work", (work, args)))
         except Exception:  # the worker is gone already, or the work does not pickle: made here
-            self.process.terminate()
-            self.close()
-            return lambda: work(*args)
+            self.close(end=True)
+            return Later(work, args, answer=answer)
+        return Later(work, args, self.conn, self.process, answer)
 
-        def result() -> T:
-            try:
-                done, value = self.conn.recv()
-            except (EOFError, OSError):
-                return work(*args)
-            finally:
-                self.conn.close()  # the worker ends on its own once it has answered
-            if done:
-                return value
-            raise value
-
-        return result
-
-    def close(self) -> None:
+    def close(self, end: bool = False) -> None:
         self.conn.close()
+        if end:
+            self.process.terminate()
         self.process.join(timeout=1.0)
         if self.process.is_alive():
             self.process.terminate()
@@ -152,63 +258,76 @@ class _Standby:
 
 
 def _serve(conn, modules: tuple[str, ...]) -> None:
-    """In a standing-by worker: import ``modules``, then make the one piece of work handed over and send
-    back (True, result) or (False, the exception it raised)."""
+    """In a standing-by worker: import ``modules`` (``"module"``, or ``"module:function"`` to call the
+    module's function after), then make the one piece of work handed over and send back (True, result) or
+    (False, the exception it raised)."""
+    global _inbox
     import importlib
 
-    for module in modules:
-        importlib.import_module(module)
+    _settle()  # what it inherited is not scanned again by the collector while it loads its modules
+    for entry in modules:
+        module, _, function = entry.partition(":")
+        loaded = importlib.import_module(module)
+        if function:
+            getattr(loaded, function)()
     try:
-        work, args = conn.recv()
+        _kind, (work, args) = conn.recv()
     except (EOFError, OSError):  # never given work
         return
+    _inbox = conn
     try:
-        answer = (True, work(*args))
+        answer = ("done", work(*args))
     except BaseException as exc:  # noqa: BLE001 - sent back, raised there
-        answer = (False, exc)
+        answer = ("raised", exc)
     try:
         conn.send(answer)
     except Exception as exc:  # an answer that does not pickle: its error instead
-        conn.send((False, RuntimeError(f"{getattr(work, '__name__', work)}: {exc}")))
+        conn.send(("raised", RuntimeError(f"{getattr(work, '__name__', work)}: {exc}")))
     conn.close()
 
 
-_standby: _Standby | None = None
+#: the workers standing by, by the role they were started for
+_standing: dict[str, _Standby] = {}
 
 
-def stand_by(*modules: str) -> bool:
-    """Fork one worker now, which imports ``modules`` while this process goes on and then waits for one
-    piece of work (:func:`elsewhere`); False, and nothing started, if fewer than two workers are available
-    or processes cannot be forked."""
-    global _standby
-    if _standby is not None or available() <= 1 or not sys.platform.startswith("linux"):
+def stand_by(*modules: str, role: str = "work") -> bool:
+    """Fork one worker now for ``role``, which imports ``modules`` (``"module:function"`` also calls the
+    function) while this process goes on and then waits for one piece of work (:func:`elsewhere`,
+    :func:`handed_over`); False, and nothing started, if one stands by for the role already, fewer than two
+    workers are available or processes cannot be forked."""
+    if role in _standing or available() <= 1 or not sys.platform.startswith("linux"):
         return False
-    _standby = _Standby(modules)
+    _standing[role] = _Standby(modules)
     return True
 
 
 def stand_down() -> None:
-    """End the worker standing by, if it was never given its work."""
-    global _standby
-    if _standby is not None:
-        standby, _standby = _standby, None
-        standby.process.terminate()
-        standby.close()
+    """End the workers standing by that were never given their work."""
+    while _standing:
+        _standing.popitem()[1].close(end=True)
 
 
-def elsewhere(work: Callable[..., T], *args) -> Callable[[], T]:
+def handed_over(work: Callable[..., T], *args, role: str = "work", answer: Callable[[Any], Any] | None = None
+                ) -> Later:
+    """``work(*args)`` handed to the worker standing by for ``role``, which goes on with it while this
+    process does; made in this process when its result is asked for if none stands by. The work can be
+    sent more meanwhile (:meth:`Later.send`, :func:`received`), and ask for values, which ``answer`` gives
+    (:func:`ask`)."""
+    standby = _standing.pop(role, None)
+    return standby.call(work, args, answer) if standby is not None else Later(work, args, answer=answer)
+
+
+def elsewhere(work: Callable[..., T], *args, role: str = "work") -> Callable[[], T]:
     """``work(*args)`` made in another process while this one goes on; the function returned waits for the
     result (and raises what ``work`` raised).
 
-    By the worker standing by (:func:`stand_by`) if there is one: it has the
-    modules it was started for loaded already, and takes ``work``, a
+    By the worker standing by for ``role`` (:func:`stand_by`) if there is one:
+    it has the modules it was started for loaded already, and takes ``work``, a
     module-level function, and ``args`` pickled. Else as :func:`meanwhile`: in a
     worker forked now, or in this process when the result is asked for.
     """
-    global _standby
-    if _standby is not None:
-        standby, _standby = _standby, None
-        return standby.call(work, *args)
+    if role in _standing:
+        return handed_over(work, *args, role=role)
     stack = contextlib.ExitStack()
     result = stack.enter_context(meanwhile(lambda: work(*args)))
 

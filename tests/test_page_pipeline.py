@@ -1,0 +1,208 @@
+"""One page made by three processes: its charts drawn in one, the page laid out in another with a
+placeholder of each chart's size, the drawn charts put in place before the PDF is written.
+
+Sources named beside each check:
+
+* matplotlib's own SVG output (the drawn chart) is what an outline must
+  match: its title and alternative text, and the root's ``width``,
+  ``height`` and ``viewBox`` the PDF engine lays the picture out by;
+* poppler-utils' ``pdftoppm`` rasterises the PDFs as a viewer would: a page
+  whose charts were drawn in after the layout must give the same pixels as
+  the page laid out with the drawn charts, and a tidied chart the same
+  pixels as matplotlib's untidied one;
+* the operating system's process ids (:func:`os.getpid`) tell which process
+  made a piece of work.
+
+Demo cases are invented data: they are inputs here, never check values.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+import tea
+from tea.outputs import chart_markup, charts, compare, pdf, pdf_page, report, workers
+from tea.outputs.page import page_chart_specs
+from tea.outputs.whatmoves import SensitivityViews
+
+from conftest import CASES_DIR
+
+PDFTOPPM = shutil.which("pdftoppm")
+BASE = CASES_DIR / "clay_corner_miscanthus.toml"
+
+
+@pytest.fixture(scope="module")
+def computed():
+    case = tea.load_case(BASE)
+    ledger = tea.build_ledger(case)
+    return case, ledger, tea.summarise(case, ledger)
+
+
+@pytest.fixture(scope="module")
+def specs(computed):
+    """One spec of every kind a page draws: the case page's three, its tornado chart, a comparison's panel."""
+    case, ledger, results = computed
+    made = {spec.kind: spec for spec in page_chart_specs(case, ledger, results, "case-0")}
+    made["tornado"] = SensitivityViews(case, True, "case-0").below_spec()
+    other = tea.load_case(CASES_DIR / "flood_meadow_willow.toml")
+    other_ledger = tea.build_ledger(other)
+    panels = compare._panels([case, other], [ledger, other_ledger], [results, tea.summarise(other, other_ledger)])
+    made["compare_cumulative"] = charts.Spec("compare_cumulative", dict(panels=panels, name="compare-cash",
+                                                                         width_in=7.2, height_in=1.65))
+    assert sorted(made) == sorted(charts.DRAWN_BY_SPEC)
+    return made
+
+
+def _root(svg: str) -> dict[str, str]:
+    tag = re.search(r"<svg\b[^>]*>", svg).group(0)
+    return dict(re.findall(r'\s(width|height|viewBox)="([^"]*)"', tag))
+
+
+@pytest.mark.parametrize("kind", charts.DRAWN_BY_SPEC)
+def test_an_outline_has_the_drawn_charts_words_and_size(specs, kind):
+    """The page is laid out with the outline: its name, title, alternative text and size must be the drawn
+    chart's (matplotlib's SVG root), else the drawn chart would not sit in the room laid out for it."""
+    spec = specs[kind]
+    outline, drawn = spec.outline(), spec.draw()
+    assert (outline.name, outline.title, outline.alt) == (drawn.name, drawn.title, drawn.alt)
+    assert outline.svg == "" and outline.src == f"{chart_markup.LATER}:{drawn.name}"
+    assert _root(outline.placeholder) == _root(drawn.svg)
+    assert set(_root(drawn.svg)) == {"width", "height", "viewBox"}
+
+
+def test_only_an_outline_has_a_placeholder(specs):
+    with pytest.raises(ValueError, match="outline"):
+        _ = specs["tornado"].draw().placeholder
+
+
+def _pixels(pdf_path: Path, tmp_path: Path) -> bytes:
+    stem = tmp_path / pdf_path.stem
+    subprocess.run([PDFTOPPM, "-r", "72", "-png", "-singlefile", str(pdf_path), str(stem)], check=True)
+    return Path(f"{stem}.png").read_bytes()
+
+
+@pytest.mark.skipif(PDFTOPPM is None, reason="poppler-utils (pdftoppm) not installed")
+def test_charts_drawn_in_after_the_layout_give_the_page_laid_out_with_them(computed, tmp_path):
+    """pdftoppm (poppler) rasterises three PDFs of one page: laid out with placeholders and the drawn charts
+    put in (:func:`tea.outputs.pdf.draw_in`), laid out with the drawn charts from the start, and laid out with
+    placeholders only. The first two are the same picture; the third differs (the charts are really in)."""
+    case, ledger, results = computed
+    views = SensitivityViews(case, False, "case-0")
+    chart_specs = page_chart_specs(case, ledger, results, "case-0")
+    outlines = [spec.outline() for spec in chart_specs]
+    drawn = {chart.name: chart.svg for chart in charts.draw_all(chart_specs)}
+    page = report.CasePage(case, ledger, results, "case-0", views, outlines)
+    meta = report._meta([case], [results])
+    html = report._summary_page(page, "A4", meta, page.start_density("A4"), True)
+    placeholders = {chart.name: chart.placeholder for chart in outlines}
+
+    images: dict = {}
+    doc = pdf.layout(html, pdf_page.stylesheets(), images, placeholders.get)
+    assert pdf.draw_in(images, drawn)
+    pdf.write_pdf(doc, tmp_path / "drawn_in.pdf")
+    pdf.write_pdf(pdf.layout(html, pdf_page.stylesheets(), {}, drawn.get), tmp_path / "laid_out_with.pdf")
+    pdf.write_pdf(pdf.layout(html, pdf_page.stylesheets(), {}, placeholders.get), tmp_path / "empty.pdf")
+
+    pictures = {p: _pixels(tmp_path / f"{p}.pdf", tmp_path) for p in ("drawn_in", "laid_out_with", "empty")}
+    assert pictures["drawn_in"] == pictures["laid_out_with"]
+    assert pictures["drawn_in"] != pictures["empty"]
+
+
+def test_a_chart_the_layout_cannot_get_stops_it():
+    """A page naming a chart that was not drawn is an error, never a page with a hole in it."""
+    with pytest.raises(BaseException, match="not drawn"):  # the engine's fatal error is no Exception
+        pdf.layout(f'<img src="{chart_markup.LATER}:case-0-cash">', (), {}, {}.get)
+
+
+@pytest.mark.skipif(PDFTOPPM is None, reason="poppler-utils (pdftoppm) not installed")
+def test_a_tidied_chart_is_the_same_picture(specs, tmp_path, monkeypatch):
+    """The groups and rotations :func:`tidy` drops draw nothing: pdftoppm gives the same pixels at 150 dpi
+    for matplotlib's SVG as written and as tidied."""
+    tidied = specs["yield_by_age"].draw().svg
+    monkeypatch.setattr(chart_markup, "tidy", lambda svg: svg)
+    untidied = specs["yield_by_age"].draw().svg
+    assert len(tidied) < 0.9 * len(untidied)
+    for name, svg in (("tidied", tidied), ("untidied", untidied)):
+        chart = charts.Chart(name="c", title="", svg=svg, alt="")
+        pdf.write_pdf(pdf.layout(f'<img src="{chart.data_uri}">'), tmp_path / f"{name}.pdf")
+    assert _pixels(tmp_path / "tidied.pdf", tmp_path) == _pixels(tmp_path / "untidied.pdf", tmp_path)
+
+
+# ----------------------------------------------------------------------------- work handed over
+def _conversation(start: int) -> tuple[int, list, int]:
+    """Work that asks the process that handed it over, then takes what it is sent."""
+    asked = workers.ask(start + 1)
+    first, second = workers.received(), workers.received()
+    return asked, [first, second], os.getpid()
+
+
+def _twice(value: int) -> int:
+    return 2 * value
+
+
+def _conversation_then_end(here: int) -> tuple[int, list, int]:
+    workers.ask(1)
+    if os.getpid() != here:
+        os._exit(9)  # stands in for a worker killed without an answer (out of memory)
+    return _conversation(1)
+
+
+def test_work_handed_over_asks_and_is_sent_more_in_a_worker(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    assert workers.stand_by("colorsys", role="page")
+    later = workers.handed_over(_conversation, 20, role="page", answer=_twice)
+    assert later.in_worker
+    later.send("a")
+    later.send(["b"])
+    asked, sent, pid = later()
+    assert (asked, sent) == (42, ["a", ["b"]]) and pid != os.getpid()  # os.getpid: made in the other process
+
+
+def test_work_handed_over_with_no_worker_standing_by_is_made_here(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "1")
+    assert not workers.stand_by("colorsys", role="page")
+    later = workers.handed_over(_conversation, 20, role="page", answer=_twice)
+    assert not later.in_worker
+    later.send("a")
+    later.send("b")
+    assert later() == (42, ["a", "b"], os.getpid())
+
+
+def test_work_whose_worker_dies_after_asking_is_made_here_with_all_it_was_sent(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    here = os.getpid()
+    assert workers.stand_by("colorsys", role="page")
+    later = workers.handed_over(_conversation_then_end, here, role="page", answer=_twice)
+    later.send("a")
+    later.send("b")
+    assert later() == (4, ["a", "b"], here)
+
+
+def test_received_and_ask_outside_work_handed_over_are_errors():
+    with pytest.raises(RuntimeError, match="handed_over"):
+        workers.received()
+    with pytest.raises(RuntimeError, match="handed_over"):
+        workers.ask(1)
+
+
+def test_a_worker_per_role(monkeypatch):
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    try:
+        assert workers.stand_by("colorsys", role="one")
+        assert not workers.stand_by("colorsys", role="one")  # one stands by for the role already
+        assert workers.stand_by("colorsys", role="two")
+        one = workers.handed_over(_conversation, 0, role="one", answer=_twice)
+        two = workers.handed_over(_conversation, 1, role="two", answer=_twice)
+        for later, tag in ((one, "x"), (two, "y")):
+            later.send(tag)
+            later.send(tag)
+        (a1, s1, p1), (a2, s2, p2) = one(), two()
+        assert (a1, s1, a2, s2) == (2, ["x", "x"], 4, ["y", "y"]) and len({p1, p2, os.getpid()}) == 3
+    finally:
+        workers.stand_down()
