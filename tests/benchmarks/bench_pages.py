@@ -25,6 +25,11 @@ gives the processor time of the whole process tree (user + system) and the
 wall time as a multiple of ``--brief``: on a shared machine that ratio, not
 the seconds, is what a change is judged by.
 
+The seconds depend on the machine: how long ``sum(range(10**6))`` takes in the
+same interpreter is printed beside them (about 12-15 ms on a current desktop
+processor, from memory), so that runs on different machines can be read
+against each other; the ratios to ``--brief`` depend on it far less.
+
 The 100 cases are the demo cases (demo data) copied with their names, areas
 and prices varied, written to a temporary folder. This is a benchmark, never
 a timed test: it prints what it measured and exits 0.
@@ -146,6 +151,13 @@ def _many_cases(folder: Path, n: int) -> list[Path]:
     return paths
 
 
+def _sum_ms() -> float:
+    """Milliseconds this interpreter takes for sum(range(10**6)): the seconds above read against it."""
+    import timeit
+
+    return 1000.0 * min(timeit.repeat("sum(range(10**6))", number=1, repeat=5))
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=3, help="repeats of the short timings (median kept)")
@@ -173,7 +185,8 @@ def main(argv: list[str] | None = None) -> int:
         many = _many_cases(out, args.cases)
         big = _measure(["run", *map(str, many), "--brief", "--pdf", pdf + "/c100.pdf", "--force"], 1, roots)
     jobs = os.environ.get("TEA_JOBS") or f"{len(os.sched_getaffinity(0))} (cores)"
-    print(f"workers: {jobs}; load average at the end: {os.getloadavg()[0]:.1f}")
+    print(f"workers: {jobs}; load average at the end: {os.getloadavg()[0]:.1f}; this machine's speed: "
+          f"sum(range(10**6)) in {_sum_ms():.1f} ms (best of 5)")
     rows = [(f"tea run CASE --brief", brief, ""),
             (f"tea run CASE --brief --pdf", page, "<= 2.5 x --brief"),
             (f"comparison of {len(CASES)} cases, PDF", three, "<= 5 s"),
