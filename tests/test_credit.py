@@ -320,3 +320,26 @@ def test_a_sculpt_target_given_to_another_profile_is_warned():
     case = load_text(text.replace("[loan]", "[loan]\nsculpt_dscr = 2.0", 1), source="annuity.toml")
     assert any("loan.sculpt_dscr: applies to a sculpted profile only" in w for w in case.warnings)
     assert not [w for w in load_text(text, source="demo.toml").warnings if "sculpt" in w]
+
+
+@pytest.mark.parametrize("profile, warned", [("annuity", True), ("straight_line", True), ("sculpted", False)])
+def test_yearly_repayments_on_a_crop_cut_every_few_years_are_warned(profile, warned):
+    """common practice (project finance): debt service that falls due every year needs cash every year; a
+    coppice harvested every 3 years has none in the years between, where the DSCR is 0. The loan of a case
+    carried over to such a crop (``tea new --from CASE --crop coppice``) is warned about, and the ledger
+    shows why: a DSCR of 0 in a repayment year with no harvest."""
+    from tea.inputs.case import load_text
+    from tea.outputs.advice import grower_warnings
+
+    from conftest import CASES_DIR
+
+    text = (CASES_DIR / "flood_meadow_willow.toml").read_text(encoding="utf-8")
+    assert 'profile = "sculpted"' in text
+    case = load_text(text.replace('profile = "sculpted"', f'profile = "{profile}"', 1), source="w.toml")
+    said = [w for w in case.warnings if "loan.profile" in w]
+    assert bool(said) is warned
+    if warned:
+        assert "harvested every 3 years" in said[0] and "DSCR is 0" in said[0]
+        assert any("no sale to repay it from" in w for w in grower_warnings(case))
+        res = tea.summarise(case)
+        assert res["min_dscr"] == 0.0

@@ -180,7 +180,13 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     if isinstance(share, (int, float)) and share > 0 and isinstance(life, int) and isinstance(grace, int) \
             and isinstance(term, int) and grace + term > life:
         bad("loan.term_years", f"grace ({grace}) + term ({term}) years run past the stand life ({life} years)")
-    if values.get("loan.profile") != "sculpted" and "loan.sculpt_dscr" in spelled:
+    profile, n = values.get("loan.profile"), values.get("harvest.interval_years")
+    if isinstance(share, (int, float)) and share > 0 and isinstance(n, int) and n > 1 \
+            and profile in ("annuity", "straight_line"):
+        warn("loan.profile", f"{profile} repayments fall due every year, but the crop is harvested every {n} "
+             "years: the years with no harvest have no sales to pay them from (their DSCR is 0); a sculpted "
+             "profile (loan.profile = \"sculpted\") sets each year's debt service to the cash of that year")
+    if profile != "sculpted" and "loan.sculpt_dscr" in spelled:
         warn("loan.sculpt_dscr", f"applies to a sculpted profile only; the {values.get('loan.profile')} "
              "profile does not use it")
     cov = values.get("loan.covenant_first_year")
@@ -195,7 +201,6 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
         warn("yield.decline_start_year", f"year {start} is not before the last year ({life}); no decline is modelled")
     # values that would be silently ignored, and growth never harvested
     given = set(spelled)
-    n = values.get("harvest.interval_years")
     cut = values.get("harvest.cut_back_year")
     if isinstance(cut, int) and isinstance(first, int) and cut >= first and "harvest.cut_back_year" not in bad_keys:
         bad("harvest.cut_back_year", f"the cut-back (year {cut}) must come before the first harvest (year {first})")

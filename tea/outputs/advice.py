@@ -41,6 +41,9 @@ SPECIAL = {
                               "is counted.",
     "revenue.price_change_per_year": "A yearly price change was given along with a price path; the path is used.",
     "yield.fresh_moisture": "A moisture content was given for a dry-matter yield, so it is not used.",
+    "loan.profile": "The loan is repaid every year but the crop is cut only every few years, so in the years "
+                    "between harvests there is no sale to repay it from: repayments shaped to the harvests "
+                    "(a sculpted loan) suit such a crop.",
 }
 _TECHNICAL = re.compile(r"^(?P<source>.*?): (?P<key>[a-z_]+\.[^:\s]+): (?P<message>.*)$", re.S)
 _UNUSUAL = re.compile(r"^(?P<value>\S+) is unusual \(expected (?P<lo>[^.]*)\.\.(?P<hi>[^ )]*)(?: \[(?P<unit>[^\]]*)\])?\); "
