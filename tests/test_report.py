@@ -188,6 +188,10 @@ def test_key_figures_on_the_page_are_the_engines_as_formatted(demo):
         want = _squash(terminal._fig(res, case, name, whole=True))
         assert want in text, f"{name} (whole field): {want} not on the PDF page"
     assert _squash(terminal.decision_sentence(case, res)) in text
+    for name, words in (("min_dscr", "lowest DSCR "), ("llcr", "LLCR ")):  # the lender's two cover ratios
+        if res[name] is not None:
+            want = _squash(words + terminal._fig(res, case, name))
+            assert want in text and want in html_text, f"{name}: {want} not on the page"
     if (res["carbon_credit_revenue"] or 0) > 0:
         assert _squash(terminal._fig(res, case, "carbon_credit_pv")) in text
 

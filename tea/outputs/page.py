@@ -226,6 +226,7 @@ def _loan_line(case: Case, res: Results) -> str:
     return (f"{fig_text(case, res, 'loan_principal')} at {display.percent(case['loan.rate'], 1)}, repaid at "
             f"{'' if level else 'up to '}{fig_text(case, res, 'loan_payment')}{year_money}; {cover}"
             + ((f"; {below:.0f} year{'s' if below != 1 else ''} below)" if below else ")") if cover else "")
+            + (f"; LLCR {fig_text(case, res, 'llcr')} at the first test" if value_of(res, "llcr") is not None else "")
             + f"; own funding peaks at {fig_text(case, res, 'equity_peak_funding_need')}.")
 
 
