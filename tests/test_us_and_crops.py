@@ -189,3 +189,37 @@ def test_a_us_case_prints_on_letter_paper_unless_it_says_otherwise(tmp_path):
     (tmp_path / "us_a4.toml").write_text(text.replace("[case]", '[case]\npage_size = "A4"', 1), encoding="utf-8")
     assert tea.load_case(tmp_path / "us_a4.toml")["case.page_size"] == "A4"
     assert tea.load_case(CLAY)["case.page_size"] == "A4"
+
+
+def test_a_us_workbook_gives_each_schedule_per_acre_and_in_short_tons(tmp_path):
+    """Every schedule sheet of a US case carries, below the model's metric lines, the same lines per acre and
+    in short tons: each cell the metric cell times the NIST Handbook 44 factor, for every year. The cached
+    value is checked here against the engine's ledger; tests/test_workbook.py has LibreOffice recompute
+    every formula of the demo workbooks, these cells included."""
+    import openpyxl
+
+    case = tea.load_case(SANDY)
+    frame = tea.build_ledger(case)
+    out = tmp_path / "us.xlsx"
+    tea.write_workbook(case, frame, tea.summarise(case, frame), out)
+    wb = openpyxl.load_workbook(out)
+    found = {}
+    for ws in wb.worksheets:
+        rows = list(ws.iter_rows(values_only=True))
+        starts = [i for i, row in enumerate(rows) if row[0] == "Per acre, in short tons and pounds (US customary)"]
+        for row in rows[starts[0] + 1:] if starts else []:
+            if row[0] and row[1]:
+                found[(ws.title, row[0])] = row
+    cash = found[("Cash flow", "Incremental cash flow")]
+    assert cash[1] == "USD/acre" and cash[3].endswith(f"*{HA_PER_ACRE!r}")
+    assert any(unit == "short ton DM/acre" for _, unit, *_ in found.values())
+    values = openpyxl.load_workbook(out, data_only=True)["Cash flow"]
+    row = next(r for r in values.iter_rows(values_only=True) if r[0] == "Incremental cash flow"
+               and r[1] == "USD/acre")
+    per_acre = [v for v in row[3:] if isinstance(v, float)]
+    assert per_acre == pytest.approx([v * HA_PER_ACRE for v in frame["incremental_cash_flow"]], rel=1e-12)
+    metric = tmp_path / "metric.xlsx"
+    clay = tea.load_case(CLAY)
+    tea.write_workbook(clay, tea.build_ledger(clay), tea.summarise(clay), metric)
+    assert not any(row[0] == "Per acre, in short tons and pounds (US customary)"
+                   for ws in openpyxl.load_workbook(metric).worksheets for row in ws.iter_rows(values_only=True))

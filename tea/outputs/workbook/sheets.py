@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from tea.core.safe_text import xlsx_literal
-from tea.inputs import schema
+from tea.inputs import display, schema
 from tea.inputs.case import Case
 from tea.inputs.workbook_reader import INPUT_COLUMNS, INPUT_HEAD_ROW, KEPT_HEADER
 from tea.model.declare import Def
@@ -226,8 +226,9 @@ class SheetWriter:
         text(ws, 0, 0, f"{sheet}: {self.case.name}", st("title"))
         subtitle = SUBTITLES[sheet]
         if self.case.unit_system == "us_customary":
-            subtitle += (" The schedules keep the model's metric units (per ha, t); the summary and the inputs "
-                         "are in US customary units (1 acre = 0.404686 ha).")
+            subtitle += (" The model's lines are in metric units (per ha, t), as its formulas are; below them the "
+                         "same lines per acre and in short tons and pounds, each a formula of the line above "
+                         "(1 acre = 0.40468564224 ha, 1 short ton = 0.90718474 t, 1 lb = 0.45359237 kg).")
         text(ws, 1, 0, subtitle, st("subtitle"))
         head = st("head")
         text(ws, HEAD_ROW, LABEL_COL, "Line", head)
@@ -257,6 +258,8 @@ class SheetWriter:
         end = r
         if sheet == DEBT:
             end = self._whole_field(ws, r)
+        if self.case.unit_system == "us_customary":
+            end = self._us_customary(ws, end, sheet)
         ws.set_column(LABEL_COL, LABEL_COL, 38)
         ws.set_column(UNIT_COL, UNIT_COL, 11)
         ws.set_column(KEY_COL, KEY_COL, 24, None, {"level": 1, "hidden": True})
@@ -284,6 +287,30 @@ class SheetWriter:
                 v = cached(self.values[d.key][y])
                 ws.write_formula(r, YEAR0_COL + y, f"={lay.cell(d.key, y)}*{area}", fmt,
                                  v * self.case["field.area_ha"] if isinstance(v, float) else v)
+            r += 1
+        return r
+
+    def _us_customary(self, ws, r: int, sheet: str) -> int:
+        """The sheet's lines whose unit has a US customary form (per acre, short tons, pounds), each the metric
+        cell times its factor (:func:`tea.inputs.display.convert`): what a US reader reads the schedule in."""
+        lay, st = self.lay, self.st
+        text(ws, r, LABEL_COL, "Per acre, in short tons and pounds (US customary)", st("group"))
+        r += 1
+        for kind, d in lay.sheet_rows[sheet]:
+            if kind != "line" or not d.show or d.group == "workings":
+                continue
+            unit = d.unit.replace("price unit", self.price_unit)
+            factor, shown = display.convert(1.0, unit, "us_customary")
+            if shown == unit:
+                continue
+            fmt = st("computed", number_format(d.unit))
+            text(ws, r, LABEL_COL, d.label, st("label"))
+            text(ws, r, UNIT_COL, self.unit(shown), st("keyname"))
+            text(ws, r, KEY_COL, f"{d.name} x {factor:.10g}", st("keyname"))
+            for y in range(lay.last_year + 1):
+                v = cached(self.values[d.key][y])
+                ws.write_formula(r, YEAR0_COL + y, f"={lay.cell(d.key, y)}*{factor!r}", fmt,
+                                 v * factor if isinstance(v, float) else v)
             r += 1
         return r
 
