@@ -59,6 +59,64 @@ def test_a_failing_piece_ends_the_whole_with_its_error(monkeypatch):
         list(workers.each(5, _fails_at_two))
 
 
+_PARENT = os.getpid()
+
+
+def _square_unless_killed(i: int) -> tuple[int, int]:
+    if i == 2 and os.getpid() != _PARENT:
+        os._exit(9)  # stands in for a worker killed without an answer (out of memory, kill -9)
+    return i * i, os.getpid()
+
+
+def test_pieces_whose_worker_is_killed_are_made_here_and_the_run_does_not_wait(monkeypatch):
+    """A worker killed mid-comparison once left the run waiting for ever (the lost piece was never made
+    again). Now every piece comes back, in order: those not yet taken are made in this process."""
+    monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
+    got = list(workers.each(6, _square_unless_killed))
+    assert [v for v, _ in got] == [0, 1, 4, 9, 16, 25]
+    assert got[2][1] == os.getpid() and got[0][1] != os.getpid()  # os.getpid: where each piece was made
+
+
+_WORKER_OF_A_KILLED_PARENT = """
+import os, sys, time
+sys.path.insert(0, {root!r})
+from tea.outputs import workers
+os.environ[workers.JOBS_VARIABLE] = "2"
+assert workers.stand_by("colorsys")
+print(workers._standing["work"].process.pid, flush=True)
+time.sleep(60)
+"""
+
+
+def test_a_worker_ends_when_the_command_is_killed_outright(tmp_path):
+    """kill -9 of the command once left its workers waiting for work for good (holding memory, and the
+    terminal's output open so that `tea ... | cat` never ended). The kernel now ends them with it (Linux
+    prctl PR_SET_PDEATHSIG): /proc shows the worker gone or a zombie within seconds."""
+    import signal
+    import sys
+    import time
+    from pathlib import Path
+
+    root = str(Path(workers.__file__).resolve().parents[2])
+    parent = subprocess.Popen([sys.executable, "-c", _WORKER_OF_A_KILLED_PARENT.format(root=root)],
+                              stdout=subprocess.PIPE, text=True)
+    worker = int(parent.stdout.readline())
+    assert Path(f"/proc/{worker}").exists()
+    parent.send_signal(signal.SIGKILL)
+    parent.wait(timeout=10)
+
+    def alive() -> bool:
+        try:
+            return Path(f"/proc/{worker}/stat").read_text().split(") ", 1)[1][0] != "Z"
+        except (OSError, IndexError):
+            return False
+
+    deadline = time.monotonic() + 10
+    while alive() and time.monotonic() < deadline:
+        time.sleep(0.05)
+    assert not alive(), f"worker {worker} outlived the command"
+
+
 def test_work_made_meanwhile_comes_from_a_worker_while_this_process_goes_on(monkeypatch):
     monkeypatch.setenv(workers.JOBS_VARIABLE, "2")
     with workers.meanwhile(lambda: _square_and_pid(7)) as result:
@@ -108,6 +166,20 @@ def test_jobs_from_the_environment_must_be_a_whole_number(monkeypatch, given):
     monkeypatch.setenv(workers.JOBS_VARIABLE, given)
     with pytest.raises(OutputError, match="TEA_JOBS: expected a whole number"):
         workers.available()
+
+
+@pytest.mark.parametrize("given", ["abc", "0"])
+def test_a_bad_jobs_value_for_one_page_is_one_line_and_status_2(monkeypatch, tmp_path, given):
+    """The command line starts a page's workers before anything else: a bad TEA_JOBS there once gave a
+    traceback (status 1) instead of the one-line error every other bad input gets."""
+    from conftest import CASES_DIR, run_cli
+
+    monkeypatch.setenv(workers.JOBS_VARIABLE, given)
+    res = run_cli(["run", CASES_DIR / "clay_corner_miscanthus.toml", "--pdf", tmp_path / "a.pdf"])
+    assert res.code == 2 and "Traceback" not in res.err
+    assert res.err.strip().splitlines() == [f"error: TEA_JOBS: expected a whole number of worker processes "
+                                            f"(1 or more), got {given!r}"]
+    assert not list(tmp_path.iterdir())
 
 
 def _run(*cmd: str) -> str:

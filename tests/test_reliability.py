@@ -588,6 +588,27 @@ def test_an_interrupt_ends_the_run_quietly(tmp_path, after):
     assert not left, left
 
 
+@pytest.mark.parametrize("name, status", [("SIGTERM", 143), ("SIGHUP", 129)])
+def test_a_polite_kill_or_a_closed_terminal_ends_the_run_as_an_interrupt_does(tmp_path, name, status):
+    """SIGTERM (kill, a job scheduler) and SIGHUP (the terminal closed) once killed the run outright, leaving
+    a .part file and its workers. POSIX convention: status 128 + the signal's number, and one line."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "a.pdf"
+    proc = subprocess.Popen([sys.executable, "-m", "tea", "run", str(CASES_DIR / "clay_corner_miscanthus.toml"),
+                             "--pdf", str(out)], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            env={**os.environ, "TEA_JOBS": "2"})
+    time.sleep(0.6)
+    proc.send_signal(getattr(signal, name))
+    _, err = proc.communicate(timeout=120)
+    assert proc.returncode == status, err
+    assert err.strip() == f"stopped ({name}); no output file was left half-written", err
+    assert not out.exists() and not list(tmp_path.glob(".*.part"))
+
+
 def _cmdline(proc_dir: Path) -> bytes:
     try:
         return (proc_dir / "cmdline").read_bytes()

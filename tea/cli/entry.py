@@ -12,7 +12,10 @@ blocks SIGINT before it loads anything, every thread it starts and every
 worker it forks inherits the block, and one watching thread takes the signal
 with ``sigwait``: it removes the temporary files being written
 (:func:`tea.core.files.in_flight`), stops the worker processes and ends the
-process with status 130.
+process with status 130. SIGTERM (a polite kill) and SIGHUP (the terminal
+closed) end it the same way, with status 128 + the signal's number. The
+worker processes end with the command however it ends, killed outright
+included (:func:`tea.outputs.workers._end_with_parent`).
 
 ``tea.cli.main.main`` called in a process of its own (as the tests do) keeps
 the interpreter's way: a ``KeyboardInterrupt`` is reported and gives 130.
@@ -28,10 +31,25 @@ import threading
 
 
 
+#: the signals that end a run cleanly: Ctrl-C, a polite kill, the terminal closed
+WATCHED = ("SIGINT", "SIGTERM", "SIGHUP")
+
+
+def _watched() -> set:
+    return {getattr(signal, name) for name in WATCHED if hasattr(signal, name)}
+
+
 def _end_on_interrupt() -> None:
-    """Wait for SIGINT (blocked in every thread), then clean up and end the process."""
-    signal.sigwait({signal.SIGINT})
-    from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE as MESSAGE
+    """Wait for a watched signal (blocked in every thread), then clean up and end the process: status 130
+    for SIGINT, 128 + its number for the others."""
+    received = signal.sigwait(_watched())
+    from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE
+
+    if received == signal.SIGINT:
+        status, message = INTERRUPTED, INTERRUPTED_MESSAGE
+    else:
+        status = 128 + int(received)
+        message = f"stopped ({signal.Signals(received).name}); no output file was left half-written"
 
     try:
         from tea.core.files import in_flight
@@ -45,19 +63,20 @@ def _end_on_interrupt() -> None:
 
         for child in multiprocessing.active_children():
             child.terminate()
-        os.write(2, (MESSAGE + "\n").encode())
+        os.write(2, (message + "\n").encode())
     finally:
-        os._exit(INTERRUPTED)
+        os._exit(status)
 
 
 def watch_interrupts() -> bool:
-    """Block SIGINT in this thread (and so in all it starts or forks from now on) and start the thread that
-    ends the process on it; False where signals cannot be waited for (not POSIX), and nothing changes."""
+    """Block the watched signals in this thread (and so in all it starts or forks from now on; the workers
+    unblock SIGTERM and SIGHUP, :func:`tea.outputs.workers._settle`) and start the thread that ends the
+    process on them; False where signals cannot be waited for (not POSIX), and nothing changes."""
     if not hasattr(signal, "pthread_sigmask") or not hasattr(signal, "sigwait"):
         return False
     if threading.current_thread() is not threading.main_thread():
         return False
-    signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    signal.pthread_sigmask(signal.SIG_BLOCK, _watched())
     threading.Thread(target=_end_on_interrupt, name="tea-interrupt", daemon=True).start()
     return True
 

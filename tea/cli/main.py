@@ -264,10 +264,14 @@ def _main(argv: Sequence[str] | None) -> int:
         # cores between them: the numerical library's own thread pool (one thread per core, started in each
         # process that loads it) would only compete with them, for arithmetic on one case's 30 years
         os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+        from tea.core.errors import TeaError
         from tea.outputs import charts
 
-        workers.stand_by(*charts.MODULES, role="charts")
-        workers.stand_by("tea.outputs.pdf_page:warm_up", role="page")
+        try:
+            workers.stand_by(*charts.MODULES, role="charts")
+            workers.stand_by("tea.outputs.pdf_page:warm_up", role="page")
+        except TeaError:  # a bad TEA_JOBS: said, as every other error, once the run asks for workers
+            pass
     try:
         return _run(argv)
     finally:

@@ -62,21 +62,45 @@ def available() -> int:
 
 def each(count: int, work: Callable[[int], T]) -> Iterator[T]:
     """``work(0)``, ..., ``work(count - 1)``, in that order, made in worker processes when more than one is
-    available; a piece that raises ends the whole with its exception (the workers are stopped)."""
+    available; a piece that raises ends the whole with its exception (the workers are stopped).
+
+    A worker that ends without an answer (killed, out of memory) breaks the
+    pool: the pieces not yet taken are then made in this process, one after
+    another (never a run left waiting for a piece no process makes).
+    """
     jobs = min(available(), count)
     if jobs <= 1 or not sys.platform.startswith("linux"):
         for i in range(count):
             yield work(i)
         return
+    import collections
     import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
 
     global _work
     _work = work  # the forked workers see it; only the piece's number travels
+    taken = 0
     try:
-        with multiprocessing.get_context("fork").Pool(jobs, initializer=_settle) as pool:
-            yield from pool.imap(_call, range(count))
+        pool = ProcessPoolExecutor(jobs, mp_context=multiprocessing.get_context("fork"), initializer=_settle)
+        try:
+            ahead: collections.deque = collections.deque()  # pieces handed out, at most two per worker
+            while taken < count:
+                try:
+                    while taken + len(ahead) < count and len(ahead) < 2 * jobs:
+                        ahead.append(pool.submit(_call, taken + len(ahead)))
+                    value = ahead[0].result()
+                except BrokenProcessPool:
+                    break
+                ahead.popleft()
+                taken += 1
+                yield value
+        finally:
+            pool.shutdown(wait=True, cancel_futures=True)
     finally:
         _work = None
+    for i in range(taken, count):
+        yield work(i)
 
 
 @contextlib.contextmanager
@@ -341,10 +365,36 @@ def elsewhere(work: Callable[..., T], *args, role: str = "work") -> Callable[[],
 def _settle() -> None:
     """In a new worker: what it inherited (modules, cases, ledgers) is moved out of the garbage collector's
     sight, so that no collection scans it again or writes to its pages (which it would then stop sharing
-    with the parent)."""
+    with the parent); the worker ends with its parent (:func:`_end_with_parent`) and can be stopped by
+    SIGTERM (the command blocks it in its own threads, see :mod:`tea.cli.entry`)."""
     import gc
+    import signal
 
     gc.freeze()
+    if hasattr(signal, "pthread_sigmask"):
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM, signal.SIGHUP})
+    _end_with_parent()
+
+
+def _end_with_parent() -> None:
+    """Have the kernel kill this worker when the process that forked it ends (Linux ``prctl``
+    PR_SET_PDEATHSIG): a parent killed outright (``kill -9``) leaves no worker waiting for work, holding
+    memory and the terminal's output open. Where that cannot be asked for, nothing changes."""
+    import multiprocessing
+
+    forked_by = multiprocessing.parent_process()  # known from the fork, even if that process is gone now
+    parent = forked_by.pid if forked_by is not None else os.getppid()
+    try:
+        import ctypes
+        import signal
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        if libc.prctl(1, int(signal.SIGKILL), 0, 0, 0) != 0:  # 1: PR_SET_PDEATHSIG
+            return
+    except (OSError, AttributeError):
+        return
+    if os.getppid() != parent:  # the parent ended before the request took effect
+        os._exit(0)
 
 
 def _call(i: int):
