@@ -649,6 +649,36 @@ def test_a_sixty_year_stand_with_its_tornado_still_fits_one_page(tmp_path, demo_
     assert _squash(display.money(float(frame["cumulative_cash_flow"].iloc[-1]), digits=0)) in text
 
 
+def test_a_page_too_long_for_its_tornado_leaves_it_off_and_says_so_in_one_line(tmp_path, demo_mappings):
+    """The longest stand life on a case whose [sensitivity] section asks for the tornado, with the warnings
+    its ranges then raise: even the densest layout ran over onto a second sheet (pdfinfo: 2 pages) with a
+    Python warning and its source line on stderr. The chart the case asked for by default is left off, the
+    page is one sheet, and the command says so in one line (the terminal's warning form)."""
+    import subprocess
+    import sys
+
+    data = {k: dict(v) if isinstance(v, dict) else v for k, v in demo_mappings["clay_corner_miscanthus"].items()}
+    data["finance"]["stand_life_years"] = 60
+    case_file = tmp_path / "long.toml"
+    case_file.write_text(to_toml(data), encoding="utf-8")
+    out = tmp_path / "long.pdf"
+    run = subprocess.run([sys.executable, "-m", "tea", "run", str(case_file), "--brief", "--pdf", str(out),
+                          "--html", str(tmp_path / "long.html")], capture_output=True, text=True, timeout=300)
+    assert run.returncode == 0, run.stderr
+    assert _pdfinfo(out)["Pages"] == "1"
+    assert _squash(TORNADO_TITLE) not in _squash(_text(out))
+    said = [line for line in run.stderr.splitlines() if "left off the printed summary" in line]
+    assert len(said) == 1 and said[0].startswith(f"warning: {case_file}: the chart of what moves the NPV")
+    assert "Warning:" not in run.stderr and "Traceback" not in run.stderr
+    # asked for in so many words, the tornado stays, and a page that runs over is said so, in one line
+    case = tea.load_case(case_file)
+    frame = tea.build_ledger(case)
+    with pytest.warns(UserWarning, match="takes 2 pages even at its densest layout"):
+        kept = report.render_summary(case, frame, tea.summarise(case, frame), tmp_path / "kept.pdf",
+                                     sensitivity=True)
+    assert _pdfinfo(kept)["Pages"] == "2" and _squash(TORNADO_TITLE) in _squash(_text(kept))
+
+
 def test_command_line_sensitivity_flag(tmp_path):
     pdf = tmp_path / "s.pdf"
     res = run_cli(["run", CASES_DIR / "sandy_slope_switchgrass.toml", "--brief", "--pdf", pdf, "--sensitivity"])

@@ -81,11 +81,23 @@ def watch_interrupts() -> bool:
     return True
 
 
+def _one_line(message, category, filename, lineno, file=None, line=None) -> None:
+    """A warning raised while the command runs (by tea or a library), said as every warning of the command
+    is: one line, with no source location (the workers, forked from this process, say theirs so too)."""
+    try:
+        print(f"warning: {message}", file=file if file is not None else sys.stderr)
+    except (OSError, ValueError):  # stderr gone: nothing to tell
+        pass
+
+
 def main() -> int:
     """Load the command line and run it; Ctrl-C at any point (loading the libraries, building the options,
     doing the work) exits 130 with one line."""
     try:
         watch_interrupts()
+        import warnings
+
+        warnings.showwarning = _one_line
         from tea.cli.main import main as run
 
         status = run()

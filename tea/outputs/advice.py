@@ -99,9 +99,26 @@ def grower_warning(text: str) -> str:
     return f"{_label(key)}: {message}; check it, because {why}."
 
 
+#: warnings about the what-if sections, whose key names the input they range over
+_WHAT_IF = re.compile(r"^.*?: (?P<section>sensitivity\.ranges|risk\.inputs)\.(?P<path>[a-z_]+\.[a-z0-9_]+): ")
+
+
 def grower_warnings(case: Case) -> list[str]:
-    """Every warning of a case, said for a grower, each once."""
-    return list(dict.fromkeys(grower_warning(w) for w in case.warnings))
+    """Every warning of a case, said for a grower, each once; those about sensitivity ranges and risk
+    distributions that do not sit on the case's own values are said in one sentence naming the inputs."""
+    said, off = [], []
+    for w in case.warnings:
+        m = _WHAT_IF.match(w)
+        if m is None:
+            said.append(grower_warning(w))
+            continue
+        key = schema.BY_PATH.get(m["path"])
+        off.append(_label(key).lower() if key is not None else m["path"])
+    if off:
+        names = list(dict.fromkeys(off))
+        said.append(f"The ranges tried for {', '.join(names)} in the chart of what moves the NPV, or in the risk "
+                    "figures, do not sit on the case's own value: those figures describe other values; check them.")
+    return list(dict.fromkeys(said))
 
 
 #: the TDWG botanical continents (tea.inputs.schema.REGIONS) in words

@@ -24,7 +24,6 @@ import contextlib
 import io
 import logging
 import os
-import warnings
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -389,6 +388,6 @@ def fit(html_at: Callable[[int], str], anchor: str, start: int, last: int, type_
 
 
 def _checked(density: int, doc) -> tuple[int, Any]:
-    if len(doc.pages) > 1:
-        warnings.warn(f"the summary takes {len(doc.pages)} pages even at the densest layout", stacklevel=3)
+    """The densest layout tried, whether or not it fits: the caller says so if it runs over (it knows the
+    case)."""
     return density, doc

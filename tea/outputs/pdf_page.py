@@ -34,8 +34,9 @@ def stylesheets() -> list[Any]:
 
 
 def lay_out(fitting: tuple[str, int, int, int, Sequence[float], Sequence[float]], first: str,
-            placeholders: dict[str, str]) -> int:
-    """Fit a case's page to one sheet and write it as PDF; the density it took.
+            placeholders: dict[str, str]) -> tuple[int, int]:
+    """Fit a case's page to one sheet and write it as PDF; the density it took and its number of pages (more
+    than one: the page did not fit even at its densest).
 
     Parameters
     ----------
@@ -67,7 +68,7 @@ def lay_out(fitting: tuple[str, int, int, int, Sequence[float], Sequence[float]]
         target = workers.received()
         if target is not None:
             pdf.write_pdf(doc, Path(target))
-    return density
+    return density, len(doc.pages)
 
 
 def warm_up() -> None:

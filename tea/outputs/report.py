@@ -38,6 +38,7 @@ memory stays that of a few pages however many cases there are.
 
 from __future__ import annotations
 
+import warnings
 from functools import lru_cache
 from pathlib import Path
 from typing import Any, Sequence
@@ -58,6 +59,9 @@ from tea.outputs.whatmoves import SensitivityViews, shows_block
 #: the jinja2 templates and the page's CSS (package data of ``tea.templates``)
 TEMPLATES = pdf_page.templates_folder()
 PAGE_SIZES = {"a4": "A4", "letter": "Letter"}
+
+#: what the summaries made in this process have said once already
+_said: set[tuple[Any, ...]] = set()
 
 #: the density each recently laid-out page needed, so that HTML made after the PDF reuses it
 _fit_cache: dict[tuple[Any, ...], Any] = {}
@@ -136,15 +140,34 @@ def render_summary(
     made = drawn()
     laying.send({chart.name: chart.svg for chart in made})
 
-    def written(tmp: Path | None) -> int:
+    def written(tmp: Path | None) -> str | None:
+        """Lay the page out (and write it to ``tmp``); the HTML of the page as laid out."""
         laying.send(None if tmp is None else str(tmp))
-        density = laying()
+        density, pages = laying()
+        if pages > 1 and sensitivity is None and tornado is not None:
+            return _without_tornado(tmp)
+        if pages > 1:
+            _runs_over(case, pages)
         _remember(key, density)
-        return density
+        return _summary_page(page_with(made), size, meta, density, False)
+
+    def _without_tornado(tmp: Path | None) -> str:
+        """The page that ran over one sheet at its densest, laid out again without the tornado chart the case's
+        [sensitivity] section asked for (here, in this process: it is rare)."""
+        if ("left off", key) not in _said:  # once, though the PDF and the HTML are both made
+            _said.add(("left off", key))
+            warnings.warn(f"{case.source}: the chart of what moves the NPV is left off the printed summary so that "
+                          f"it fits one sheet (its {len(ledger)} yearly rows take the room); `tea sensitivity` "
+                          "shows it", stacklevel=2)
+        plain = CasePage(case, ledger, results, "case-0", SensitivityViews(case, False, "case-0"), made[:3])
+        density, doc = _fit(plain, size, lambda d: _summary_page(plain, size, meta, d, True))
+        if tmp is not None:
+            pdf.write_pdf(doc, tmp)
+        return _summary_page(plain, size, meta, density, False)
 
     if kind == "pdf":
         return atomic_write(path, written, force=True)
-    return atomic_write_text(path, _summary_page(page_with(made), size, meta, written(None), False), force=True)
+    return atomic_write_text(path, written(None), force=True)
 
 
 @pdf.fewer_collections()
@@ -318,8 +341,16 @@ def _stylesheets() -> list[Any]:
 def _fit(page: CasePage, size: str, html_at, charts=None, images=None) -> tuple[int, Any]:
     """A case page fitted to one sheet of paper ``size``: (density, laid-out document); ``html_at(d)`` gives
     its HTML at density d; ``charts`` and ``images`` as for :func:`tea.outputs.pdf.layout`."""
-    return pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT, CHART_SCALE,
-                   _stylesheets(), floor=page.first_density, charts=charts, images=images)
+    density, doc = pdf.fit(html_at, page.anchor, page.start_density(size), page.last_density, TYPE_PT,
+                           CHART_SCALE, _stylesheets(), floor=page.first_density, charts=charts, images=images)
+    if len(doc.pages) > 1:
+        _runs_over(page.case, len(doc.pages))
+    return density, doc
+
+
+def _runs_over(case: Case, pages: int) -> None:
+    warnings.warn(f"{case.source}: the printed summary takes {pages} pages even at its densest layout",
+                  stacklevel=3)
 
 
 def _summary_page(page: CasePage, size: str, meta: dict[str, Any], density: int, embed: bool) -> str:
