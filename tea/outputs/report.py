@@ -140,8 +140,8 @@ def render_summary(
     made = drawn()
     laying.send({chart.name: chart.svg for chart in made})
 
-    def written(tmp: Path | None) -> str | None:
-        """Lay the page out (and write it to ``tmp``); the HTML of the page as laid out."""
+    def laid_out(tmp: Path | None) -> tuple[CasePage, int]:
+        """Lay the page out (and write it as PDF to ``tmp``): the page with its charts and its density."""
         laying.send(None if tmp is None else str(tmp))
         density, pages = laying()
         if pages > 1 and sensitivity is None and tornado is not None:
@@ -149,25 +149,26 @@ def render_summary(
         if pages > 1:
             _runs_over(case, pages)
         _remember(key, density)
-        return _summary_page(page_with(made), size, meta, density, False)
+        return page_with(made), density
 
-    def _without_tornado(tmp: Path | None) -> str:
+    def _without_tornado(tmp: Path | None) -> tuple[CasePage, int]:
         """The page that ran over one sheet at its densest, laid out again without the tornado chart the case's
         [sensitivity] section asked for (here, in this process: it is rare)."""
         if ("left off", key) not in _said:  # once, though the PDF and the HTML are both made
             _said.add(("left off", key))
             warnings.warn(f"{case.source}: the chart of what moves the NPV is left off the printed summary so that "
                           f"it fits one sheet (its {len(ledger)} yearly rows take the room); `tea sensitivity` "
-                          "shows it", stacklevel=2)
+                          "shows it", stacklevel=3)
         plain = CasePage(case, ledger, results, "case-0", SensitivityViews(case, False, "case-0"), made[:3])
         density, doc = _fit(plain, size, lambda d: _summary_page(plain, size, meta, d, True))
         if tmp is not None:
             pdf.write_pdf(doc, tmp)
-        return _summary_page(plain, size, meta, density, False)
+        return plain, density
 
     if kind == "pdf":
-        return atomic_write(path, written, force=True)
-    return atomic_write_text(path, written(None), force=True)
+        return atomic_write(path, laid_out, force=True)
+    shown, density = laid_out(None)
+    return atomic_write_text(path, _summary_page(shown, size, meta, density, False), force=True)
 
 
 @pdf.fewer_collections()
