@@ -93,6 +93,41 @@ def test_us_customary_page_charts_label_every_gridline_with_its_value():
         _check_labels(chart, "x")
 
 
+def _tick_label_boxes(fig):
+    """The drawn tick labels of the first axes' horizontal axis inside its view, left to right, measured by
+    matplotlib's Agg renderer (an engine apart from the measure the chart is spaced by)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    FigureCanvasAgg(fig).draw()
+    ax = fig.axes[0]
+    lo, hi = sorted(ax.get_xlim())
+    labels = [t for t in ax.xaxis.get_ticklabels() if t.get_text() and lo <= t.get_position()[0] <= hi]
+    return sorted((t.get_window_extent() for t in labels), key=lambda b: b.x0)
+
+
+@pytest.mark.parametrize("width_in", [7.2, 3.5, 2.35])  # the page's tornado widths: full, beside, split
+@pytest.mark.parametrize("scale", [1.0, 1e6, 1e9])
+def test_value_axis_labels_never_run_into_each_other(scale, width_in):
+    """A price of a billion per tonne made the tornado chart's NPV axis one unreadable row of digits: its
+    labels stay apart (common practice: a tick label must be legible on its own) and still equal their
+    gridlines, at small and absurd magnitudes alike."""
+    labels = ["Yield from site climate (13.3 / 32.1 t DM/ha/yr)", "Stand life* (15 / 25 yr)",
+              "Discount rate (4.80 % / 7.20 %)", "Biomass price* (75.0 / 115 EUR/t DM)"]
+    low = [69.4 * scale, 88.9 * scale, 97.3 * scale, 0.1 * scale]
+    high = [167.4 * scale, 123.3 * scale, 121.7 * scale, 110.0 * scale]
+    args = (labels, low, high, 108.6 * scale, "EUR per ha")
+    with charts.style():
+        fig = charts.tornado_figure(*args, width_in=width_in)
+        charts.spaced(fig)
+    boxes = _tick_label_boxes(fig)
+    # still a scale to read: where the row labels leave the axis too short for two labels, one
+    assert len(boxes) >= (2 if width_in > 3 else 1), boxes
+    for left, right in zip(boxes, boxes[1:]):
+        assert left.x1 < right.x0, f"tick labels touch: {left} and {right}"
+    if len(boxes) > 1:
+        _check_labels(charts.tornado(*args, name="t", width_in=width_in), "x")
+
+
 @pytest.mark.parametrize("payback", [3, 17])
 def test_payback_label_stays_clear_of_the_cash_line(payback):
     """The label's box holds no point of the cash line (checked along each segment) for an early and a late payback."""

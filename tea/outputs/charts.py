@@ -252,7 +252,58 @@ def from_figure(fig: Figure, name: str, title: str, alt: str) -> Chart:
     return _finish(fig, name, title, alt)
 
 
+#: the least room between two tick labels side by side [pt]
+LABEL_GAP_PT = 4.0
+
+
+def spaced(fig: Figure) -> None:
+    """Fewer ticks on any horizontal axis of a laid-out figure whose tick labels would touch.
+
+    matplotlib's locator picks the ticks from the axis's range alone, not from
+    how wide their labels are: at large values (a price of a billion per
+    tonne) the labels of a chart's value axis run into one another. Each
+    label is measured as matplotlib will set it (:class:`matplotlib.textpath.TextToPath`,
+    the figure's own font), and the axis's locator asked for one tick fewer
+    until neighbours are :data:`LABEL_GAP_PT` apart; where not even two fit,
+    one tick is kept. Only a locator that takes a number of ticks
+    (matplotlib's ``MaxNLocator``) is changed.
+    """
+    import matplotlib
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import TextToPath
+    from matplotlib.ticker import FixedLocator, MaxNLocator
+
+    measure, font = TextToPath(), FontProperties(size=matplotlib.rcParams["xtick.labelsize"])
+    for ax in fig.axes:
+        axis = ax.xaxis
+        locator = axis.get_major_locator()
+        lo, hi = sorted(axis.get_view_interval())
+        width_pt = ax.get_position().width * fig.get_figwidth() * 72.0
+        if not isinstance(locator, MaxNLocator) or not hi > lo or width_pt <= 0:
+            continue
+        bins = len(locator.tick_values(lo, hi))  # counted down from the ticks it gives now
+        while bins > 1 and _touching(axis, locator.tick_values(lo, hi), lo, hi, width_pt, measure, font):
+            bins -= 1
+            locator.set_params(nbins=bins)
+        inside = [float(v) for v in locator.tick_values(lo, hi) if lo <= v <= hi]
+        if len(inside) > 1 and _touching(axis, inside, lo, hi, width_pt, measure, font):
+            # not even two labels fit (an axis squeezed by long row labels): the one nearest the middle
+            axis.set_major_locator(FixedLocator([min(inside, key=lambda v: abs(v - (lo + hi) / 2))]))
+
+
+def _touching(axis, ticks, lo: float, hi: float, width_pt: float, measure, font) -> bool:
+    """Whether two neighbouring tick labels of a horizontal axis ``width_pt`` long come closer than
+    :data:`LABEL_GAP_PT`."""
+    locs = [float(v) for v in ticks if lo <= v <= hi]
+    labels = axis.get_major_formatter().format_ticks(locs)
+    half = [measure.get_text_width_height_descent(t, font, ismath=False)[0] / 2 for t in labels]
+    at = [(v - lo) / (hi - lo) * width_pt for v in locs]
+    return any(at[i + 1] - at[i] < half[i] + half[i + 1] + LABEL_GAP_PT for i in range(len(at) - 1))
+
+
 def _finish(fig: Figure, name: str, title: str, alt: str) -> Chart:
+    with style():
+        spaced(fig)
     svg = svg_of(fig, name)  # draws the figure: its ticks are final now
     ticks = axis_ticks(fig)
     return Chart(name=name, title=title, svg=markup.titled(svg, name, alt), alt=alt, ticks=ticks)

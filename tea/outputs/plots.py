@@ -26,6 +26,7 @@ def save(fig: Figure, target, fmt: str) -> None:
     metadata, fixed SVG ids (svg.hashsalt)."""
     metadata = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None}}.get(fmt)
     with matplotlib.rc_context({**charts.STYLE, "svg.hashsalt": "tea-chart"}):
+        charts.spaced(fig)
         fig.savefig(target, format=fmt, dpi=200, metadata=metadata)
 
 
