@@ -337,6 +337,10 @@ def test_comparison_pdf_is_overview_then_one_page_per_case(comparison):
     assert info["Pages"] == str(1 + n)
     pages = [_squash(_text(comparison["pdf"], page=k)) for k in range(1, n + 2)]
     overview = pages[0]
+    # each footer says what its page counts: the overview's own pages, then each case's place among the cases
+    assert _squash(f"overview of {n} cases, page 1 of 1") in overview
+    for k in range(1, n + 1):
+        assert _squash(f"case {k} of {n}") in pages[k] and "pageof" not in pages[k]
     for case, res in zip(comparison["cases"], comparison["results"]):
         assert _squash(terminal.decision_sentence(case, res)) in overview
         for name in ("npv", "npv_vs_current_use", "eav_vs_current_use", "payback_year", "peak_funding_need"):

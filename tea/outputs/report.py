@@ -238,7 +238,9 @@ def render_comparison(
         laid out, and written as one PDF for a PDF."""
         if k == 0:
             html = _render("compare.html.j2", page_size=size, overview=compare.overview(cases, ledgers, results, size),
-                           meta=meta, embed=True, page_label="", pages=[], generator=f"tea {__version__}")
+                           meta=meta, embed=True, page_label="", pages=[], generator=f"tea {__version__}",
+                           # the overview is laid out apart from the case pages: its page numbers count its own
+                           page_scope=f"overview of {len(cases)} cases")
             doc = pdf.layout(html, _stylesheets())
             return [], (pdf.write_pdf(doc) if kind == "pdf" else None)
         made = [fitted(i) for i in batches[k - 1]]
