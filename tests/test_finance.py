@@ -731,3 +731,22 @@ class TestPeakFunding:
         need, year = fin.peak_funding(np.array([[-2500, -300, 400, 1200], [-10, 30, -50, 5]], dtype=float))
         assert need.tolist() == [2800.0, 30.0]
         assert year.tolist() == [1, 2]
+
+
+def test_an_undefined_irr_points_to_a_figure_that_is_shown():
+    """Several rates leave the IRR of an incremental cash flow undefined: the reason points to what the
+    reader can judge by (common practice: with several IRRs, NPV decides), and to the MIRR only for the
+    flow whose MIRR is shown."""
+    from tea.model.results import summarise
+    from tea.inputs.case import load_case
+
+    from conftest import CASES_DIR
+
+    case = load_case(CASES_DIR / "sandy_slope_switchgrass.toml")
+    res = summarise(case)
+    note = res.notes["irr_vs_current_use"]
+    assert note.startswith("IRR undefined: 2 rates make NPV zero (")  # the demo's incremental flow has two
+    assert note.endswith("judge the gain by NPV vs current use") and "MIRR" not in note
+    assert res.per_ha["npv_vs_current_use"] is not None  # the figure pointed to is there
+    rate, reason = fin.irr_explained([-100, 230, -132], instead="judge by NPV")
+    assert math.isnan(rate) and reason == "2 rates make NPV zero (10.0 %, 20.0 %); judge by NPV"

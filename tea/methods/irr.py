@@ -426,7 +426,7 @@ def _pct(rate: float) -> str:
     return f"{100.0 * rate:.1f} %"
 
 
-def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | None]:
+def irr_explained(flows: Sequence[float] | np.ndarray, instead: str = "see MIRR") -> tuple[float, str | None]:
     """Internal rate of return of one case, with the reason when it is undefined.
 
     Parameters
@@ -434,6 +434,12 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
     flows : sequence of float or numpy.ndarray, shape (years,)
         Net cash flow of each year [currency]; costs negative, receipts
         positive; ``flows[0]`` at t = 0.
+    instead : str
+        What the reader should judge by where several rates (or a rate
+        touched without a sign change) leave the IRR undefined, ending the
+        reason: the MIRR of the same flows by default; the caller names the
+        figure it shows (e.g. the NPV of an incremental flow, whose MIRR it
+        does not show).
 
     Returns
     -------
@@ -495,8 +501,8 @@ def irr_explained(flows: Sequence[float] | np.ndarray) -> tuple[float, str | Non
             distinct.append(r)
     listed = ", ".join(_pct(r) for r in distinct)
     if len(distinct) == 1:
-        return math.nan, f"NPV touches zero at {listed} without changing sign; see MIRR"
-    return math.nan, f"{len(distinct)} rates make NPV zero ({listed}); see MIRR"
+        return math.nan, f"NPV touches zero at {listed} without changing sign; {instead}"
+    return math.nan, f"{len(distinct)} rates make NPV zero ({listed}); {instead}"
 
 
 # ---------------------------------------------------------------------------
@@ -558,10 +564,11 @@ def irr_by_rule(flows):
     return float(rates[0]) if one else rates
 
 
-def irr_rule_explained(flows) -> tuple[float, str | None, str | None]:
-    """(rate, why undefined or None, a note on the rule when Norström's criterion decides)."""
+def irr_rule_explained(flows, instead: str = "see MIRR") -> tuple[float, str | None, str | None]:
+    """(rate, why undefined or None, a note on the rule when Norström's criterion decides); ``instead`` as for
+    :func:`irr_explained`."""
     v = np.asarray(flows, dtype=float)
-    rate, reason = irr_explained(v)
+    rate, reason = irr_explained(v, instead)
     if reason is None:
         return rate, None, None
     by_rule = float(irr_by_rule(v))

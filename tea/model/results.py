@@ -98,11 +98,15 @@ def summarise(case: Case, frame: pd.DataFrame | None = None, model=MODEL) -> Res
         raise ValueError("this ledger was not built from this case")
     names = [f.name for f in model.figures]
     flows = {"irr": "net_cash_flow", "irr_vs_current_use": "incremental_cash_flow", "irr_after_tax": "after_tax_cash_flow"}
+    # where several rates leave an IRR undefined, the figure shown beside it to judge by (a MIRR is shown for
+    # the stand's own cash flow only)
+    instead = {"irr": "see MIRR", "irr_vs_current_use": "judge the gain by NPV vs current use",
+               "irr_after_tax": "judge by NPV after tax"}
     got = evaluate(case.values, figures=names, lines=tuple(flows.values()), model=model, rows=1)
     per_ha = {name: _clean(got.figures[name][0]) for name in names}
     notes: dict[str, str] = {}
     for name, line in flows.items():
-        _, reason, rule = irr_rule_explained(got.lines[line][0])
+        _, reason, rule = irr_rule_explained(got.lines[line][0], instead[name])
         if reason:
             notes[name] = f"IRR undefined: {reason}"
         elif rule:
