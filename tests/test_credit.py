@@ -343,3 +343,31 @@ def test_yearly_repayments_on_a_crop_cut_every_few_years_are_warned(profile, war
         assert any("no sale to repay it from" in w for w in grower_warnings(case))
         res = tea.summarise(case)
         assert res["min_dscr"] == 0.0
+
+
+def test_the_page_tells_the_lender_of_debt_service_uncovered_in_grace_years(tmp_path):
+    """A grace year whose interest the stand's cash does not cover lies outside the covenant test years, so
+    the lowest DSCR does not show it: the page's loan line names the test years and the money left uncovered
+    (common practice in loan reporting: cover ratios are quoted with the period they are tested over)."""
+    from html import unescape
+
+    from tea.outputs import report, terminal
+
+    clay = CLAY.read_text(encoding="utf-8").split("# --- What moves")[0]
+    path = tmp_path / "grace.toml"
+    path.write_text(clay.replace('grace_interest = "capitalised"', 'grace_interest = "interest_only"', 1),
+                    encoding="utf-8")
+    case = tea.load_case(path)
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    from tea.model.evaluate import evaluate
+
+    tested = evaluate(case.values, lines=["dscr_tested"], rows=1).lines["dscr_tested"][0]
+    first_test = int(frame["year"][np.isfinite(tested[: len(frame)])].min())
+    grace_short = frame["dscr_shortfall"][frame["year"] < first_test].sum()
+    assert grace_short > 0  # the grace year's interest is not covered, and no test year sees it
+    assert res["money_short_of_debt_service"] == pytest.approx(frame["dscr_shortfall"].sum(), rel=1e-12)
+    html = unescape(report.summary_html(case, frame, res))
+    shown = terminal._fig(res, case, "money_short_of_debt_service")
+    assert f"lowest DSCR of the covenant test years {terminal._fig(res, case, 'min_dscr')}" in html
+    assert f"the stand's cash leaves {shown} of debt service uncovered, grace years included" in html

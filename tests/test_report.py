@@ -188,7 +188,7 @@ def test_key_figures_on_the_page_are_the_engines_as_formatted(demo):
         want = _squash(terminal._fig(res, case, name, whole=True))
         assert want in text, f"{name} (whole field): {want} not on the PDF page"
     assert _squash(terminal.decision_sentence(case, res)) in text
-    for name, words in (("min_dscr", "lowest DSCR "), ("llcr", "LLCR ")):  # the lender's two cover ratios
+    for name, words in (("min_dscr", "lowest DSCR of the covenant test years "), ("llcr", "LLCR ")):  # the lender's two cover ratios
         if res[name] is not None:
             want = _squash(words + terminal._fig(res, case, name))
             assert want in text and want in html_text, f"{name}: {want} not on the page"

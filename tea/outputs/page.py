@@ -217,15 +217,19 @@ def _price(case: Case) -> str:
 def _loan_line(case: Case, res: Results) -> str:
     if not value_of(res, "loan_principal"):
         return ""
-    cover = (f"lowest DSCR {fig_text(case, res, 'min_dscr')} in {fig_text(case, res, 'min_dscr_year')} "
-             f"(covenant {fig_text(case, res, 'dscr_covenant')}" if value_of(res, "min_dscr") is not None else "")
+    cover = (f"lowest DSCR of the covenant test years {fig_text(case, res, 'min_dscr')} in "
+             f"{fig_text(case, res, 'min_dscr_year')} (covenant {fig_text(case, res, 'dscr_covenant')}"
+             if value_of(res, "min_dscr") is not None else "")
+    # debt service the stand's own cash leaves to other funds, in any year (a grace year's interest included)
+    short = (f"; the stand's cash leaves {fig_text(case, res, 'money_short_of_debt_service')} of debt service "
+             "uncovered, grace years included" if (value_of(res, "money_short_of_debt_service") or 0) > 0 else "")
     below = value_of(res, "years_below_covenant") or 0
     level = case["loan.profile"] == "annuity"  # the only profile whose payment is the same each year
     # the loan is paid in money of each year, the rest of the page in today's money
     year_money = " in money of each year" if case["finance.inflation"] else ""
     return (f"{fig_text(case, res, 'loan_principal')} at {display.percent(case['loan.rate'], 1)}, repaid at "
             f"{'' if level else 'up to '}{fig_text(case, res, 'loan_payment')}{year_money}; {cover}"
-            + ((f"; {below:.0f} year{'s' if below != 1 else ''} below)" if below else ")") if cover else "")
+            + ((f"; {below:.0f} year{'s' if below != 1 else ''} below)" if below else ")") if cover else "") + short
             + (f"; LLCR {fig_text(case, res, 'llcr')} at the first test" if value_of(res, "llcr") is not None else "")
             + f"; own funding peaks at {fig_text(case, res, 'equity_peak_funding_need')}.")
 

@@ -263,7 +263,7 @@ DEFS = WORKINGS + (
            scales=True),
     figure("loan_interest_total", M, "loan", "Interest over the loan", "Interest over the life of the loan.",
            total(L.loan_interest), scales=True),
-    figure("min_dscr", "ratio", "loan", "Lowest DSCR",
+    figure("min_dscr", "ratio", "loan", "Lowest DSCR (test years)",
            "Lowest debt service cover ratio of the covenant test years (0 where the cash available is negative).",
            lowest(L.dscr_tested)),
     figure("min_dscr_year", "yr", "loan", "Lowest DSCR in", "Year of the lowest DSCR.", first_year(L.dscr_at_lowest)),
@@ -271,9 +271,10 @@ DEFS = WORKINGS + (
     figure("years_below_covenant", "yr", "loan", "Years below covenant",
            "Number of covenant test years whose DSCR falls below the covenant.", total(L.below_covenant)),
     figure("money_short_of_debt_service", M, "loan", "Debt service not covered",
-           "Debt service the cash available does not cover, summed over the years.", total(L.dscr_shortfall),
+           "Debt service the cash available does not cover, summed over every year with debt service (grace "
+           "years included, which the covenant does not test).", total(L.dscr_shortfall),
            scales=True),
-    figure("min_interest_cover", "ratio", "loan", "Lowest interest cover",
+    figure("min_interest_cover", "ratio", "loan", "Lowest interest cover (test years)",
            "Lowest CFADS / interest paid over the covenant test years.", lowest(L.interest_cover_tested)),
     figure("llcr", "ratio", "loan", "LLCR at the first test",
            "Loan-life cover ratio at the start of the first covenant test year; no value where the present value "
