@@ -223,3 +223,14 @@ def test_a_us_workbook_gives_each_schedule_per_acre_and_in_short_tons(tmp_path):
     tea.write_workbook(clay, tea.build_ledger(clay), tea.summarise(clay), metric)
     assert not any(row[0] == "Per acre, in short tons and pounds (US customary)"
                    for ws in openpyxl.load_workbook(metric).worksheets for row in ws.iter_rows(values_only=True))
+
+
+def test_us_terminal_labels_name_no_metric_unit():
+    """A US customary case's figures are shown in short tons and acres: no label beside them names a metric
+    unit (t DM, ha), which the value is not in (NIST Handbook 44 Appendix C for the units themselves)."""
+    res = run_cli(["run", SANDY, "--brief"])
+    assert res.code == 0, res.text
+    labels = [line[:37] for line in res.out.splitlines() if line.startswith("  ") and "short ton" in line]
+    assert labels, res.out
+    assert not [t for t in labels if re.search(r"\b(t DM|t C|t CO2e|ha)\b", t)], labels
+    assert any(t.strip() == "Net GHG per short ton DM" for t in labels), labels

@@ -134,6 +134,15 @@ LABELS = {
     "tax_total": "Tax over the stand life",
 }
 
+#: labels that name a metric unit, as a US customary case shows them (its value is converted)
+US_LABELS = {"ghg_net_kg_co2e_per_t_dm": "Net GHG per short ton DM"}
+
+
+def label(name: str, case: Case) -> str:
+    """A figure's label in the terminal, in the case's units."""
+    return (US_LABELS.get(name) if case.unit_system == "us_customary" else None) or LABELS[name]
+
+
 TABLE = (
     ("year", "year", "yr"),
     ("harvested_t_dm", "harvest DM", "t DM/ha"),
@@ -188,7 +197,7 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 given, _ = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)
                 per_ha += f" (case: {given:,.2f})"
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
-            out.append(f"  {LABELS[name]:<{width}}{per_ha:<34}{whole}")
+            out.append(f"  {label(name, case):<{width}}{per_ha:<34}{whole}")
             if name == "loan_principal" and (res["loan_asked"] or 0) > (res[name] or 0) + 0.005:
                 out.append(f"  {'':<{width}}less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted "
                            "profile draws at most what its target DSCR repays")
