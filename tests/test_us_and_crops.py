@@ -135,6 +135,11 @@ def test_several_cases_side_by_side_in_the_terminal(tmp_path):
     table = res.out[:res.out.index("Tessel Hollow - clay corner, miscanthus   [DEMO DATA]")]
     lines = table.splitlines()
     assert max(len(line) for line in lines) <= side_by_side.WIDTH
+    # the columns line up: every row's last value ends in the same column (long labels included)
+    # (block by block: the cases that do not fit beside the others come below them)
+    for block in table.split("\n\n"):
+        rows = [line for line in block.splitlines() if line.startswith("  ") and line.strip()]
+        assert len({len(line) for line in rows}) <= 1, sorted({(len(line), line) for line in rows})[-2:]
     for label in ("Crop", "Stand life", "Establishment loan", "Lowest DSCR", "NPV"):
         assert any(line.strip().startswith(label) for line in lines), label
     crop = " ".join(line for line in lines if line.strip().startswith("Crop"))

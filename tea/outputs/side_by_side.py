@@ -99,7 +99,7 @@ def text_table(cases: Sequence[Case], results: Sequence[Results], width: int = W
     """The cases side by side as plain text, in blocks of as many columns as fit ``width`` characters."""
     groups = rows(cases, results, short=True)
     labels = [r.label for _, g in groups for r in g] + [t for t, _ in groups]
-    label_w = min(max(len(x) for x in labels), 34)
+    label_w = 2 + min(max(len(x) for x in labels), 34)  # the rows' labels, indented by two
     cols = []
     for i, case in enumerate(cases):
         texts = [r.cells[i][0] for _, g in groups for r in g]
@@ -123,7 +123,7 @@ def text_table(cases: Sequence[Case], results: Sequence[Results], width: int = W
         for title, group in groups:
             out.append(title)
             for r in group:
-                label = textwrap.shorten(r.label, label_w, placeholder="…")
+                label = textwrap.shorten(r.label, label_w - 2, placeholder="…")
                 out.append((f"  {label:<{label_w - 2}}" + "".join(
                     "  " + r.cells[i][0].rjust(cols[i][0]) for i in block)).rstrip())
         out.append("")
