@@ -421,3 +421,16 @@ def test_bad_input_as_a_subprocess(cli_subprocess, tmp_path):
     assert res.code == 2
     assert res.err.strip() == f"error: {path}: file not found"
     assert "Traceback" not in res.text
+
+
+def test_options_that_shape_only_files_are_warned_when_no_file_is_asked_for(tmp_path):
+    """`--sensitivity` and `--page-size` change only the files written: without one they would change
+    nothing, and a user must not think they did (one warning line each); with a file, no warning."""
+    case = CASES_DIR / "clay_corner_miscanthus.toml"
+    res = run_cli(["run", case, "--brief", "--sensitivity", "--page-size", "Letter"])
+    assert res.code == 0, res.text
+    warned = [line for line in res.err.splitlines() if line.startswith("warning: --")]
+    assert [w.split()[1] for w in warned] == ["--sensitivity", "--page-size"], res.err
+    assert all("none is asked for" in w for w in warned)
+    res = run_cli(["run", case, "--brief", "--sensitivity", "--xlsx", tmp_path / "a.xlsx"])
+    assert res.code == 0 and "warning: --sensitivity" not in res.err, res.err

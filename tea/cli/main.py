@@ -39,6 +39,18 @@ EXIT_STATUS: tuple[tuple[type[BaseException], int], ...] = (
 ERROR_LINE_LIMIT = 1000
 
 
+def _unused_options(args: argparse.Namespace) -> None:
+    """A warning for each option of `tea run` that shapes only output files when none is asked for: it would
+    change nothing, and the user should not think it did."""
+    files = {"--sensitivity": (args.sensitivity, (args.pdf, args.html, args.xlsx), "--pdf, --html or --xlsx",
+                               "; `tea sensitivity CASE` shows what moves the NPV here"),
+             "--page-size": (args.page_size, (args.pdf, args.html), "--pdf or --html", "")}
+    for option, (given, outputs, wanted, hint) in files.items():
+        if given and not any(outputs):
+            print(f"warning: {option} shapes only the files {wanted} write, and none is asked for{hint}",
+                  file=sys.stderr)
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     from tea.outputs import terminal
     from tea.model.ledger import build_ledger
@@ -49,6 +61,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     _check_outputs([(args.xlsx, (".xlsx",)), (args.pdf, (".pdf",)), (args.html, (".html", ".htm"))], args.force,
                    inputs=args.cases)
     sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
+    _unused_options(args)
     for case in cases:
         for w in case.warnings:
             print(f"warning: {w}", file=sys.stderr)
