@@ -49,9 +49,28 @@ def test_warnings_on_the_page_are_for_a_grower_and_technical_in_the_terminal(dem
     text = _page_text(case)
     said = text[text.index("Worth a second look"):text.index("Before you decide")]
     assert "pct.toml" not in said and "yield.site_factor" not in said and "check it)" not in said
-    assert "is 1.5, outside the usual range (up to 1.2)" in text and "the yield drives every receipt" in text
+    assert "is 150 %, outside the usual range (up to 120 %)" in text and "the yield drives every receipt" in text
     res = run_cli(["run", path, "--brief"])
     assert res.code == 0
     warned = [line for line in res.err_lines if line.startswith("warning:")]
     assert warned == [f"warning: {path}: yield.site_factor: 1.5 is unusual (expected ..1.2 [fraction]); check it"]
     assert "warning:" not in res.out  # once, on stderr
+
+
+def test_page_warnings_say_values_as_a_grower_reads_them(demo_mappings, tmp_path):
+    """A rate as a percentage a year, an area with thousands separators and its unit in words, a range's bound
+    rounded as people say it, and no key of the file in the words (common practice, as above)."""
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data["finance"]["discount_rate"] = 0.25
+    path = tmp_path / "rate.toml"
+    path.write_text(to_toml(data), encoding="utf-8")
+    text = _page_text(tea.load_case(path))
+    assert "Discount rate is 25 % a year, outside the usual range (0 to 20 % a year)" in text
+    assert "rate_basis" not in text and "fraction" not in text
+    us = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    us["field"]["area_acre"] = 20000
+    path = tmp_path / "wide.toml"
+    path.write_text(to_toml(us), encoding="utf-8")
+    case = tea.load_case(path)
+    assert any("(expected ..12355.3 [acre])" in w for w in case.warnings)  # the terminal's technical form
+    assert "Area planted is 20,000 acres, outside the usual range (up to about 12,000 acres)" in _page_text(case)

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 
-from tea.inputs import schema, units
+from tea.inputs import display, schema, units
 from tea.inputs.case import Case
 
 #: what a source note says when it is not a published source
@@ -72,9 +72,39 @@ def _key_of(spelled: str) -> schema.Key | None:
 
 
 def _label(k: schema.Key) -> str:
-    """A key's meaning in a few words: its description up to the first stop, colon or bracket."""
+    """A key's meaning in a few words: its description up to the first stop, colon or bracket, without a
+    clause that names a key of the file (a grower reads the page, not the file)."""
     words = re.split(r"[.:(;]", k.doc, maxsplit=1)[0].strip()
+    clauses = [c for c in words.split(", ") if not _KEY_NAME.search(c)] or [words]
+    words = ", ".join(clauses)
     return words[:1].upper() + words[1:]
+
+
+#: a key of the case file named in a description (``rate_basis``)
+_KEY_NAME = re.compile(r"\b[a-z0-9]+_[a-z0-9_]+\b")
+#: units said in words when a count of them is not one
+_PLURAL = {"acre": "acres", "yr": "years", "mile": "miles", "year": "years", "short ton": "short tons"}
+
+
+def _amount(text: str, unit: str | None, about: bool = False) -> str:
+    """A value of a warning said for a grower: shares as percentages (a yearly one 'a year'), other
+    quantities with thousands separators and their unit in words; ``about``: a range's bound, rounded to two
+    significant figures (12,355.3 acres: about 12,000 acres)."""
+    try:
+        value = float(text)
+    except ValueError:
+        return f"{text} {unit}".strip() if unit else text
+    if about and value:
+        rounded = float(f"{value:.2g}")
+        prefix = "about " if abs(rounded - value) > 1e-9 * abs(value) else ""
+        value = rounded
+    else:
+        prefix = ""
+    if unit and unit.startswith("fraction"):
+        shown = display.percent(value, 0 if float(f"{100 * value:.6g}").is_integer() else 1)
+        return prefix + shown + (" a year" if unit.endswith("/yr") else "")
+    word = (_PLURAL.get(unit, unit) if value != 1 else unit) if unit else ""
+    return prefix + f"{display.number(value)} {word}".strip()
 
 
 def grower_warning(text: str) -> str:
@@ -90,10 +120,14 @@ def grower_warning(text: str) -> str:
     why = WHY.get(key.section, "it changes the figures")
     unusual = _UNUSUAL.match(m["message"])
     if unusual:
-        unit = f" {unusual['unit']}" if unusual["unit"] and unusual["unit"] != "fraction" else ""
-        lo, hi = unusual["lo"], unusual["hi"]
-        bound = f"{lo} to {hi}" if lo and hi else (f"up to {hi}" if hi else f"from {lo}")
-        return (f"{_label(key)} is {unusual['value']}{unit}, outside the usual range ({bound}{unit}): check it, "
+        unit, lo, hi = unusual["unit"], unusual["lo"], unusual["hi"]
+        low, high = _amount(lo, unit, about=True), _amount(hi, unit, about=True)
+        if lo and hi:  # the unit said once: "0 to 20 % a year"
+            number = re.match(r"(?:about )?[0-9,.\-\u2212]+", low)
+            if number and low[number.end():] == high[len(high) - len(low) + number.end():]:
+                low = number.group().strip()
+        bound = f"{low} to {high}" if lo and hi else (f"up to {high}" if hi else f"from {low}")
+        return (f"{_label(key)} is {_amount(unusual['value'], unit)}, outside the usual range ({bound}): check it, "
                 f"because {why}.")
     message = m["message"]
     return f"{_label(key)}: {message}; check it, because {why}."
