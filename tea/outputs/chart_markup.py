@@ -63,8 +63,9 @@ class Chart:
 
     @property
     def data_uri(self) -> str:
-        """The SVG as a ``data:`` URL (the PDF engine draws it as an image: the same picture, laid out faster)."""
-        return "data:image/svg+xml;base64," + base64.b64encode(self.svg.encode("utf-8")).decode("ascii")
+        """The SVG as a ``data:`` URL for the PDF engine, which draws it as an image: the same picture, laid
+        out faster (:func:`for_engine`)."""
+        return "data:image/svg+xml;base64," + base64.b64encode(for_engine(self.svg).encode("utf-8")).decode("ascii")
 
     @property
     def src(self) -> str:
@@ -136,3 +137,39 @@ def tidy(svg: str) -> str:
         return "" if only_named else tag
 
     return _NO_ROTATION.sub("", _GROUP.sub(group, svg))
+
+
+_SHEET = re.compile(r'\s*<defs>\s*<style type="text/css">\*\{(?P<rules>[^}<]*)\}</style>\s*</defs>')
+_STYLED = re.compile(r'<(?P<tag>[a-zA-Z]+)(?P<attrs>[^>]*?) style="(?P<style>[^"]*)"')
+_ATTR_NAME = re.compile(r'\s([a-zA-Z:-]+)="')
+
+
+def _declarations(text: str) -> list[tuple[str, str]]:
+    return [(n.strip(), v.strip()) for n, _, v in (d.partition(":") for d in text.split(";")) if n.strip()]
+
+
+def for_engine(svg: str) -> str:
+    """A chart's SVG as the PDF engine draws it fastest, with the same picture: each element's ``style``
+    declarations as its presentation attributes (the engine parses a style attribute as CSS for every
+    element it draws), and matplotlib's one style sheet (``*{stroke-linejoin: round; stroke-linecap: butt}``)
+    as attributes of the root, which every element inherits unless it sets its own. An element that has an
+    attribute of the same name as one of its declarations keeps its style attribute. The HTML page keeps
+    matplotlib's markup.
+
+    >>> for_engine('<svg x="1"><defs><style type="text/css">*{stroke-linecap: butt}</style></defs>'
+    ...            '<path d="M 0 0" style="fill: none; stroke: #000"/></svg>')
+    '<svg stroke-linecap="butt" x="1"><path d="M 0 0" fill="none" stroke="#000"/></svg>'
+    """
+    sheet = _SHEET.search(svg)
+    if sheet is not None:
+        root = "".join(f' {n}="{v}"' for n, v in _declarations(sheet["rules"]))
+        svg = svg[:sheet.start()] + svg[sheet.end():]
+        svg = svg.replace("<svg", "<svg" + root, 1)
+
+    def attributes(m: re.Match) -> str:
+        declared = _declarations(m["style"])
+        if {n for n, _ in declared} & set(_ATTR_NAME.findall(m["attrs"])):
+            return m.group(0)
+        return f'<{m["tag"]}{m["attrs"]}' + "".join(f' {n}="{v}"' for n, v in declared)
+
+    return _STYLED.sub(attributes, svg)

@@ -63,7 +63,7 @@ def _fetcher(weasyprint):
     (see :func:`layout`): the chart, or a placeholder of its size. A chart it
     cannot give stops the layout.
     """
-    from tea.outputs.chart_markup import LATER
+    from tea.outputs.chart_markup import LATER, for_engine
 
     urls = weasyprint.urls
 
@@ -79,7 +79,8 @@ def _fetcher(weasyprint):
                     raise urls.FatalURLFetchingError(f"chart {name!r}: {exc}") from exc
                 if not svg:
                     raise urls.FatalURLFetchingError(f"chart {name!r}: not drawn")
-                return urls.URLFetcherResponse(url, body=svg.encode("utf-8"), headers={"Content-Type": "image/svg+xml"})
+                return urls.URLFetcherResponse(url, body=for_engine(svg).encode("utf-8"),
+                                               headers={"Content-Type": "image/svg+xml"})
             return super().fetch(url, headers)
 
     return PageFetcher(allowed_protocols=("data",))
@@ -227,12 +228,12 @@ def draw_in(images: dict, charts: Mapping[str, str]) -> bool:
     """
     from xml.etree import ElementTree
 
-    from tea.outputs.chart_markup import LATER
+    from tea.outputs.chart_markup import LATER, for_engine
 
     for url, image in images.items():
         if not url.startswith(LATER + ":"):
             continue
-        svg = charts.get(url[len(LATER) + 1:])
+        svg = for_engine(charts.get(url[len(LATER) + 1:]))
         try:
             image.__init__(ElementTree.fromstring(svg.encode("utf-8")), image._base_url, image._url_fetcher,
                            image._context)
