@@ -291,6 +291,14 @@ def test_sheets_print_setup_and_properties(tmp_path, demo):
         charts = [zf.read(n).decode() for n in zf.namelist() if n.startswith("xl/charts/chart")]
     assert any("Summary!" in c and "Covenant" in c and "DSCR" in c for c in charts)  # DSCR against the covenant
     assert any("Sensitivity!" in c for c in charts)
+    # each chance of the risk sheet says how sure it is: a standard error where some draws fall each way, the
+    # exact one-sided bound where none or all do (Clopper and Pearson, Biometrika 26(4), 1934), never a
+    # standard error of 0
+    chances = [r[:3] for r in wb["Risk"].iter_rows(values_only=True) if str(r[0]).startswith("P(")]
+    assert len(chances) == 3, chances
+    for label, value, note in chances:
+        assert note.startswith("s.e. ") if 0 < value < 1 else "at 95% confidence" in note, (label, value, note)
+        assert "0.0% (standard error" not in note
 
 
 def test_units_are_shown_once(tmp_path, demo):

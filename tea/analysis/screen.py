@@ -154,11 +154,23 @@ def _screen_chunk(fields_table: FieldTable, chunk: list[Record], bad: list[BadRo
     return pd.DataFrame(columns)
 
 
-def _units_note(case: Case) -> str:
+def _units_note(case: Case, terminal: bool = False) -> str:
+    """What the numbers of a screen are in: of its files (rates as fractions), or of its terminal view,
+    whose table marks whole-field figures by name and shows the IRR in percent."""
     per = "acre" if case.unit_system == "us_customary" else "ha"
     units = "short tons, miles" if case.unit_system == "us_customary" else "t, km"
-    return (f"money in {case.currency}; figures per {per} ({units}; carbon in metric t) unless the column ends in "
-            "_field (whole field); rates and IRR as fractions (0.08 = 8 %); years counted from planting (year 0)")
+    if terminal:
+        whole, rates = ("in a column marked 'field' (whole field)",
+                        "IRR in percent (a fraction in the ranked file: 8.0 % = 0.08)")
+    else:
+        whole, rates = "the column ends in _field (whole field)", "rates and IRR as fractions (0.08 = 8 %)"
+    return (f"money in {case.currency}; figures per {per} ({units}; carbon in metric t) unless {whole}; {rates}; "
+            "years counted from planting (year 0)")
+
+
+def terminal_units_note(case: Case) -> str:
+    """The units note of a screen's terminal view (see :func:`_units_note`)."""
+    return _units_note(case, terminal=True)
 
 
 def _rename_with_units(table, case: Case):

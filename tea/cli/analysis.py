@@ -98,6 +98,8 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     res = risk.run(case, draws=args.draws, seed=args.seed, progress=_progress(args))
     if args.plot:  # files first
         _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
+    for w in res.warnings:
+        print(f"warning: {w}", file=sys.stderr)
     if args.json:
         say(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
     else:

@@ -10,7 +10,9 @@ A problem in one row skips that row only, and is reported with the row's line
 in the file: a line that is not UTF-8 text, malformed quoting (a quoted cell
 not closed on its line, text after a closing quote), a line or a cell too
 long to be a field's (:data:`MAX_CELL_CHARS`, :data:`MAX_LINE_BYTES`), a cell
-that is not a number where one is expected or out of range, an empty area.
+that is not a number where one is expected or out of range, an empty area, a
+row with more or fewer cells than the header has columns (never filled up
+with the base case's values: a cell missing anywhere would shift the rest).
 Only a file whose header cannot be read, or whose columns contradict each
 other, is refused as a whole. A field id given twice is a warning. The file
 is read line by line, so its size does not bound what can be read, and a
@@ -415,6 +417,28 @@ def _number_reason(text: str) -> str:
     return f"expected a number, got {brief(text)}{hint}"
 
 
+def _width_problem(cells: list[str], width: int) -> str:
+    """Why a row's cells cannot be matched to the header's ``width`` columns ("" when they can).
+
+    A cell missing or one too many may sit anywhere in the row, so every cell after it could be in the
+    wrong column: such a row is never filled up with the base case's values nor cut to the header.
+
+    >>> print(_width_problem(["F", "5", "0.9"], 5))
+    expected 5 cells, one per header column, got 3; to keep a base value leave its cell empty
+    >>> print(_width_problem(["F", "5", "x"], 2))
+    expected 2 cells, one per header column, got 3: a value ('x') in no known column
+    """
+    n = len(cells)
+    if n == width:
+        return ""
+    expected = f"expected {width} cells, one per header column, got {n}"
+    if n < width:
+        return expected + "; to keep a base value leave its cell empty"
+    extra = next((v for v in cells[width:] if v), None)
+    return expected + (f": a value ({brief(extra)}) in no known column" if extra is not None
+                       else ": empty cells after the last column (a delimiter too many?)")
+
+
 class _Checker:
     """Checks and merges the rows of a field table over a base case, chunk by chunk."""
 
@@ -474,16 +498,12 @@ class _Checker:
             bad_rows.append(BadRow(chunk[i].line, chunk[i].row, column, clip(value, 200), reason))
 
         for i, record in enumerate(chunk):
-            if record.problem:
+            problem = record.problem or _width_problem(record.cells, width)
+            if problem:
                 good[i] = False
-                bad_rows.append(BadRow(record.line, record.row, "", "", record.problem))
-                continue
-            cells = record.cells
-            if len(cells) > width:
-                extra = [v for v in cells[width:] if v]
-                if extra:
-                    flag(i, "", extra[0], f"{len(cells)} cells but the header names {width} columns: "
-                         f"a value ({brief(extra[0])}) in no known column")
+                unreadable[i] = True  # its one problem: a row whose cells cannot be matched to the columns
+                extra = next((v for v in record.cells[width:] if v), "")
+                bad_rows.append(BadRow(record.line, record.row, "", clip(extra, 200), problem))
         # the table column by column: each an object array of stripped strings
         padded = [r.cells[:width] + [""] * (width - len(r.cells)) if len(r.cells) != width else r.cells
                   for r in chunk]

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from tea.analysis.risk import PERCENTILES, RiskResult
+from tea.analysis.risk import BOUND_CONFIDENCE, PERCENTILES, Probability, RiskResult
 from tea.analysis.sensitivity import Sensitivity, Surface, _display_factor, _unit
 from tea.inputs import riskspec, units
 from tea.inputs.case import Case
@@ -149,13 +149,10 @@ def risk_text(res: RiskResult) -> str:
     for r in table:
         out.append("  ".join(v.ljust(widths[0]) if j == 0 else v.rjust(widths[j]) for j, v in enumerate(r)))
     out.append("")
-    pr = res.prob_npv_negative
-    out.append(f"P(NPV < 0) = {pr.value:.1%} (s.e. {pr.se:.1%})")
-    pr = res.prob_npv_vs_current_use_negative
-    out.append(f"P(NPV vs current use < 0) = {pr.value:.1%} (s.e. {pr.se:.1%})")
+    out.append(probability_line("P(NPV < 0)", res.prob_npv_negative))
+    out.append(probability_line("P(NPV vs current use < 0)", res.prob_npv_vs_current_use_negative))
     if res.prob_dscr_below_covenant is not None:
-        pr = res.prob_dscr_below_covenant
-        out.append(f"P(lowest DSCR < covenant {res.covenant:.2f}) = {pr.value:.1%} (s.e. {pr.se:.1%})")
+        out.append(probability_line(f"P(lowest DSCR < covenant {res.covenant:.2f})", res.prob_dscr_below_covenant))
     for note in res.notes:
         out.append(f"note: {note}")
     out.append("")
@@ -178,6 +175,36 @@ def risk_text(res: RiskResult) -> str:
     out.append("Cautions:")
     out.extend(f"  - {x}" for x in CAUTIONS)
     return _joined(out)
+
+
+def probability_line(label: str, pr: Probability) -> str:
+    """A chance from the draws with its standard error, or, where none or all of the draws count (the
+    standard error would be 0), the one-sided bound the draws allow (:class:`tea.analysis.risk.Probability`).
+
+    >>> from tea.analysis.risk import Probability
+    >>> probability_line("P(NPV < 0)", Probability(0.25, 0.0137, 1000))
+    'P(NPV < 0) = 25.0% (s.e. 1.4%)'
+    >>> probability_line("P(NPV < 0)", Probability(0.0, 0.0, 1))
+    'P(NPV < 0) = 0.0% (in none of 1 draw: below 95.0% at 95% confidence)'
+    """
+    if pr.of == 0 or pr.value != pr.value:
+        return f"{label}: no draw to count"
+    return f"{label} = {pr.value:.1%} ({probability_note(pr)})"
+
+
+def probability_note(pr: Probability, count: bool = False) -> str:
+    """How sure a chance from the draws is: its standard error (``count``: and of how many draws), or the
+    one-sided bound where none or all of the draws count (:func:`probability_line`)."""
+    draws = f"{pr.of:,} draw{'s' if pr.of != 1 else ''}"
+    if pr.upper_bound is not None:
+        why = f"in none of {draws}: below {pr.upper_bound:.1%} at {BOUND_CONFIDENCE:.0%} confidence"
+    elif pr.lower_bound is not None:
+        why = f"in all of {draws}: above {pr.lower_bound:.1%} at {BOUND_CONFIDENCE:.0%} confidence"
+    elif pr.standard_error is not None:
+        why = f"s.e. {pr.standard_error:.1%}"
+    else:
+        why = f"{draws}: no standard error"
+    return f"{why}, {draws}" if count and pr.standard_error is not None else why
 
 
 def _joined(lines: list[str]) -> str:

@@ -12,7 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from tea import __version__
-from tea.analysis.screen import ScreenResult
+from tea.analysis.screen import ScreenResult, terminal_units_note
 from tea.inputs.fieldtable import ID_COLUMN
 from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
@@ -162,7 +162,7 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
     out.append("=" * len(out[0]))
     out.append(f"{result.rows_read} rows read; {result.rows_evaluated} fields evaluated; "
                f"{result.rows_skipped} rows skipped" + (" (see the error file)" if result.rows_skipped else ""))
-    out.append(wrapped(result.units_note))
+    out.append(wrapped(terminal_units_note(case)))  # the file's note says fractions; this table shows percent
     table = result.table
     if len(table):
         per = "acre" if case.unit_system == "us_customary" else "ha"

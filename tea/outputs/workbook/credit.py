@@ -16,6 +16,7 @@ from tea.core.texts import CAUTIONS
 from tea.inputs import display
 from tea.inputs.case import Case
 from tea.model.declare import Def
+from tea.outputs.analysis_text import probability_note
 from tea.outputs.workbook.layout import (CHECKS, CLIMATE, FIG_FIELD_COL, FIG_VALUE_COL, FIGURES, NOTES, RISK, SENSITIVITY,
                                          SUMMARY, CaseLayout)
 from tea.outputs.workbook.sheets import SheetWriter, cached, text, xl
@@ -427,7 +428,7 @@ class CreditWriter(SheetWriter):
             text(ws, r, 0, label, st("label"))
             if not _nan(p.value):
                 ws.write_number(r, 1, p.value, st("value", "0.0%"))
-                text(ws, r, 2, f"± {p.se:.1%} (standard error, {p.of:,} draws)", st("keyname"))
+                text(ws, r, 2, probability_note(p, count=True), st("keyname"))
             r += 1
         for note in res.notes:
             text(ws, r, 0, note, st("keyname"))
