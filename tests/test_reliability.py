@@ -545,9 +545,27 @@ def test_hole_12_stale_part_files_of_our_own_are_cleaned(tmp_path):
     assert out.exists() and not dead.exists() and alive.exists() and other.exists()
 
 
+def _until_watching(proc, most: float = 30.0) -> None:
+    """Wait until the command has started its first thread, the one that waits for Ctrl-C (the interpreter
+    starts none of its own, and tea starts it before it loads anything): a signal before then falls on the
+    interpreter's own start-up, which tea cannot take it from."""
+    import time
+
+    tasks = Path(f"/proc/{proc.pid}/task")
+    end = time.perf_counter() + most
+    while time.perf_counter() < end and proc.poll() is None:
+        try:
+            if len(list(tasks.iterdir())) >= 2:
+                return
+        except OSError:
+            return
+        time.sleep(0.002)
+
+
 @pytest.mark.parametrize("after", [0.1, 0.25, "late"])
 def test_an_interrupt_ends_the_run_quietly(tmp_path, after):
-    """Ctrl-C (SIGINT, POSIX) while tea loads its libraries (0.1 s, 0.25 s) or late in the run, while it
+    """Ctrl-C (SIGINT, POSIX) while tea loads its libraries (0.1 s, 0.25 s after it starts watching for the
+    signal, which on a loaded machine may be well after the process started) or late in the run, while it
     lays out and draws the page with its worker processes: exit 130 and one line, no traceback, no file,
     no worker left. The numerical libraries start native threads that could take the signal; under load
     the run once finished as if never interrupted, or died by the signal after reporting it.
@@ -573,6 +591,8 @@ def test_an_interrupt_ends_the_run_quietly(tmp_path, after):
         tries = [after]
     for wait in tries:
         proc = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
+        if after != "late":
+            _until_watching(proc)
         time.sleep(wait)
         proc.send_signal(signal.SIGINT)
         _, err = proc.communicate(timeout=120)
