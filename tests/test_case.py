@@ -345,4 +345,31 @@ def test_a_wrong_value_is_told_in_the_units_and_currency_the_case_uses():
         load_text(bad, source="us.toml")
     [problem] = [p for p in err.value.problems if "current_margin" in p.key]
     assert problem.key == "field.current_margin_per_acre"
-    assert problem.message == "expected a number [USD/acre/yr], got 'lots'"
+    assert problem.message == "expected a number [USD/acre/yr], got \"lots\""
+
+
+@pytest.mark.parametrize(("section", "key", "value", "currency", "warned"), [
+    ("revenue", "price_per_t_dm", 1e9, "EUR", True),          # a price typed with digits repeated
+    ("establishment", "site_preparation_per_ha", 1e12, "EUR", True),
+    ("revenue", "price_per_t_dm", 400.0, "EUR", False),       # dear, but a price some contracts pay
+    ("revenue", "price_per_t_dm", 15_000.0, "JPY", False),    # a currency of about a hundredth of a euro
+    ("revenue", "price_per_t_dm", 1e9, "JPY", True),
+])
+def test_a_money_input_far_above_what_a_stand_costs_or_earns_is_pointed_out(demo_mappings, section, key, value,
+                                                                            currency, warned):
+    """Money inputs have no physical bound, but a biomass price of a billion per tonne is a slip (common
+    practice: biomass sells for tens to a couple of hundred per t DM in a currency of about a dollar; the
+    ceilings are ten times that or more): a warning in the terminal's technical form, naming the key."""
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data[section][key] = value
+    data["case"]["currency"] = currency
+    case = load_text(to_toml(data), source="money.toml")
+    said = [w for w in case.warnings if f"{section}.{key}:" in w and "is unusual" in w]
+    assert bool(said) == warned, case.warnings
+    if warned:
+        assert said[0].startswith(f"money.toml: {section}.{key}: {value:g} is unusual (expected ..")
+
+
+def test_the_demo_cases_have_no_unusual_money_input():
+    for path in sorted(CASES_DIR.glob("*.toml")):
+        assert not [w for w in load_case(path).warnings if "is unusual" in w], path

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import math
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -90,7 +91,7 @@ BAD_MAPPINGS = {
     "missing_required": (_pop("costs", "removal_per_ha"), [("costs.removal_per_ha", "missing value: expected a number [EUR/ha]")]),
     # an unknown key with no near match: the keys the section takes
     "unknown_key_far": (_set("yield", qqq=1), [("yield.qqq", "unknown key; [yield] takes mature_t_dm_per_ha, fresh_moisture")]),
-    "wrong_type_text": (_set("field", area_ha="six"), [("field.area_ha", "expected a number [ha], got 'six'")]),
+    "wrong_type_text": (_set("field", area_ha="six"), [("field.area_ha", "expected a number [ha], got \"six\"")]),
     "wrong_type_bool": (_set("yield", site_factor=True), [("yield.site_factor", "expected a number")]),
     "wrong_type_int": (_set("finance", stand_life_years=20.5), [("finance.stand_life_years", "expected a whole number")]),
     "wrong_type_enum": (_set("harvest", timing="spring"), [("harvest.timing", "expected one of autumn, late_winter")]),
@@ -115,7 +116,7 @@ BAD_MAPPINGS = {
                                   [("yield.mature_short_ton_dm_per_acre", "far above the highest recorded")]),
     "stand_life_1": (_set("finance", stand_life_years=1), [("finance.stand_life_years", "must be >= 2, got 1")]),
     "unknown_preset": (_set("crop", preset="bamboo"),
-                       [("crop.preset", "unknown crop preset 'bamboo'; expected one of coppice, poplar_coppice, rhizome_grass")]),
+                       [("crop.preset", "unknown crop preset \"bamboo\"; expected one of coppice, poplar_coppice, rhizome_grass")]),
     "missing_preset": (_pop("crop", "preset"), [("crop.preset", "missing value")]),
     "same_key_two_spellings": (_set("field", area_acre=15.8), [("field.area_acre", "given twice (also as field.area_ha)")]),
     "both_prices": (_set("revenue", price_per_gj=5.5), [("revenue.price_per_gj", "give one price")]),
@@ -397,10 +398,19 @@ def test_presets_lists_every_preset():
 def test_presets_verbose_lists_every_value_with_source():
     res = run_cli(["presets", "-v"])
     assert res.code == 0
+    blocks = {}  # each preset's lines, under its name
+    for line in res.out.splitlines():
+        if line and not line.startswith(" ") and ":" in line:
+            blocks[line.split(":", 1)[0]] = []
+        elif blocks:
+            blocks[list(blocks)[-1]].append(line)
     for name in preset_names():
         preset = tea.load_preset(name)
         for path, source in preset.sources.items():
-            assert f"{path} = {preset.values[path]!r}    # {source}" in res.out
+            # each value written as a case file writes it: read back by the standard library's TOML parser
+            line = next(t for t in blocks[name] if t.strip().startswith(f"{path} = ") and t.endswith(source))
+            written = line.split(" = ", 1)[1][: -len(f"    # {source}")]
+            assert tomllib.loads(f"x = {written}")["x"] == preset.values[path], line
 
 
 def test_version_in_process():

@@ -239,3 +239,15 @@ def test_us_terminal_labels_name_no_metric_unit():
     assert labels, res.out
     assert not [t for t in labels if re.search(r"\b(t DM|t C|t CO2e|ha)\b", t)], labels
     assert any(t.strip() == "Net GHG per short ton DM" for t in labels), labels
+
+
+def test_a_carbon_credit_price_in_a_us_case_says_its_ton_is_metric():
+    """Carbon credits are counted in metric tonnes of CO2e wherever they are sold (common practice: one
+    credit, one tonne), while a US case shows carbon stocks in short tons: the price's unit says which ton."""
+    from tea.inputs import schema
+
+    key = schema.BY_PATH["carbon.credit_price_per_t_co2e"]
+    assert key.unit_text("us_customary", "USD") == "USD/metric ton CO2e"
+    assert key.unit_text("metric", "EUR") == "EUR/t CO2e"
+    res = run_cli(["sensitivity", SANDY])
+    assert res.code == 0 and "USD/metric ton CO2e" in res.out and "USD/t CO2e" not in res.out, res.out

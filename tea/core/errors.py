@@ -20,6 +20,26 @@ INTERRUPTED = 130
 INTERRUPTED_MESSAGE = "interrupted; no output file was left half-written"
 
 
+def read_refused(exc: OSError, expected: str = "a case file (.toml)") -> str:
+    """Why the machine would not let an input be read, in words: no errno, no repeated path.
+
+    >>> read_refused(IsADirectoryError(21, "Is a directory", "cases"))
+    'cannot read the file: it is a folder; expected a case file (.toml)'
+    >>> read_refused(PermissionError(13, "Permission denied", "a.toml"))
+    'cannot read the file: permission denied'
+    >>> read_refused(OSError(5, "Input/output error", "a.toml"))
+    'cannot read the file: input/output error'
+    """
+    if isinstance(exc, IsADirectoryError):
+        return f"cannot read the file: it is a folder; expected {expected}"
+    if isinstance(exc, FileNotFoundError):
+        return "file not found"
+    if isinstance(exc, PermissionError):
+        return "cannot read the file: permission denied"
+    reason = exc.strerror or exc.__class__.__name__
+    return f"cannot read the file: {reason[:1].lower()}{reason[1:]}"
+
+
 class TeaError(Exception):
     """Base class of every error `tea` raises on purpose."""
 

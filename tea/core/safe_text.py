@@ -16,11 +16,17 @@ One routine per kind of destination, used by every writer:
   backspace, DEL, C1) and bidirectional overrides shown as visible escapes.
 * :func:`brief` — an offending value quoted in an error line: at most about
   80 characters of it.
+* :func:`toml_value` — an offending value of a case file quoted in an error
+  line as it is written in TOML (``true``, ``"text"``, ``[1, 2]``,
+  ``{ value = 10 }``): at most about 80 characters of it.
 * :func:`clip` — any text cut to a length with a visible mark.
 """
 
 from __future__ import annotations
 
+import datetime
+import json
+import math
 import re
 
 #: characters a spreadsheet cell holds (Excel's limit; LibreOffice's is the same for xlsx)
@@ -86,6 +92,68 @@ def brief(value: object, limit: int = SHOWN_LIMIT) -> str:
     if isinstance(value, int) and value.bit_length() > 4 * limit:  # too long to write out, and to convert
         return f"a whole number of about {int(value.bit_length() * 0.30103):,} digits"
     return clip(repr(value), limit)
+
+
+_BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
+#: containers nested deeper than this are shown as ``[…]`` / ``{…}`` (an error line shows little of them anyway)
+_SHOWN_DEPTH = 8
+
+
+def _toml_string(text: str) -> str:
+    """A TOML basic string: JSON's escapes (TOML has the same), and every character that does not print
+    (controls, direction overrides, line separators) as a ``\\uXXXX`` escape."""
+    body = json.dumps(text, ensure_ascii=False)
+    return "".join(ch if ch.isprintable() else
+                   (f"\\u{ord(ch):04x}" if ord(ch) <= 0xFFFF else f"\\U{ord(ch):08x}") for ch in body)
+
+
+def _toml(value: object, depth: int = 0) -> str:
+    """``value`` written as TOML (containers deeper than :data:`_SHOWN_DEPTH` elided)."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int):
+        if value.bit_length() > 4 * SHOWN_LIMIT:  # too long to write out, and to convert
+            return f"a whole number of about {int(value.bit_length() * 0.30103):,} digits"
+        return str(value)
+    if isinstance(value, float):
+        if math.isnan(value):
+            return "nan"
+        if math.isinf(value):
+            return "inf" if value > 0 else "-inf"
+        return repr(value)
+    if isinstance(value, str):
+        return _toml_string(value)
+    if isinstance(value, (datetime.datetime, datetime.date, datetime.time)):
+        return value.isoformat()
+    if isinstance(value, (list, tuple)):
+        if depth >= _SHOWN_DEPTH and value:
+            return "[…]"
+        return "[" + ", ".join(_toml(item, depth + 1) for item in value) + "]"
+    if isinstance(value, dict):
+        if not value:
+            return "{}"
+        if depth >= _SHOWN_DEPTH:
+            return "{ … }"
+        return "{ " + ", ".join(f"{_toml_key(key)} = {_toml(item, depth + 1)}" for key, item in value.items()) + " }"
+    return repr(value)
+
+
+def _toml_key(key: object) -> str:
+    return key if isinstance(key, str) and _BARE_KEY.fullmatch(key) else _toml_string(str(key))
+
+
+def toml_value(value: object, limit: int = SHOWN_LIMIT) -> str:
+    """An offending value of a case file as an error line quotes it: written as in TOML, at most ``limit``
+    characters, on one line.
+
+    >>> toml_value({"value": 10}), toml_value(True), toml_value("yes"), toml_value([1, 2.5])
+    ('{ value = 10 }', 'true', '"yes"', '[1, 2.5]')
+    >>> toml_value(float("inf")), toml_value("two\\nlines \\u202e"), toml_value({"a b": [], "c": {}})
+    ('inf', '"two\\\\nlines \\\\u202e"', '{ "a b" = [], c = {} }')
+    >>> toml_value("X" * 10_000)
+    '"XXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXX… [cut: 10,002 characters]'
+    """
+    return clip(_toml(value), limit)
 
 
 def csv_cell(text: str) -> str:

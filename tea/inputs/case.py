@@ -26,8 +26,8 @@ from tea.methods import finance
 from tea.inputs import published
 from tea.inputs import rules, schema, site, units
 from tea.inputs.rules import COMMON_CURRENCIES, currency_problem, harvest_energy_problem  # noqa: F401
-from tea.core.errors import CaseError, Problem
-from tea.core.safe_text import SHOWN_LIMIT, brief, clip
+from tea.core.errors import CaseError, Problem, read_refused
+from tea.core.safe_text import SHOWN_LIMIT, clip, toml_value
 
 YIELD_CEILING_T_DM_PER_HA = schema.YIELD_CEILING_T_DM_PER_HA
 
@@ -71,7 +71,7 @@ def preset_names() -> list[str]:
 def load_preset(name: str) -> Preset:
     """Read a packaged preset. Raises KeyError naming the valid presets."""
     if name not in preset_names():
-        raise KeyError(f"unknown crop preset {brief(name)}; valid presets: {', '.join(preset_names())}")
+        raise KeyError(f"unknown crop preset {toml_value(name)}; valid presets: {', '.join(preset_names())}")
     text = resources.files("tea.inputs.presets").joinpath(f"{name}.toml").read_text(encoding="utf-8")
     data = tomllib.loads(text)
     head = data.pop("preset")
@@ -220,17 +220,35 @@ def load_case(path: str | Path) -> Case:
     """
     path = Path(path)
     source = str(path)
+    if path.is_dir():
+        raise CaseError([Problem(source, "", read_refused(IsADirectoryError()))])
     if not path.exists():
         raise CaseError([Problem(source, "", "file not found")])
     if path.suffix.lower() == ".xlsx":
         return _load_workbook(path, source)
     try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise CaseError([Problem(source, "", "file not found")]) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise CaseError([Problem(source, "", f"cannot read the file ({exc.__class__.__name__}: {exc})")]) from None
-    return load_text(text, source=source)
+        data = path.read_bytes()
+    except OSError as exc:
+        raise CaseError([Problem(source, "", read_refused(exc))]) from None
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise CaseError([Problem(source, "", not_utf8(data, exc.start))]) from None
+    return load_text(text.replace("\r\n", "\n").replace("\r", "\n"), source=source)  # line ends as text mode reads them
+
+
+def not_utf8(data: bytes, start: int) -> str:
+    r"""Where the first byte that is not UTF-8 (at ``start``) sits in ``data``: line and column, the column
+    counted in characters.
+
+    >>> not_utf8(b'a = 1\nname = "Caf\xe9"\n', 17)
+    'cannot read the file: not UTF-8 text: line 2, column 12 holds the byte 0xe9; save the file as UTF-8'
+    """
+    line_start = data.rfind(b"\n", 0, start) + 1
+    line = data.count(b"\n", 0, start) + 1
+    column = len(data[line_start:start].decode("utf-8")) + 1
+    return (f"cannot read the file: not UTF-8 text: line {line}, column {column} holds the byte "
+            f"0x{data[start]:02x}; save the file as UTF-8")
 
 
 def _load_workbook(path: Path, source: str) -> Case:
@@ -337,44 +355,45 @@ def _type_error(k: schema.Key, value: Any, system: str = "metric", currency: str
     is_num = isinstance(value, (int, float)) and not isinstance(value, bool)
 
     def too_big() -> str:
-        return f"expected {_expected(k, system, currency)} of size at most {MAGNITUDE_LIMIT:g}, got {brief(value)}"
+        return f"expected {_expected(k, system, currency)} of size at most {MAGNITUDE_LIMIT:g}, got {toml_value(value)}"
 
     if k.kind == "float":
         if not is_num:
-            return f"expected {_expected(k, system, currency)}, got {brief(value)}"
+            return f"expected {_expected(k, system, currency)}, got {toml_value(value)}"
         if isinstance(value, float) and not math.isfinite(value):
-            return f"expected a finite number, got {brief(value)}"
+            return f"expected a finite number, got {toml_value(value)}"
         if abs(value) > MAGNITUDE_LIMIT:  # exact for any int: no conversion to float
             return too_big()
     elif k.kind == "int":
         if isinstance(value, float) and value.is_integer():
             return too_big() if abs(value) > MAGNITUDE_LIMIT else None
         if not (isinstance(value, int) and not isinstance(value, bool)):
-            return f"expected a whole number, got {brief(value)}"
+            return f"expected a whole number, got {toml_value(value)}"
         if abs(value) > MAGNITUDE_LIMIT:
             return too_big()
     elif k.kind in ("str", "enum"):
         if not isinstance(value, str):
-            return f"expected {_expected(k, system, currency)}, got {brief(value)}"
+            return f"expected {_expected(k, system, currency)}, got {toml_value(value)}"
         if k.kind == "enum" and value not in k.choices:
-            return f"expected one of {', '.join(k.choices)}, got {brief(value)}" + _suggest(value, k.choices)
+            return f"expected one of {', '.join(k.choices)}, got {toml_value(value)}" + _suggest(value, k.choices)
     elif k.kind == "bool":
         if not isinstance(value, bool):
-            return f"expected true or false, got {brief(value)}"
+            return f"expected true or false, got {toml_value(value)}"
     elif k.kind == "list":
         if not isinstance(value, list) or not value:
-            return f"expected a non-empty list of numbers, got {brief(value)}"
+            return f"expected a non-empty list of numbers, got {toml_value(value)}"
         for v in value:
             if isinstance(v, bool) or not isinstance(v, (int, float)) or \
                     (isinstance(v, float) and not math.isfinite(v)) or abs(v) > MAGNITUDE_LIMIT:
-                return f"expected a list of finite numbers, got {brief(value)}"
+                return f"expected a list of finite numbers, got {toml_value(value)}"
     return None
 
 
-def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str | None:
+def _range_error(k: schema.Key, value: Any, factor: float, system: str, typed: Any = None) -> str | None:
     """Why a canonical ``value`` is outside the key's physical range, or None.
 
-    Bounds are shown in the unit the case used (``factor`` converts to canonical).
+    Bounds are shown in the unit the case used (``factor`` converts to canonical); ``typed`` is the value as
+    the case wrote it (``70``, not ``70.0``), where known.
     """
     if k.kind not in ("float", "int", "list") or (k.lo is None and k.hi is None):
         return None
@@ -387,21 +406,24 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str) -> str |
         if k.hi is not None and (v > k.hi or (k.hi_open and v == k.hi)):
             sign = "<" if k.hi_open else "<="
             unit = " (as a fraction: 0.2 means 20 %)" if k.unit.startswith("fraction") and k.hi == 1.0 else ""
-            if k.unit.startswith("fraction") and all(x / 100 <= k.hi and (k.lo is None or x / 100 >= k.lo)
-                                                     for x in items):  # a percentage typed as a whole number
-                fractions = [f"{x / 100:g}" for x in items]
-                written = f"[{', '.join(fractions)}]" if isinstance(value, list) else fractions[0]
-                return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
-                        f"write fractions, {written} for {_as_typed(value)}")
+            if k.unit.startswith("fraction"):  # a percentage typed as a whole number: the entries above the bound
+                # shown as written in the case file, or (a number read from a table cell) in its shortest form
+                show = toml_value if typed is not None else _shortest
+                typed = value if typed is None else typed
+                meant = [round(x / 100, 12) if x > k.hi else x for x in (typed if isinstance(typed, list) else [typed])]
+                if all(x <= k.hi and (k.lo is None or x >= k.lo) for x in meant):
+                    written = show(meant if isinstance(typed, list) else meant[0])
+                    return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
+                            f"write fractions, {written} for {show(typed)}")
             return f"must be {sign} {shown(k.hi):g}{unit}, got {shown(v):g}"
     return None
 
 
-def _as_typed(value: Any) -> str:
-    """A number or list of numbers as a person types it (40, not 40.0)."""
+def _shortest(value: Any) -> str:
+    """A number or list of numbers in its shortest form (40, not 40.0)."""
     if isinstance(value, list):
-        return "[" + ", ".join(_as_typed(v) for v in value) + "]"
-    return f"{value:g}" if isinstance(value, float) else repr(value)
+        return "[" + ", ".join(_shortest(v) for v in value) + "]"
+    return f"{value:g}"
 
 
 def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
@@ -419,6 +441,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     origin: dict[str, str] = {}
     notes: dict[str, str] = {}
     spelled: dict[str, str] = {}
+    typed: dict[str, Any] = {}  # key path -> the value as the case wrote it (for an error's hint)
     factors: dict[str, float] = {}
     rejected: dict[str, str] = {}  # key path -> spelling of a value refused (reported once, not again as missing)
     misplaced: set[str] = set()  # key paths found in the wrong section (reported there, not again as missing)
@@ -448,7 +471,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 misplaced.update(k.path for k in schema.keys_in(close[0]))
             continue
         if not isinstance(table, Mapping):
-            bad(section, f"expected a [{section}] table of keys, got {brief(table)}")
+            bad(section, f"expected a [{section}] table of keys, got {toml_value(table)}")
             rejected.update({k.path: k.name for k in schema.keys_in(section)})
             continue
         for key, value in table.items():
@@ -471,6 +494,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 bad(path, why)
                 rejected[k.path] = key
                 continue
+            typed[k.path] = value
             if k.kind == "int":
                 value = int(value)
             elif k.kind == "float":  # 150 and 150.0 are one value: one case, one hash
@@ -502,7 +526,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     if isinstance(preset_name, str):
         found = preset_for(preset_name)
         if found is None:
-            bad("crop.preset", f"unknown crop preset {brief(preset_name)}; expected one of {', '.join(preset_names())} "
+            bad("crop.preset", f"unknown crop preset {toml_value(preset_name)}; "
+                f"expected one of {', '.join(preset_names())} "
                 "or a crop name `tea presets` lists" + _suggest(preset_name, preset_names()))
         else:
             preset = load_preset(found)
@@ -557,20 +582,23 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         v = values.get(k.path)
         if v is None or k.path in {p.key for p in problems}:
             continue
-        why = _range_error(k, v, factors.get(k.path, 1.0), system)
+        why = _range_error(k, v, factors.get(k.path, 1.0), system, typed.get(k.path))
         if why:
             bad(spelled.get(k.path) and f"{k.section}.{spelled[k.path]}" or k.path, why)
             rejected[k.path] = spelled.get(k.path, k.name)
             continue
+        warn_hi = k.warn_hi
+        if k.money and warn_hi is None:
+            warn_hi = rules.usual_money_hi(k.path, str(values.get("case.currency", "")))
         for item in v if isinstance(v, list) else [v]:
             if k.kind in ("float", "int") and (
-                (k.warn_lo is not None and item < k.warn_lo) or (k.warn_hi is not None and item > k.warn_hi)
+                (k.warn_lo is not None and item < k.warn_lo) or (warn_hi is not None and item > warn_hi)
             ):
                 # in the spelling and unit the case used (or its unit system's, for preset values)
                 spelling = spelled.get(k.path) or units.spell(k.template, system)
                 f = factors.get(k.path) or units.spellings(k.template).get(spelling, 1.0)
                 lo = "" if k.warn_lo is None else f"{k.warn_lo / f:g}"
-                hi = "" if k.warn_hi is None else f"{k.warn_hi / f:g}"
+                hi = "" if warn_hi is None else f"{warn_hi / f:g}"
                 unit = k.unit_text(system, str(values.get("case.currency", "")))
                 warnings.append(f"{source}: {k.section}.{spelling}: {item / f:g} is unusual "
                                 f"(expected {lo}..{hi}{f' [{unit}]' if unit else ''}); check it")

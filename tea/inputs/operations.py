@@ -19,7 +19,7 @@ import math
 from typing import Any, Mapping
 
 from tea.core.errors import Problem
-from tea.core.safe_text import brief
+from tea.core.safe_text import toml_value
 from tea.inputs import units
 
 #: the last year an operation may fall in: the longest stand life a case may have
@@ -53,7 +53,7 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
     problems: list[Problem] = []
     if not isinstance(table, list) or not all(isinstance(op, Mapping) for op in table):
         return None, [Problem(source, section, "expected [[operations]] tables (one per operation), got "
-                              f"{brief(table)}")]
+                              f"{toml_value(table)}")]
     spelled = _spelled()
     out = []
     for i, op in enumerate(table, start=1):
@@ -63,11 +63,11 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
         for key, value in op.items():
             if key == "name":
                 if not isinstance(value, str):
-                    bad(key, f"expected text, got {brief(value)}")
+                    bad(key, f"expected text, got {toml_value(value)}")
             elif key in TIMING:
                 if key == "years":
                     if not (isinstance(value, list) and value and all(_whole(v) and 0 <= v <= HORIZON for v in value)):
-                        bad(key, f"expected a list of whole years 0..{HORIZON}, got {brief(value)}")
+                        bad(key, f"expected a list of whole years 0..{HORIZON}, got {toml_value(value)}")
                         continue
                     twice = sorted({int(v) for v in value if value.count(v) > 1})
                     if twice:
@@ -75,14 +75,15 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
                                  "in a year is one with twice the amounts)")
                         continue
                 elif not (_whole(value) and (1 if key == "every" else 0) <= value <= HORIZON):
-                    bad(key, f"expected a whole number {'1' if key == 'every' else '0'}..{HORIZON}, got {brief(value)}")
+                    bad(key, f"expected a whole number {'1' if key == 'every' else '0'}..{HORIZON}, "
+                             f"got {toml_value(value)}")
                     continue
                 item[key] = value
             elif key in spelled:
                 name, _, factor = spelled[key]
                 if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
                         or value < 0:
-                    bad(key, f"expected a number >= 0, got {brief(value)}")
+                    bad(key, f"expected a number >= 0, got {toml_value(value)}")
                     continue
                 if name in item:
                     bad(key, f"given twice (also as {name}); give it once")
@@ -96,7 +97,7 @@ def parse(section: str, table: Any, source: str) -> tuple[list[dict[str, Any]] |
             bad("year", "give exactly one of year = N, years = [..] or every = N (with from = N)")
         elif ways[0] != "every" and ("from" in op or "until" in op):
             bad("from", "from and until go with every = N")
-        if not any(units.spell(t) in item for t in AMOUNTS):
+        if not any(key in spelled for key in op):  # an amount given but wrong is reported above, not again here
             bad("cost_per_ha", "an operation needs a cost, diesel or N amount")
         out.append(item)
     # the order operations are listed in changes nothing: kept in one order (the case hash ignores it)

@@ -62,7 +62,7 @@ import numpy as np
 
 from tea.inputs import schema
 from tea.core.errors import Problem
-from tea.core.safe_text import brief
+from tea.core.safe_text import toml_value
 
 #: +/- share of the base value an input moves by when the case declares no range
 #: (a reporting convention, not a model coefficient)
@@ -203,17 +203,17 @@ def resolve(name: str) -> tuple[InputKey | None, str | None]:
     Returns the input, or None and the reason it is not a variable input.
     """
     if not isinstance(name, str) or "." not in name:
-        return None, f"expected a case key as section.key (e.g. yield.mature_t_dm_per_ha), got {brief(name)}"
+        return None, f"expected a case key as section.key (e.g. yield.mature_t_dm_per_ha), got {toml_value(name)}"
     if name in PSEUDO_INPUTS:
         return InputKey(name, None, 1.0), None
     section, _, key = name.partition(".")
     index = _spelling_index()
     if section not in index:
-        return None, f"{brief(name)}: unknown section {brief(section)}" + _suggest(section, list(index))
+        return None, f"{toml_value(name)}: unknown section {toml_value(section)}" + _suggest(section, list(index))
     hit = index[section].get(key)
     if hit is None:
         extra = [p.partition(".")[2] for p in PSEUDO_INPUTS if p.startswith(section + ".")]
-        return None, f"{brief(name)}: unknown key" + _suggest(key, list(index[section]) + extra)
+        return None, f"{toml_value(name)}: unknown key" + _suggest(key, list(index[section]) + extra)
     k, factor = hit
     if section in FIXED_SECTIONS or k.kind not in ("float", "int"):
         return None, f"{k.path} cannot be varied: only numeric keys outside [case] and [crop] can"
@@ -284,7 +284,7 @@ def parse(section: str, table: Any, source: str) -> tuple[Any, list[Problem]]:
     case.toml: risk.inputs.yield.site_factor.high: must be <= 2, got 2.5
     """
     if not isinstance(table, Mapping):
-        return None, [Problem(source, section, f"expected a [{section}] table, got {brief(table)}")]
+        return None, [Problem(source, section, f"expected a [{section}] table, got {toml_value(table)}")]
     if section == "sensitivity":
         return _parse_sensitivity(table, source)
     if section == "risk":
@@ -309,14 +309,14 @@ def _parse_sensitivity(table: Mapping[str, Any], source: str) -> tuple[dict, lis
     if "default_share" in table:
         share = table["default_share"]
         if not _is_number(share) or not 0.0 < share < 1.0:
-            bad("sensitivity.default_share", f"expected a share between 0 and 1 (0.2 means +/- 20 %), got {brief(share)}")
+            bad("sensitivity.default_share", f"expected a share between 0 and 1 (0.2 means +/- 20 %), got {toml_value(share)}")
         else:
             out["default_share"] = float(share)
 
     if "inputs" in table:
         given = table["inputs"]
         if not isinstance(given, list) or not given:
-            bad("sensitivity.inputs", f"expected a non-empty list of case keys, got {brief(given)}")
+            bad("sensitivity.inputs", f"expected a non-empty list of case keys, got {toml_value(given)}")
         else:
             names: list[str] = []
             for i, name in enumerate(given):
@@ -332,7 +332,7 @@ def _parse_sensitivity(table: Mapping[str, Any], source: str) -> tuple[dict, lis
     if "ranges" in table:
         ranges_t = table["ranges"]
         if not isinstance(ranges_t, Mapping):
-            bad("sensitivity.ranges", f"expected a table of inputs with low and high, got {brief(ranges_t)}")
+            bad("sensitivity.ranges", f"expected a table of inputs with low and high, got {toml_value(ranges_t)}")
         else:
             ranges: dict[str, dict[str, float]] = {}
             for name, spec in _flatten(ranges_t, lambda v: bool(set(v) & {"low", "high"})):
@@ -357,7 +357,7 @@ def _parse_sensitivity(table: Mapping[str, Any], source: str) -> tuple[dict, lis
     if "surface" in table:
         surf = table["surface"]
         if not isinstance(surf, Mapping):
-            bad("sensitivity.surface", f"expected a table with x, y and optional bounds, got {brief(surf)}")
+            bad("sensitivity.surface", f"expected a table with x, y and optional bounds, got {toml_value(surf)}")
         else:
             out["surface"] = _parse_surface(surf, source, problems)
     return out, problems
@@ -366,7 +366,7 @@ def _parse_sensitivity(table: Mapping[str, Any], source: str) -> tuple[dict, lis
 def _parse_low_high(inp: InputKey, spec: Any, where: str, source: str, problems: list[Problem]):
     bad = lambda key, msg: problems.append(Problem(source, key, msg))  # noqa: E731
     if not isinstance(spec, Mapping):
-        bad(where, f"expected {{ low = ..., high = ... }}, got {brief(spec)}")
+        bad(where, f"expected {{ low = ..., high = ... }}, got {toml_value(spec)}")
         return None
     n_before = len(problems)
     problems.extend(_unknown_keys(spec, ("low", "high"), where, source))
@@ -377,10 +377,10 @@ def _parse_low_high(inp: InputKey, spec: Any, where: str, source: str, problems:
             bad(f"{where}.{side}", f"missing value: expected a number [{inp.unit_text()}]")
             continue
         if not _is_number(v):
-            bad(f"{where}.{side}", f"expected a finite number, got {brief(v)}")
+            bad(f"{where}.{side}", f"expected a finite number, got {toml_value(v)}")
             continue
         if inp.integer and not float(v).is_integer():
-            bad(f"{where}.{side}", f"expected a whole number, got {brief(v)}")
+            bad(f"{where}.{side}", f"expected a whole number, got {toml_value(v)}")
             continue
         canonical = float(v) * inp.factor
         why = _range_message(inp, canonical)
@@ -391,7 +391,7 @@ def _parse_low_high(inp: InputKey, spec: Any, where: str, source: str, problems:
     if len(problems) > n_before:
         return None
     if not values["low"] < values["high"]:
-        bad(f"{where}.high", f"must be above low ({brief(spec['low'])}), got {brief(spec['high'])}")
+        bad(f"{where}.high", f"must be above low ({toml_value(spec['low'])}), got {toml_value(spec['high'])}")
         return None
     return values
 
@@ -422,7 +422,7 @@ def _parse_surface(surf: Mapping[str, Any], source: str, problems: list[Problem]
                     bad(f"sensitivity.surface.{name}", f"needs {axis} = \"section.key\" to say which input it bounds")
                 continue
             if not _is_number(v):
-                bad(f"sensitivity.surface.{name}", f"expected a finite number, got {brief(v)}")
+                bad(f"sensitivity.surface.{name}", f"expected a finite number, got {toml_value(v)}")
                 continue
             canonical = float(v) * axes[axis].factor
             why = _range_message(axes[axis], canonical)
@@ -436,7 +436,7 @@ def _parse_surface(surf: Mapping[str, Any], source: str, problems: list[Problem]
     if "points" in surf:
         n = surf["points"]
         if isinstance(n, bool) or not isinstance(n, int) or not 3 <= n <= MAX_SURFACE_POINTS:
-            bad("sensitivity.surface.points", f"expected a whole number from 3 to {MAX_SURFACE_POINTS}, got {brief(n)}")
+            bad("sensitivity.surface.points", f"expected a whole number from 3 to {MAX_SURFACE_POINTS}, got {toml_value(n)}")
         else:
             out["points"] = int(n)
     return out
@@ -449,19 +449,19 @@ def _parse_risk(table: Mapping[str, Any], source: str) -> tuple[dict, list[Probl
     if "draws" in table:
         n = table["draws"]
         if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= MAX_DRAWS:
-            bad("risk.draws", f"expected a whole number from 1 to {MAX_DRAWS:,}, got {brief(n)}")
+            bad("risk.draws", f"expected a whole number from 1 to {MAX_DRAWS:,}, got {toml_value(n)}")
         else:
             out["draws"] = int(n)
     if "seed" in table:
         s = table["seed"]
         if isinstance(s, bool) or not isinstance(s, int) or s < 0:
-            bad("risk.seed", f"expected a whole number >= 0, got {brief(s)}")
+            bad("risk.seed", f"expected a whole number >= 0, got {toml_value(s)}")
         else:
             out["seed"] = int(s)
     if "failure_event" in table:
         f = table["failure_event"]
         if not isinstance(f, bool):
-            bad("risk.failure_event", f"expected true or false, got {brief(f)}")
+            bad("risk.failure_event", f"expected true or false, got {toml_value(f)}")
         else:
             out["failure_event"] = f
 
@@ -470,7 +470,7 @@ def _parse_risk(table: Mapping[str, Any], source: str) -> tuple[dict, list[Probl
     if "inputs" in table:
         inputs_t = table["inputs"]
         if not isinstance(inputs_t, Mapping):
-            bad("risk.inputs", f"expected a table of inputs, each with a distribution, got {brief(inputs_t)}")
+            bad("risk.inputs", f"expected a table of inputs, each with a distribution, got {toml_value(inputs_t)}")
         else:
             for name, spec in _flatten(inputs_t, lambda v: bool(set(v) & _SPEC_WORDS)):
                 where = f"risk.inputs.{name}"
@@ -499,14 +499,14 @@ def _parse_risk(table: Mapping[str, Any], source: str) -> tuple[dict, list[Probl
 def _parse_distribution(inp: InputKey, spec: Any, where: str, source: str, problems: list[Problem]):
     bad = lambda key, msg: problems.append(Problem(source, key, msg))  # noqa: E731
     if not isinstance(spec, Mapping):
-        bad(where, f"expected a table with dist and its parameters, got {brief(spec)}")
+        bad(where, f"expected a table with dist and its parameters, got {toml_value(spec)}")
         return None
     dist = spec.get("dist")
     if dist is None:
         bad(f"{where}.dist", f"missing value: expected one of {', '.join(DISTRIBUTIONS)}")
         return None
     if dist not in DISTRIBUTIONS:
-        bad(f"{where}.dist", f"expected one of {', '.join(DISTRIBUTIONS)}, got {brief(dist)}"
+        bad(f"{where}.dist", f"expected one of {', '.join(DISTRIBUTIONS)}, got {toml_value(dist)}"
             + (_suggest(dist, DISTRIBUTIONS) if isinstance(dist, str) else ""))
         return None
     required, optional = DISTRIBUTIONS[dist]
@@ -521,7 +521,7 @@ def _parse_distribution(inp: InputKey, spec: Any, where: str, source: str, probl
             continue
         v = spec[name]
         if not _is_number(v):
-            bad(f"{where}.{name}", f"expected a finite number, got {brief(v)}")
+            bad(f"{where}.{name}", f"expected a finite number, got {toml_value(v)}")
             continue
         canonical = float(v) * inp.factor
         if name != "sd":
@@ -534,21 +534,21 @@ def _parse_distribution(inp: InputKey, spec: Any, where: str, source: str, probl
         return None
     lo, hi = out.get("low"), out.get("high")
     if lo is not None and hi is not None and not lo < hi:
-        bad(f"{where}.high", f"must be above low ({brief(spec['low'])}), got {brief(spec['high'])}")
+        bad(f"{where}.high", f"must be above low ({toml_value(spec['low'])}), got {toml_value(spec['high'])}")
         return None
     if dist == "triangular" and not lo <= out["mode"] <= hi:
-        bad(f"{where}.mode", f"must lie between low and high ({brief(spec['low'])}..{brief(spec['high'])}), got {brief(spec['mode'])}")
+        bad(f"{where}.mode", f"must lie between low and high ({toml_value(spec['low'])}..{toml_value(spec['high'])}), got {toml_value(spec['mode'])}")
         return None
     if dist in ("normal", "lognormal"):
         if not out["sd"] > 0:
-            bad(f"{where}.sd", f"must be > 0, got {brief(spec['sd'])}")
+            bad(f"{where}.sd", f"must be > 0, got {toml_value(spec['sd'])}")
             return None
         if dist == "lognormal":
             if not out["mean"] > 0:
-                bad(f"{where}.mean", f"a lognormal quantity is positive: mean must be > 0, got {brief(spec['mean'])}")
+                bad(f"{where}.mean", f"a lognormal quantity is positive: mean must be > 0, got {toml_value(spec['mean'])}")
                 return None
             if lo is not None and lo < 0:
-                bad(f"{where}.low", f"a lognormal quantity is positive: low must be >= 0, got {brief(spec['low'])}")
+                bad(f"{where}.low", f"a lognormal quantity is positive: low must be >= 0, got {toml_value(spec['low'])}")
                 return None
         mass = truncated_mass(out, *effective_bounds(inp, out))
         if mass < MIN_TRUNCATED_MASS:
@@ -566,12 +566,12 @@ def _parse_correlations(items: list, inputs: Mapping[str, Any], spelled: Mapping
     for i, item in enumerate(items):
         where = f"risk.correlations[{i}]"
         if not isinstance(item, Mapping):
-            bad(where, f"expected {{ inputs = [a, b], rank = r }}, got {brief(item)}")
+            bad(where, f"expected {{ inputs = [a, b], rank = r }}, got {toml_value(item)}")
             continue
         problems.extend(_unknown_keys(item, ("inputs", "rank"), where, source))
         names, rank = item.get("inputs"), item.get("rank")
         if not isinstance(names, list) or len(names) != 2:
-            bad(f"{where}.inputs", f"expected two input names, got {brief(names)}")
+            bad(f"{where}.inputs", f"expected two input names, got {toml_value(names)}")
             continue
         paths = []
         for j, name in enumerate(names):
@@ -583,7 +583,7 @@ def _parse_correlations(items: list, inputs: Mapping[str, Any], spelled: Mapping
             else:
                 paths.append(inp.path)
         if not _is_number(rank) or not -1.0 < rank < 1.0:
-            bad(f"{where}.rank", f"expected a rank correlation strictly between -1 and 1, got {brief(rank)}")
+            bad(f"{where}.rank", f"expected a rank correlation strictly between -1 and 1, got {toml_value(rank)}")
             continue
         if len(paths) != 2:
             continue

@@ -9,7 +9,7 @@ import re
 from typing import Any, Mapping
 
 from tea.core.errors import Problem
-from tea.core.safe_text import brief
+from tea.core.safe_text import toml_value
 from tea.inputs import schema, units
 from tea.inputs.schema import YIELD_CEILING_T_DM_PER_HA
 
@@ -18,6 +18,35 @@ _CURRENCY_RE = re.compile(r"^[A-Z]{3}$")
 COMMON_CURRENCIES = frozenset(
     "AUD BRL CAD CHF CNY CZK DKK EUR GBP HUF INR JPY MXN NOK NZD PLN RON SEK USD ZAR".split()
 )
+
+
+#: currencies of about a US dollar each (within a factor of about two): a money input above its usual
+#: ceiling (:data:`MONEY_USUAL_HI`) in one of them is pointed out; in another currency the ceiling is
+#: :data:`OTHER_CURRENCY_FACTOR` times higher, a bound for values no unit of account makes usual (common
+#: practice: the major currencies' exchange rates, from memory)
+DOLLAR_LIKE = frozenset("AUD CAD CHF EUR GBP NZD USD".split())
+OTHER_CURRENCY_FACTOR = 1000.0
+#: usual ceilings of money inputs in a dollar-like currency, by key (canonical, metric units): ten times or
+#: more what a stand on a field commonly costs or earns, so that only a slip (a price typed in the wrong
+#: unit, digits repeated) is pointed out (common practice: establishment a few thousand per ha, biomass tens
+#: to a couple of hundred per t DM, heat a few per GJ, carbon credits tens per t CO2e)
+MONEY_USUAL_HI = {
+    "revenue.price_per_t_dm": 1000.0, "revenue.contract_price_per_t_dm": 1000.0,
+    "revenue.price_per_gj": 60.0, "revenue.contract_price_per_gj": 60.0,
+    "carbon.credit_price_per_t_co2e": 1000.0,
+    "establishment.planting_unit_price": 20.0,
+    "nutrients.n_price_per_kg": 20.0, "nutrients.p2o5_price_per_kg": 20.0, "nutrients.k2o_price_per_kg": 20.0,
+    "harvest.drying_per_t_water": 500.0, "costs.haul_per_t_km": 10.0,
+    "costs.baling_chipping_per_t_dm": 500.0, "costs.storage_per_t_dm": 500.0,
+}
+#: the usual ceiling of every other money input (all per ha, or per ha a year)
+MONEY_PER_HA_USUAL_HI = 50_000.0
+
+
+def usual_money_hi(path: str, currency: str) -> float:
+    """Above what a money input is unusual, in the case's currency (canonical units)."""
+    ceiling = MONEY_USUAL_HI.get(path, MONEY_PER_HA_USUAL_HI)
+    return ceiling if currency in DOLLAR_LIKE else ceiling * OTHER_CURRENCY_FACTOR
 
 
 #: how far the centre of a risk distribution may sit from the case's own value before it is pointed out
@@ -68,11 +97,11 @@ def currency_problem(code: str) -> str | None:
     """Why ``code`` is not a currency code (three capital letters, as ISO 4217 writes them), or None.
 
     >>> currency_problem("EUR") is None, currency_problem("eur\\n")
-    (True, "expected a three-letter ISO 4217 code such as EUR or USD, got 'eur\\\\n'")
+    (True, 'expected a three-letter ISO 4217 code such as EUR or USD, got "eur\\\\n"')
     """
     if _CURRENCY_RE.fullmatch(code):
         return None
-    return f"expected a three-letter ISO 4217 code such as EUR or USD, got {brief(code)}"
+    return f"expected a three-letter ISO 4217 code such as EUR or USD, got {toml_value(code)}"
 
 
 def harvest_energy_problem(heating_value, moisture):

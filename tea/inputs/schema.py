@@ -94,7 +94,9 @@ class Key:
             word = units.SYSTEMS[system][name].replace("_", " ") + (f" {what}" if what else "")
             (num if exponent > 0 else den).append(word)
         if self.unit.startswith("/"):
-            den.append(self.unit[1:])
+            # a carbon credit is one metric tonne of CO2e wherever it is sold: said so beside short tons
+            den.append(self.unit[1:].replace("t CO2e", "metric ton CO2e") if system == "us_customary"
+                       else self.unit[1:])
         elif self.unit:
             num.append(self.unit)
         text = " ".join(num) if num else ("1" if den else "")

@@ -9,6 +9,7 @@ from typing import Any
 import pandas as pd
 
 from tea import __version__
+from tea.core.safe_text import toml_value
 from tea.inputs import display
 from tea.inputs.case import Case, case_header, load_preset, preset_names
 from tea.analysis.lender import lender_cases
@@ -345,7 +346,7 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
                 factor = units.display_factor(key.template, system)
                 if isinstance(value, (int, float)) and not isinstance(value, bool) and factor != 1.0:
                     value = float(f"{value * factor:.3g}")
-                out.append(f"    {spelled} = {value!r}    # {p.sources[path]}")
+                out.append(f"    {spelled} = {toml_value(value, limit=10_000)}    # {p.sources[path]}")  # as a case writes it
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
                     out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
