@@ -281,8 +281,12 @@ def _main(argv: Sequence[str] | None) -> int:
         from tea.outputs import charts
 
         try:
-            workers.stand_by(*charts.MODULES, role="charts")
             workers.stand_by("tea.outputs.pdf_page:warm_up", role="page")
+            # the chart worker forked once the numerical library is loaded here (this process needs it too):
+            # loaded once, not once in each
+            import numpy  # noqa: F401
+
+            workers.stand_by(*charts.MODULES, role="charts")
         except TeaError:  # a bad TEA_JOBS: said, as every other error, once the run asks for workers
             pass
     try:
