@@ -64,6 +64,17 @@ class TestProfiles:
         asked = f.loc[0, "establishment_cost"] - case["establishment.grant_per_ha"]
         assert cap < asked and res["loan_principal"] == pytest.approx(cap, rel=1e-10)
 
+    def test_llcr_of_a_loan_sculpted_to_one_dscr_is_that_dscr(self):
+        """From the definitions: with debt service = CFADS / target in every repayment year, the present value at
+        the loan's rate of the CFADS still to come is target times that of the service still to come, which is
+        the balance owed at the start of the year (interest at the same rate): LLCR = target, every year."""
+        case, f, res = run(CLAY, **{"loan.profile": "sculpted", "loan.share_of_establishment": 1.0,
+                                    "loan.sculpt_dscr": 2.2})
+        g, end = case["loan.grace_years"], case["loan.grace_years"] + case["loan.term_years"]
+        assert (f.loc[g + 1:end, "cfads"] > 0).all()  # every repayment year has cash: service = CFADS / 2.2
+        assert_allclose(f.loc[g + 1:end, "dscr"], 2.2, rtol=1e-10)
+        assert_allclose(f.loc[g + 1:end, "llcr"], 2.2, rtol=1e-9)
+
     def test_sculpted_loan_below_its_capacity_keeps_one_ratio(self):
         case, f, res = run(WILLOW, **{"loan.profile": "sculpted", "loan.share_of_establishment": 0.2,
                                       "loan.sculpt_dscr": 1.4})
@@ -107,7 +118,8 @@ class TestCoverRatios:
             if opening <= 0:
                 continue
             future = f.loc[t:end, "cfads"].to_numpy()
-            pv = npf.npv(r, np.concatenate([[0.0], future])) * (1 + r)  # years t..end back to the start of t
+            # years t..end, each at its end, back to the start of year t: numpy-financial's npv with a 0 first
+            pv = npf.npv(r, np.concatenate([[0.0], future]))
             assert f.loc[t, "llcr"] == pytest.approx(pv / opening, rel=1e-10)
             paid = f.loc[t, "debt_service"] - f.loc[t, "loan_principal"]  # interest paid, not capitalised
             if paid > 0 and f.loc[t, "cfads"] >= 0:
@@ -122,7 +134,7 @@ class TestCoverRatios:
         covered = 0
         for t in range(1, end + 1):
             opening = f.loc[t - 1, "loan_balance"]
-            pv = npf.npv(r, np.concatenate([[0.0], f.loc[t:end, "cfads"].to_numpy()])) * (1 + r)
+            pv = npf.npv(r, np.concatenate([[0.0], f.loc[t:end, "cfads"].to_numpy()]))
             if pv < 0:
                 assert np.isnan(f.loc[t, "llcr"]) and f.loc[t, "llcr_no_cover"] == 1
             else:

@@ -161,7 +161,8 @@ DEFS = (
     line("llcr_pv_cfads", "money/ha", "loan", "CFADS of the remaining loan life, present value",
          "CFADS of the years from this one to the end of the term, discounted at the loan's rate to the start of "
          "the year; money of the year.",
-         (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** t,
+         # year k's CFADS comes at the end of year k: k - t + 1 years after the start of year t
+         (total(L.loan_life_pv_cfads) - lag(cumsum(L.loan_life_pv_cfads), 1)) * (1 + L.loan_rate) ** (t - 1),
          show=False),
     line("llcr", "ratio", "loan", "LLCR",
          "Loan-life cover ratio: present value at the loan's rate of the CFADS of the remaining loan life / "
