@@ -383,3 +383,77 @@ def test_the_page_tells_the_lender_of_debt_service_uncovered_in_grace_years(tmp_
     shown = terminal._fig(res, case, "money_short_of_debt_service")
     assert f"lowest DSCR of the covenant test years {terminal._fig(res, case, 'min_dscr')}" in html
     assert f"the stand's cash leaves {shown} of debt service uncovered, grace years included" in html
+
+
+@pytest.mark.parametrize("changes", [
+    {},
+    {"tax.rate": 0.25, "tax.losses": "relieved", "tax.establishment": "expensed"},  # tax relief at planting
+    {"working_capital.limit_per_ha": 5000.0, "working_capital.rate": 0.08, "loan.share_of_establishment": 0.2},
+    {"loan.reserve_years": 1.0, "establishment.grant_year": 2, "loan.bridge_grant": True},
+])
+def test_sources_equal_uses_from_the_planting_years_own_lines(changes):
+    """Sources and uses of the planting year (Yescombe ch. 12: sources of funds equal their uses), each side
+    from its own ledger lines: the own funds are the own cash flow of year 0 paid out, not what the other
+    sources leave, so the sum is a check of the loan, bridge, grant, reserve, working-capital and tax lines."""
+    case, f, res = run(CLAY, **changes)
+    assert res["sources_own"] == pytest.approx(-f.loc[0, "equity_cash_flow"], rel=1e-12, abs=1e-9)
+    assert res["sources_working_capital"] == pytest.approx(f.loc[0, "working_capital_drawn"], abs=1e-9)
+    other = -(f.loc[0, "net_cash_flow"] - f.loc[0, "tax_grower"]) - f.loc[0, "establishment_cost"] + f.loc[0, "grant"]
+    assert res["uses_other"] == pytest.approx(other, abs=1e-9)
+    sources = sum(res[n] for n in ("sources_loan", "sources_bridge", "sources_grant", "sources_working_capital",
+                                   "sources_own"))
+    assert sources == pytest.approx(res["uses_total"], rel=1e-12)
+    assert res["uses_total"] == pytest.approx(res["uses_establishment"] + res["uses_reserve"] + res["uses_other"])
+
+
+def test_the_pages_loan_line_states_the_terms_the_figures_rest_on():
+    """The page's assumptions name what the loan is a share of (the cost less the grant by default, which the
+    amount drawn shows), how it is repaid and the facilities beside it (common practice in a credit file: the
+    term sheet's terms beside the cover ratios)."""
+    from html import unescape
+
+    from tea.outputs import report, terminal
+
+    changes = {"loan.profile": "sculpted", "loan.grace_interest": "capitalised", "loan.reserve_years": 0.5,
+               "loan.bridge_grant": True, "establishment.grant_year": 2, "working_capital.limit_per_ha": 500.0,
+               "working_capital.rate": 0.08}
+    for extra, words in (({}, ["of the planting-year cost less the grant", "level payments"]),
+                         (changes, ["(interest added to the loan)", "payments shaped to the cash available at a "
+                                    "DSCR of 1.35", "a reserve of 0.5 years of debt service",
+                                    "a bridge until the grant is paid in year 2",
+                                    "a working-capital line up to 500 EUR/ha at 8.0 %"])):
+        case, f, res = run(CLAY, **extra)
+        page = " ".join(unescape(report.summary_html(case, f, res)).split())
+        line = page[page.rindex("Loan:"):]
+        amount = terminal._fig(res, case, "loan_principal")
+        assert f"{amount} at 5.5 %, repaid over 8 years after 3 grace years" in line, line[:300]
+        for w in words:
+            assert w in line, (w, line[:400])
+    # the share is of the cost less the grant: the amount drawn says so (60 % of 2,330 - 400)
+    assert res["loan_principal"] == pytest.approx(0.6 * (res["uses_establishment"] - 400.0), rel=1e-12)
+
+
+def test_a_sculpted_loan_below_what_its_target_could_carry_says_why_its_dscr_is_higher(tmp_path):
+    """Asked for less than the target DSCR could carry, a sculpted loan keeps the shape of the cash available
+    at one higher DSCR (Yescombe ch. 12: sculpted service = CFADS / DSCR); the terminal and the page say so,
+    rather than show a DSCR above the target without a word."""
+    import re
+    from html import unescape
+
+    from conftest import run_cli
+    from tea.outputs import report
+
+    case, f, res = run(WILLOW, **{"loan.profile": "sculpted", "loan.share_of_establishment": 0.2,
+                                  "loan.sculpt_dscr": 1.4})
+    assert res["min_dscr"] > 1.4 * 1.01
+    text = re.sub(r"(?m)^sculpt_dscr = .*\n", "", WILLOW.read_text(encoding="utf-8"))  # the demo is sculpted
+    text = re.sub(r"(?m)^share_of_establishment = .*$", "share_of_establishment = 0.2\nsculpt_dscr = 1.4", text)
+    path = tmp_path / "below.toml"
+    path.write_text(text, encoding="utf-8")
+    out = run_cli(["run", path, "--brief"])
+    assert out.code == 0, out.text
+    flat = " ".join(out.out.split())
+    assert "above the sculpting target 1.40: the loan asked for is less than that target could carry" in flat
+    assert max(len(line) for line in out.out.splitlines()) <= 100
+    page = " ".join(unescape(report.summary_html(case, f, res)).split())
+    assert f"(the loan asked for is less than that could carry: its DSCR is {res['min_dscr']:.2f})" in page

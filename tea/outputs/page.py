@@ -313,10 +313,40 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
                       f"{display.percent(v.get('carbon.credit_buffer_share') or 0.0, 0)} held back as a buffer",
                       _source(case, "carbon.credit_price_per_t_co2e")))
     if value_of(res, "loan_principal"):
-        items.append(("Loan", f"{display.percent(v['loan.share_of_establishment'], 0)} of the planting-year cost "
-                      f"at {display.percent(v['loan.rate'], 1)} over {v['loan.term_years']} years, "
-                      f"{v['loan.grace_years']} grace years", _source(case, "loan.rate")))
+        items.append(("Loan", _loan_terms(case, res), _source(case, "loan.rate")))
     return [{"label": a, "value": print_minus(b), "source": c} for a, b, c in items]
+
+
+#: how each repayment profile repays, in words
+PROFILE_WORDS = {"annuity": "level payments", "straight_line": "equal repayments of principal",
+                 "sculpted": "payments shaped to the cash available at a DSCR of {dscr:.2f}"}
+
+
+def _loan_terms(case: Case, res: Results) -> str:
+    """The loan's terms as the lender set them: what it is a share of, the amount drawn, rate, term, grace and
+    its interest, profile, and the reserve, grant bridge and working-capital line where there are any."""
+    v = case.values
+    grant = (v.get("establishment.grant_per_ha") or 0) > 0
+    basis = " less the grant" if grant and v.get("loan.sized_on") == "cost_net_of_grant" else ""
+    grace = v.get("loan.grace_years") or 0
+    parts = [f"{display.percent(v['loan.share_of_establishment'], 0)} of the planting-year cost{basis}, "
+             f"{fig_text(case, res, 'loan_principal')} at {display.percent(v['loan.rate'], 1)}, repaid over "
+             f"{v['loan.term_years']} years"
+             + (f" after {grace} grace year{'s' if grace != 1 else ''} ("
+                + ("interest added to the loan" if v.get("loan.grace_interest") == "capitalised" else "interest paid")
+                + ")" if grace else ""),
+             PROFILE_WORDS[v["loan.profile"]].format(dscr=v.get("loan.sculpt_dscr") or 0.0)
+             + (f" (the loan asked for is less than that could carry: its DSCR is {value_of(res, 'min_dscr'):.2f})"
+                if terminal.sculpted_below_capacity(case, res) else "")]
+    if (v.get("loan.reserve_years") or 0) > 0:
+        parts.append(f"a reserve of {v['loan.reserve_years']:g} year"
+                     f"{'s' if v['loan.reserve_years'] != 1 else ''} of debt service")
+    if v.get("loan.bridge_grant") and grant and (v.get("establishment.grant_year") or 0) > 0:
+        parts.append(f"a bridge until the grant is paid in year {v['establishment.grant_year']}")
+    if (v.get("working_capital.limit_per_ha") or 0) > 0:
+        parts.append(f"a working-capital line up to {_money(case, v['working_capital.limit_per_ha'], 'money/ha', 0)} "
+                     f"at {display.percent(v.get('working_capital.rate') or 0.0, 1)}")
+    return "; ".join(parts)
 
 
 def _harvest_text(case: Case) -> str:

@@ -135,6 +135,14 @@ LABELS = {
     "tax_total": "Tax over the stand life",
 }
 
+def sculpted_below_capacity(case: Case, res: Results) -> bool:
+    """Whether a sculpted loan is smaller than its target DSCR could carry: its payments then keep the shape of
+    the cash available at a higher, single DSCR than the target."""
+    low = res["min_dscr"]
+    return (case["loan.profile"] == "sculpted" and bool(res["loan_principal"]) and low is not None
+            and low > case["loan.sculpt_dscr"] * (1 + 1e-6))
+
+
 #: labels that name a metric unit, as a US customary case shows them (its value is converted)
 US_LABELS = {"ghg_net_kg_co2e_per_t_dm": "Net GHG per short ton DM"}
 
@@ -199,9 +207,16 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 per_ha += f" (case: {given:,.2f})"
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             out.append(f"  {label(name, case):<{width}}{per_ha:<34}{whole}")
+            said = ""
+            if name == "min_dscr" and sculpted_below_capacity(case, res):
+                said = (f"above the sculpting target {case['loan.sculpt_dscr']:.2f}: the loan asked for is less than "
+                        "that target could carry, so its payments keep the shape of the cash at this higher ratio")
             if name == "loan_principal" and (res["loan_asked"] or 0) > (res[name] or 0) + 0.005:
-                out.append(f"  {'':<{width}}less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted "
-                           "profile draws at most what its target DSCR repays")
+                said = (f"less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted profile draws at "
+                        "most what its target DSCR repays")
+            if said:  # under the figure, within the terminal's 100 columns
+                out.extend(textwrap.wrap(said, 100, initial_indent=" " * (width + 2),
+                                         subsequent_indent=" " * (width + 2)))
         out.append("")
     block = yield_text.site_lines(case)
     if block:

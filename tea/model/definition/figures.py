@@ -302,16 +302,25 @@ DEFS = WORKINGS + (
            "Establishment cost spent at planting.", at_year(L.establishment_cost, 0), scales=True),
     figure("uses_reserve", M, "sources_uses", "Uses: debt service reserve", "Reserve funded at planting.",
            at_year(L.reserve_funding, 0), scales=True),
-    figure("uses_total", M, "sources_uses", "Uses: total", "Establishment and reserve at planting.",
-           F.uses_establishment + F.uses_reserve, scales=True),
+    figure("uses_other", M, "sources_uses", "Uses: other cash of the planting year",
+           "Running costs of year 0 and tax, less its receipts other than the grant (0 when the planting year "
+           "has only the establishment cost and the grant).",
+           at_year(L.grant, 0) - at_year(L.establishment_cost, 0) - at_year(L.net_cash_flow, 0)
+           + at_year(L.tax_grower, 0), scales=True),
+    figure("uses_total", M, "sources_uses", "Uses: total", "Establishment, reserve and other cash at planting.",
+           F.uses_establishment + F.uses_reserve + F.uses_other, scales=True),
     figure("sources_loan", M, "sources_uses", "Sources: loan", "Establishment loan drawn.", L.loan_amount + 0,
            scales=True),
     figure("sources_bridge", M, "sources_uses", "Sources: grant bridge", "Grant bridge drawn at planting.",
            at_year(L.bridge_drawdown, 0), scales=True),
     figure("sources_grant", M, "sources_uses", "Sources: grant at planting", "Grant received at planting.",
            at_year(L.grant, 0), scales=True),
-    figure("sources_own", M, "sources_uses", "Sources: own funds", "The grower's own money at planting.",
-           F.uses_total - F.sources_loan - F.sources_bridge - F.sources_grant, scales=True),
+    figure("sources_working_capital", M, "sources_uses", "Sources: working capital at planting",
+           "Working-capital line drawn in year 0.", at_year(L.working_capital_drawn, 0), scales=True),
+    # the grower's own money from the own cash flow, not as what the other sources leave: sources equal uses
+    # is then a check that the financing lines of the planting year add up (the Checks sheet)
+    figure("sources_own", M, "sources_uses", "Sources: own funds", "The grower's own money at planting: the "
+           "own cash flow of year 0, paid out.", 0 - at_year(L.equity_cash_flow, 0), scales=True),
     figure("loan_to_cost", "fraction", "sources_uses", "Loan to cost",
            "Loan / establishment cost at planting.",
            where(F.uses_establishment > 0, F.sources_loan / F.uses_establishment, NOTHING)),

@@ -27,8 +27,9 @@ KEY_FIGURES = ("npv", "npv_vs_current_use", "irr", "eav", "eav_vs_current_use", 
                "npv_after_tax", "irr_after_tax", "min_dscr", "years_below_covenant", "min_interest_cover", "llcr",
                "loan_repaid_year", "breakeven_price", "breakeven_price_at_covenant", "breakeven_yield_at_covenant_t_dm_per_ha",
                "ghg_net_t_co2e", "carbon_credit_pv")
-SOURCES_USES = ("uses_establishment", "uses_reserve", "uses_total", "sources_loan", "sources_bridge", "sources_grant",
-                "sources_own", "loan_to_cost")
+#: the sources of the planting year's money, which the Checks sheet adds up against the uses
+SOURCES = ("sources_loan", "sources_bridge", "sources_grant", "sources_working_capital", "sources_own")
+SOURCES_USES = ("uses_establishment", "uses_reserve", "uses_other", "uses_total", *SOURCES, "loan_to_cost")
 LENDER_LABELS = {"npv": "NPV", "npv_vs_current_use": "NPV against the current use", "irr": "IRR",
                  "min_dscr": "Lowest DSCR (test years)", "years_below_covenant": "Years below the covenant",
                  "llcr": "LLCR", "money_short_of_debt_service": "Money short of debt service",
@@ -231,13 +232,14 @@ class CreditWriter(SheetWriter):
             text(ws, 4, c, label, head)
         rows: list[tuple[str, str, Any, Any, str, bool, str]] = []  # label, value formula, v, expected, status, ok, note
         fig = lambda n: lay.cell(("figure", n), None)  # noqa: E731
-        sources = "+".join(fig(n) for n in ("sources_loan", "sources_bridge", "sources_grant", "sources_own"))
+        sources = "+".join(fig(n) for n in SOURCES)
         val = lambda n: cached(self.values[("figure", n)])  # noqa: E731
-        s_v = sum(float(val(n) or 0.0) for n in ("sources_loan", "sources_bridge", "sources_grant", "sources_own"))
+        s_v = sum(float(val(n) or 0.0) for n in SOURCES)
         u_v = float(val("uses_total") or 0.0)
         self._check(ws, rows, "Sources equal uses", f"={sources}", s_v, ("formula", f"={fig('uses_total')}", u_v),
                     lambda v, e: f"ABS({v}-{e})<={tol}*MAX(1,ABS({e}))", abs(s_v - u_v) <= CHECK_TOLERANCE * max(1, abs(u_v)),
-                    "the money raised pays for what is spent")
+                    "the money raised pays for what is spent: the own funds come from the own cash flow of year 0, "
+                    "so the loan, bridge, grant, reserve and tax lines must add up")
         bal = lay.model.line("loan_balance")
         b_v = float(self.values[bal.key][lay.last_year])
         amount = lay.cell(("line", "loan_amount"), None)
