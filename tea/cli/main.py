@@ -121,6 +121,12 @@ def _cmd_new(args: argparse.Namespace) -> int:
     path = Path(name)
     _check_outputs([(name, (".toml",))], args.force)
     base = load_case(args.base) if args.base else None
+    if base is not None and args.currency and args.currency != base.currency:
+        from tea.core.errors import CaseError, Problem
+
+        raise CaseError([Problem(args.base, "case.currency", f"the case's money is in {base.currency}, not "
+                                 f"{args.currency} (--currency): a case started from it keeps its prices as they are, "
+                                 "so it keeps its currency")])
     system = args.units or (base.unit_system if base else "metric")
     currency = args.currency or (base.currency if base else "EUR")
     typed = args.crop.strip().lower()

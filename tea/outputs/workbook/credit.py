@@ -340,7 +340,8 @@ class CreditWriter(SheetWriter):
             return
         status = f'=IF(ISNUMBER(B{{r}}),IF(ABS(B{{r}}-C{{r}})<={tol}*MAX(1,ABS(C{{r}})),"PASS","{CHANGED}"),"{CHANGED}")'
         rows.append((f"Live formula equals tea's value: {d.name}", f"={live}", v, ("value", float(v)), status, True,
-                     "CHANGED after an input was edited: run tea run BOOK.xlsx to recompute and check"))
+                     "the workbook's formula gives the value tea computed; if an input is edited the status reads "
+                     f"{CHANGED} (not a failure): run tea run BOOK.xlsx to recompute and check"))
 
     # -- values computed by tea
     def sensitivity(self) -> None:
