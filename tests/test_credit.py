@@ -457,3 +457,21 @@ def test_a_sculpted_loan_below_what_its_target_could_carry_says_why_its_dscr_is_
     assert max(len(line) for line in out.out.splitlines()) <= 100
     page = " ".join(unescape(report.summary_html(case, f, res)).split())
     assert f"(the loan asked for is less than that could carry: its DSCR is {res['min_dscr']:.2f})" in page
+
+
+def test_a_grant_that_repays_its_bridge_is_not_cash_for_the_loans_service():
+    """Yescombe ch. 12: CFADS is the cash left for the senior loan's service; a grant paid in arrears against
+    which a bridge was drawn goes to repay that bridge and its interest (hand-worked: 400 + 400 x (1.06^2 - 1)
+    = 449.44 at the loan's 6 % over two years, more than the grant), so that year's CFADS counts none of the
+    400 grant, and no other year changes."""
+    terms = {"loan.profile": "annuity", "loan.grace_years": 2, "loan.grace_interest": "interest_only",
+             "establishment.grant_year": 2, "loan.covenant_first_year": 2, "loan.share_of_establishment": 0.7,
+             "loan.rate": 0.06}
+    _, plain, _ = run(CLAY, **terms)
+    case, bridged, res = run(CLAY, **terms, **{"loan.bridge_grant": True})
+    assert bridged.loc[2, "bridge_interest"] == pytest.approx(400.0 * (1.06 ** 2 - 1), rel=1e-12)
+    assert bridged.loc[2, "bridge_repayment"] == pytest.approx(400.0, rel=1e-12)
+    expected = plain["cfads"].to_numpy().copy()
+    expected[2] -= min(400.0, 400.0 * 1.06 ** 2)  # the grant, as far as it goes to the bridge
+    assert_allclose(bridged["cfads"], expected, rtol=1e-12, atol=1e-9)
+    assert res["min_dscr_year"] == 2 and res["min_dscr"] == pytest.approx(expected[2] / bridged.loc[2, "debt_service"])

@@ -63,11 +63,14 @@ DEFS = (
     # cash available for debt service
     line("cfads", "money/ha", "loan", "Cash available for debt service",
          "Net cash flow after the stand's tax, less what the lender does not count (carbon credits beyond their "
-         "counted share, grants if excluded, sales outside a contract beyond their counted share), in money of "
-         "the year.",
+         "counted share, grants if excluded, sales outside a contract beyond their counted share, and a grant "
+         "that goes to repay its bridge), in money of the year.",
          (L.after_tax_cash_flow - (1 - LN.cfads_credit_share) * L.carbon_credit_revenue
           - where(LN.cfads_counts_grants, 0, L.grant) - (1 - LN.cfads_uncontracted_share) * L.uncontracted_revenue)
-         * L.money_of_the_year),
+         * L.money_of_the_year
+         # a grant that repays the bridge drawn against it is not cash for the establishment loan's service
+         - where(LN.cfads_counts_grants, minimum(L.grant * L.money_of_the_year,
+                                                 L.bridge_repayment + L.bridge_interest), 0)),
     # the establishment loan
     param("loan_requested", "money/ha", "loan", "Loan asked for",
           "Share borrowed x the year-0 establishment cost (less the grant, if so sized).",
