@@ -334,8 +334,21 @@ class TestCase:
 def test_tea_yield_on_every_demo_case(path, tmp_path):
     res = run_cli(["yield", path])
     assert res.code == 0, res.text
-    assert "Y = S x f x e x H" in res.out and "potential at the autumn peak" in res.out
+    assert "Y = S x f x e x H" in res.out
     assert all(len(line) <= 100 for line in res.out.splitlines())
+    # which product the case takes as its mature yield is said, with the formula: before H where H is a late
+    # harvest's loss (the ledger takes it off), after H where H is the harvested part of the growth
+    from tea.inputs.case import load_case
+
+    case = load_case(path)
+    season, potential = site.season_for(case.values), site.potential(case.values, case.origin)
+    flat = " ".join(res.out.split())
+    said = ("potential at the autumn peak, S x f x e, is what the case calls mature yield"
+            if season.late_loss > 0 else "potential, Y = S x f x e x H (H the harvested part of the growth), is "
+                                         "what the case calls mature yield")
+    assert said in flat, flat
+    shown = float(flat.split(said + ": ", 1)[1].split()[0].replace(",", ""))
+    assert case.unit_system != "metric" or shown == pytest.approx(potential["potential_t_dm_per_ha"], abs=0.051)
     js = run_cli(["yield", path, "--json", "--plot", tmp_path / "season.svg"])
     assert js.code == 0, js.text
     data = json.loads(js.out)

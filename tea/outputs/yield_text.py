@@ -66,11 +66,17 @@ def yield_text(case: Case) -> str:
     out.append(f"  {'year':5} {s.global_radiation.sum():8.0f} {s.radiation:8.0f} {s.intercepted_par.sum():8.0f} "
                f"{s.intercepted_share:7.2f} {'':6} {total:11.2f}")
     out.append("")
-    out.append(f"potential at the autumn peak (what the case calls mature yield): "
-               f"{_yield_text(pot['potential_t_dm_per_ha'], system)}")
+    # which product the case takes as its mature yield: before H where H is a late harvest's loss (the ledger
+    # takes the loss off itself), after H where H is the harvested part of the growth (a coppice's stems)
+    out.append(f"grown over the season, S x f x e (the table's total): {_yield_text(total, system)}")
     if s.late_loss > 0:
-        out.append(f"harvested in late winter, after the loss from the autumn peak: "
-                   f"{_yield_text(pot['harvested_t_dm_per_ha'], system)}")
+        out.append(f"potential at the autumn peak, S x f x e, is what the case calls mature yield: "
+                   f"{_yield_text(pot['potential_t_dm_per_ha'], system)}")
+        out.append(f"harvested in late winter, Y = S x f x e x H, after the loss from the autumn peak (the ledger "
+                   f"takes it off): {_yield_text(pot['harvested_t_dm_per_ha'], system)}")
+    else:
+        out.append(f"potential, Y = S x f x e x H (H the harvested part of the growth), is what the case calls "
+                   f"mature yield: {_yield_text(pot['potential_t_dm_per_ha'], system)}")
     out.extend(assumed_lines(case, pot))
     out.append("")
     for text in (POTENTIAL_NOTE, CAUTIONS[0], CAUTIONS[3]):
