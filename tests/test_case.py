@@ -354,6 +354,7 @@ def test_a_wrong_value_is_told_in_the_units_and_currency_the_case_uses():
     ("revenue", "price_per_t_dm", 400.0, "EUR", False),       # dear, but a price some contracts pay
     ("revenue", "price_per_t_dm", 15_000.0, "JPY", False),    # a currency of about a hundredth of a euro
     ("revenue", "price_per_t_dm", 1e9, "JPY", True),
+    ("revenue", "price_per_t_dm", 1_000_000.0, "VND", False),  # about 40 USD/t in a currency of ~25,000 per USD
 ])
 def test_a_money_input_far_above_what_a_stand_costs_or_earns_is_pointed_out(demo_mappings, section, key, value,
                                                                             currency, warned):

@@ -48,6 +48,14 @@ def test_only_entries_above_the_bound_are_read_as_percentages_in_the_hint(typed,
     load_text(text.replace(f"ramp_up_fractions = {typed}", f"ramp_up_fractions = {meant}"), source="c.toml")
 
 
+def test_a_whole_number_at_an_open_bound_is_read_as_a_percentage():
+    """A moisture must be below 1 (the bound is open): 1 typed for 1 % fails it, so the hint divides it
+    (1 % = 0.01) rather than offering the refused value back."""
+    text = _with("buyer_moisture_max = 0.25 ", "buyer_moisture_max = 1 ")
+    [(key, message)] = [p for p in _problems(text) if p[0] == "harvest.buyer_moisture_max"]
+    assert message.endswith("it looks like a percentage: write fractions, 0.01 for 1"), message
+
+
 # ----------------------------------------------------------------------------- a file that is not UTF-8
 def test_a_file_not_in_utf8_names_the_line_and_column_of_its_first_bad_byte(tmp_path):
     # the case name holds a UTF-8 "Ü" (two bytes, one character) and then a Latin-1 "é" (one byte, 0xe9)

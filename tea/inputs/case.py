@@ -410,8 +410,9 @@ def _range_error(k: schema.Key, value: Any, factor: float, system: str, typed: A
                 # shown as written in the case file, or (a number read from a table cell) in its shortest form
                 show = toml_value if typed is not None else _shortest
                 typed = value if typed is None else typed
-                meant = [round(x / 100, 12) if x > k.hi else x for x in (typed if isinstance(typed, list) else [typed])]
-                if all(x <= k.hi and (k.lo is None or x >= k.lo) for x in meant):
+                above = lambda x: x > k.hi or (k.hi_open and x == k.hi)  # noqa: E731 - fails the upper bound
+                meant = [round(x / 100, 12) if above(x) else x for x in (typed if isinstance(typed, list) else [typed])]
+                if all(not above(x) and (k.lo is None or x >= k.lo) for x in meant):
                     written = show(meant if isinstance(typed, list) else meant[0])
                     return (f"must be {sign} {shown(k.hi):g}, got {shown(v):g}; it looks like a percentage: "
                             f"write fractions, {written} for {show(typed)}")

@@ -22,10 +22,10 @@ COMMON_CURRENCIES = frozenset(
 
 #: currencies of about a US dollar each (within a factor of about two): a money input above its usual
 #: ceiling (:data:`MONEY_USUAL_HI`) in one of them is pointed out; in another currency the ceiling is
-#: :data:`OTHER_CURRENCY_FACTOR` times higher, a bound for values no unit of account makes usual (common
-#: practice: the major currencies' exchange rates, from memory)
+#: :data:`OTHER_CURRENCY_FACTOR` times higher, a bound for values no unit of account makes usual: the
+#: currencies with the most units to a dollar count some 25,000 (common practice: exchange rates, from memory)
 DOLLAR_LIKE = frozenset("AUD CAD CHF EUR GBP NZD USD".split())
-OTHER_CURRENCY_FACTOR = 1000.0
+OTHER_CURRENCY_FACTOR = 100_000.0
 #: usual ceilings of money inputs in a dollar-like currency, by key (canonical, metric units): ten times or
 #: more what a stand on a field commonly costs or earns, so that only a slip (a price typed in the wrong
 #: unit, digits repeated) is pointed out (common practice: establishment a few thousand per ha, biomass tens
