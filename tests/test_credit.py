@@ -475,3 +475,24 @@ def test_a_grant_that_repays_its_bridge_is_not_cash_for_the_loans_service():
     expected[2] -= min(400.0, 400.0 * 1.06 ** 2)  # the grant, as far as it goes to the bridge
     assert_allclose(bridged["cfads"], expected, rtol=1e-12, atol=1e-9)
     assert res["min_dscr_year"] == 2 and res["min_dscr"] == pytest.approx(expected[2] / bridged.loc[2, "debt_service"])
+
+
+def test_the_loan_line_says_a_capped_loan_and_names_grace_years_only_where_they_count():
+    """A sculpted loan capped at what its target DSCR repays draws less than the share asked for: the line
+    gives both (Yescombe ch. 12: the sculpted debt is the present value of CFADS / target). Debt service left
+    uncovered names grace years only where they have debt service (interest paid in them)."""
+    from html import unescape
+
+    from tea.outputs import report, terminal
+
+    case, f, res = run(CLAY, **{"loan.profile": "sculpted", "loan.sculpt_dscr": 3.0,
+                                "loan.share_of_establishment": 1.0})
+    assert res["loan_principal"] < res["loan_asked"] - 1.0
+    page = " ".join(unescape(report.summary_html(case, f, res)).split())
+    assert (f"{terminal._fig(res, case, 'loan_asked')} asked for, {terminal._fig(res, case, 'loan_principal')} "
+            "drawn (what the target DSCR repays)") in page
+    case, f, res = run(CLAY, **{"loan.profile": "straight_line", "loan.grace_years": 0,
+                                "revenue.price_per_t_dm": 40.0})
+    assert res["money_short_of_debt_service"] > 0
+    page = " ".join(unescape(report.summary_html(case, f, res)).split())
+    assert "of debt service uncovered" in page and "grace years included" not in page

@@ -187,3 +187,17 @@ def test_a_new_case_from_another_keeps_its_currency(tmp_path):
                    "--currency", "USD"])
     assert res.code == 2 and not out.exists()
     assert res.err.strip().endswith("so it keeps its currency") and len(res.err.strip().splitlines()) == 1
+
+
+def test_another_crop_of_the_same_preset_is_not_the_same_crop(tmp_path):
+    """One preset stands for several crops (a seed-sown grass: switchgrass, reed canary grass): naming the
+    other one takes its own values, not the source crop's; naming the source's crop rebuilds the source."""
+    source = CASES_DIR / "sandy_slope_switchgrass.toml"
+    other, same = tmp_path / "canary.toml", tmp_path / "again.toml"
+    assert run_cli(["new", other, "--from", source, "--crop", "reed canary grass"]).code == 0
+    assert run_cli(["new", same, "--from", source, "--crop", "switchgrass"]).code == 0
+    assert "The same crop as" not in other.read_text(encoding="utf-8")
+    assert "The same crop as" in same.read_text(encoding="utf-8")
+    base = tea.load_case(source)
+    assert tea.summarise(tea.load_case(same))["npv"] == pytest.approx(tea.summarise(base)["npv"], rel=1e-9)
+    assert tea.load_case(other)["crop.name"] == "reed canary grass"

@@ -284,6 +284,15 @@ def _analysis_lines(section: str, parsed: dict[str, Any], system: str) -> list[s
     return out + [""]
 
 
+def _crop_called(case) -> str:
+    """What a case's crop is called, in lower case: its ``crop.name``, else the first common name of its preset."""
+    named = case.values.get("crop.name")
+    if named:
+        return str(named).strip().lower()
+    aliases = getattr(case.preset, "aliases", ()) or ()
+    return str(aliases[0]).lower() if aliases else str(case["crop.preset"])
+
+
 def starter_case(name: str, crop: str, system: str = "metric", currency: str = "EUR", base=None,
                  crop_name: str | None = None) -> str:
     """TOML text of a starter case for a crop preset, every key documented.
@@ -305,7 +314,9 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         us = dict(US_EXAMPLES, **(US_COPPICE_EXAMPLES if preset.kind == "coppice" else {}))
         examples.update(us)
         in_us = set(us)
-    same_crop = base is not None and base["crop.preset"] == crop
+    # the same crop: the same preset, and no other crop of it named (one preset stands for several crops)
+    same_crop = base is not None and base["crop.preset"] == crop and (
+        crop_name is None or crop_name.strip().lower() == _crop_called(base))
     carried = _carried(base, same_crop) if base is not None else {}
     for own in ("case.currency", "case.units"):  # the command's (the source case's unless it says otherwise)
         carried.pop(own, None)

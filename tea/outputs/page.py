@@ -221,8 +221,10 @@ def _loan_line(case: Case, res: Results) -> str:
              f"{fig_text(case, res, 'min_dscr_year')} (covenant {fig_text(case, res, 'dscr_covenant')}"
              if value_of(res, "min_dscr") is not None else "")
     # debt service the stand's own cash leaves to other funds, in any year (a grace year's interest included)
+    interest_in_grace = (case["loan.grace_years"] or 0) > 0 and case["loan.grace_interest"] != "capitalised"
     short = (f"; the stand's cash leaves {fig_text(case, res, 'money_short_of_debt_service')} of debt service "
-             "uncovered, grace years included" if (value_of(res, "money_short_of_debt_service") or 0) > 0 else "")
+             f"uncovered{', grace years included' if interest_in_grace else ''}"
+             if (value_of(res, "money_short_of_debt_service") or 0) > 0 else "")
     below = value_of(res, "years_below_covenant") or 0
     level = case["loan.profile"] == "annuity"  # the only profile whose payment is the same each year
     # the loan is paid in money of each year, the rest of the page in today's money
@@ -329,8 +331,11 @@ def _loan_terms(case: Case, res: Results) -> str:
     grant = (v.get("establishment.grant_per_ha") or 0) > 0
     basis = " less the grant" if grant and v.get("loan.sized_on") == "cost_net_of_grant" else ""
     grace = v.get("loan.grace_years") or 0
+    asked = (value_of(res, "loan_asked") or 0) > (value_of(res, "loan_principal") or 0) + 0.005
+    drawn = (f"{fig_text(case, res, 'loan_asked')} asked for, {fig_text(case, res, 'loan_principal')} drawn (what "
+             f"the target DSCR repays)" if asked else fig_text(case, res, "loan_principal"))
     parts = [f"{display.percent(v['loan.share_of_establishment'], 0)} of the planting-year cost{basis}, "
-             f"{fig_text(case, res, 'loan_principal')} at {display.percent(v['loan.rate'], 1)}, repaid over "
+             f"{drawn} at {display.percent(v['loan.rate'], 1)}, repaid over "
              f"{v['loan.term_years']} years"
              + (f" after {grace} grace year{'s' if grace != 1 else ''} ("
                 + ("interest added to the loan" if v.get("loan.grace_interest") == "capitalised" else "interest paid")
