@@ -17,6 +17,7 @@ from __future__ import annotations
 import base64
 import re
 from dataclasses import dataclass
+from functools import cached_property
 from xml.sax.saxutils import escape as xml_escape
 
 #: the URL scheme of a chart drawn while the page is laid out (:attr:`Chart.src`)
@@ -61,7 +62,7 @@ class Chart:
         w, h = self.size_pt
         return f'<svg xmlns="http://www.w3.org/2000/svg" width="{w}pt" height="{h}pt" viewBox="0 0 {w} {h}"/>'
 
-    @property
+    @cached_property  # a page is rendered at each density it is tried at: made once per chart
     def data_uri(self) -> str:
         """The SVG as a ``data:`` URL for the PDF engine, which draws it as an image: the same picture, laid
         out faster (:func:`for_engine`)."""
@@ -73,9 +74,6 @@ class Chart:
         :data:`LATER`, which the engine asks for when it reaches the image (:func:`tea.outputs.pdf.layout`)."""
         return self.data_uri if self.svg else f"{LATER}:{self.name}"
 
-
-#: the URL scheme of a chart drawn while the page is laid out (:attr:`Chart.src`)
-LATER = "tea-chart"
 
 
 _ID = re.compile(r'\bid="([^"]+)"')
