@@ -331,9 +331,8 @@ def _loan_terms(case: Case, res: Results) -> str:
     grant = (v.get("establishment.grant_per_ha") or 0) > 0
     basis = " less the grant" if grant and v.get("loan.sized_on") == "cost_net_of_grant" else ""
     grace = v.get("loan.grace_years") or 0
-    asked = (value_of(res, "loan_asked") or 0) > (value_of(res, "loan_principal") or 0) + 0.005
     drawn = (f"{fig_text(case, res, 'loan_asked')} asked for, {fig_text(case, res, 'loan_principal')} drawn (what "
-             f"the target DSCR repays)" if asked else fig_text(case, res, "loan_principal"))
+             f"the target DSCR repays)" if terminal.loan_capped(res) else fig_text(case, res, "loan_principal"))
     parts = [f"{display.percent(v['loan.share_of_establishment'], 0)} of the planting-year cost{basis}, "
              f"{drawn} at {display.percent(v['loan.rate'], 1)}, repaid over "
              f"{v['loan.term_years']} years"

@@ -135,6 +135,12 @@ LABELS = {
     "tax_total": "Tax over the stand life",
 }
 
+def loan_capped(res: Results) -> bool:
+    """Whether the loan drawn is less than the loan asked for (a sculpted loan capped at what its target DSCR
+    repays), by more than half a cent."""
+    return (res["loan_asked"] or 0) > (res["loan_principal"] or 0) + 0.005
+
+
 def sculpted_below_capacity(case: Case, res: Results) -> bool:
     """Whether a sculpted loan is smaller than its target DSCR could carry: its payments then keep the shape of
     the cash available at a higher, single DSCR than the target."""
@@ -211,7 +217,7 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             if name == "min_dscr" and sculpted_below_capacity(case, res):
                 said = (f"above the sculpting target {case['loan.sculpt_dscr']:.2f}: the loan asked for is less than "
                         "that target could carry, so its payments keep the shape of the cash at this higher ratio")
-            if name == "loan_principal" and (res["loan_asked"] or 0) > (res[name] or 0) + 0.005:
+            if name == "loan_principal" and loan_capped(res):
                 said = (f"less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted profile draws at "
                         "most what its target DSCR repays")
             if said:  # under the figure, within the terminal's 100 columns
