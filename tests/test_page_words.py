@@ -74,3 +74,38 @@ def test_page_warnings_say_values_as_a_grower_reads_them(demo_mappings, tmp_path
     case = tea.load_case(path)
     assert any("(expected ..12355.3 [acre])" in w for w in case.warnings)  # the terminal's technical form
     assert "Area planted is 20,000 acres, outside the usual range (up to about 12,000 acres)" in _page_text(case)
+
+
+def test_an_unusual_value_is_said_as_such_even_where_the_key_has_words_of_its_own(demo_mappings, tmp_path):
+    """A key with its own sentence for another warning (a decline given without its start year) still gets
+    "outside the usual range" when its value is unusual, never the other sentence (common practice, as
+    above: the page says what is unusual)."""
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data["yield"]["decline_per_year"] = 0.3  # above the usual 20 % a year
+    data["yield"]["decline_start_year"] = 12
+    path = tmp_path / "steep.toml"
+    path.write_text(to_toml(data), encoding="utf-8")
+    case = tea.load_case(path)
+    assert [w.kind for w in case.warnings if w.path == "yield.decline_per_year"] == ["unusual"]
+    text = _page_text(case)
+    assert "Yearly yield decline is 30 %, outside the usual range (up to 20 %)" in text
+    assert "without the year it starts" not in text
+
+
+def test_a_yield_above_the_sites_potential_is_warned_of_in_the_cases_units(demo_mappings, tmp_path):
+    """The US demo field with a mature yield above what its climate gives: the terminal line names the key as
+    the file spells it and gives both yields in short tons DM per acre (1 t/ha = 0.446090 short ton/acre,
+    NIST SP 811 conversion factors)."""
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    data["yield"]["mature_short_ton_dm_per_acre"] = 9.0
+    data["yield"]["site_factor"] = 1.0
+    data["site_climate"]["radiation_mj_per_m2_per_day"] = [r / 2 for r in data["site_climate"][
+        "radiation_mj_per_m2_per_day"]]  # half the sunlight: a potential below 9 short tons
+    path = tmp_path / "high.toml"
+    path.write_text(to_toml(data), encoding="utf-8")
+    case = tea.load_case(path)
+    line = next(w for w in case.warnings if "potential from its climate" in w)
+    assert line.startswith(f"{path}: yield.mature_short_ton_dm_per_acre: 9 short ton DM/acre (with the site factor)")
+    assert "t DM/ha" not in line and line.path == "yield.mature_t_dm_per_ha"
+    potential = tea.inputs.site.season_for(case.values).peak_t_per_ha * 0.446090
+    assert f"({potential:.3g} short ton DM/acre)" in line

@@ -57,6 +57,60 @@ class Problem:
         return f"{where}: {self.message}"
 
 
+class Notice(str):
+    """A warning about an input that does not stop the run: the technical line the terminal prints (the
+    string itself, ``file: key: message``) and, kept apart so that another reader can word it anew (the
+    grower's page, :mod:`tea.outputs.advice`), what it is about.
+
+    ``key`` is the key as the file spells it, ``path`` the schema's key path
+    it stands for (None: no one key, e.g. a field table's column). ``kind``
+    says what sort of warning it is (:data:`UNUSUAL`, :data:`NOT_GIVEN`,
+    :data:`WHAT_IF`, :data:`OTHER`); an unusual value carries the value, the
+    usual range (``low``/``high``, None where open) and the unit, all as the
+    file gives them; a warning about a what-if section (:data:`WHAT_IF`) has
+    in ``path`` the input its range or distribution is over.
+
+    >>> n = Notice("a.toml", "finance.discount_rate", "0.25 is unusual", path="finance.discount_rate",
+    ...            kind=UNUSUAL, value=0.25, high=0.2, unit="fraction/yr")
+    >>> n, n.path, n.high
+    ('a.toml: finance.discount_rate: 0.25 is unusual', 'finance.discount_rate', 0.2)
+    >>> import pickle; pickle.loads(pickle.dumps(n)).unit
+    'fraction/yr'
+    """
+
+    source: str
+    key: str
+    message: str
+    path: str | None
+    kind: str
+    value: float | None
+    low: float | None
+    high: float | None
+    unit: str | None
+
+    def __new__(cls, source: str, key: str, message: str, *, path: str | None = None, kind: str = "other",
+                value: float | None = None, low: float | None = None, high: float | None = None,
+                unit: str | None = None) -> Notice:
+        self = super().__new__(cls, f"{source}: {key}: {message}" if key else f"{source}: {message}")
+        self.__dict__.update(source=source, key=key, message=message, path=path, kind=kind, value=value,
+                             low=low, high=high, unit=unit)
+        return self
+
+    def __reduce__(self):
+        fields = dict(self.__dict__)
+        return _notice, (fields,)
+
+
+def _notice(fields: dict) -> Notice:
+    """A :class:`Notice` again from its fields (how one is unpickled, e.g. coming back from a worker)."""
+    return Notice(**fields)
+
+
+#: the kinds of :class:`Notice`: a value outside its usual range; a key left out whose default may mislead;
+#: a sensitivity range or risk distribution that does not sit on the case's own value; anything else
+UNUSUAL, NOT_GIVEN, WHAT_IF, OTHER = "unusual", "not_given", "what_if", "other"
+
+
 class CaseError(TeaError):
     """A case (or field table, or edited workbook) that cannot be computed.
 

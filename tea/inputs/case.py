@@ -26,7 +26,7 @@ from tea.methods import finance
 from tea.inputs import published
 from tea.inputs import rules, schema, site, units
 from tea.inputs.rules import COMMON_CURRENCIES, currency_problem, harvest_energy_problem  # noqa: F401
-from tea.core.errors import CaseError, Problem, read_refused
+from tea.core.errors import NOT_GIVEN, UNUSUAL, CaseError, Notice, Problem, read_refused
 from tea.core.safe_text import SHOWN_LIMIT, clip, toml_value
 
 YIELD_CEILING_T_DM_PER_HA = schema.YIELD_CEILING_T_DM_PER_HA
@@ -118,7 +118,7 @@ class Case:
     values: Mapping[str, Any]
     origin: Mapping[str, str]
     notes: Mapping[str, str]
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[Notice, ...] = ()
     given_spelling: Mapping[str, str] = field(default_factory=dict)
 
     def __getitem__(self, path: str) -> Any:
@@ -433,7 +433,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     Every problem is collected; a :class:`CaseError` lists them all.
     """
     problems: list[Problem] = []
-    warnings: list[str] = []
+    warnings: list[Notice] = []
 
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
@@ -574,8 +574,9 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             if k.path == "case.page_size" and system == "us_customary":
                 values[k.path], notes[k.path] = "Letter", "default for a US customary case (ANSI Letter paper)"
             if k.path == "field.current_margin_per_ha":
-                warnings.append(f"{source}: field.{units.spell(k.template, system)}: not given; "
-                                "the current use is taken to earn 0 a year")
+                warnings.append(Notice(source, f"field.{units.spell(k.template, system)}",
+                                       "not given; the current use is taken to earn 0 a year", path=k.path,
+                                       kind=NOT_GIVEN))
     _derive(values, origin, notes, problems, source)
 
     # 5. physical ranges
@@ -588,9 +589,7 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
             bad(spelled.get(k.path) and f"{k.section}.{spelled[k.path]}" or k.path, why)
             rejected[k.path] = spelled.get(k.path, k.name)
             continue
-        warn_hi = k.warn_hi
-        if k.money and warn_hi is None:
-            warn_hi = rules.usual_money_hi(k.path, str(values.get("case.currency", "")))
+        warn_hi = k.usual_hi(str(values.get("case.currency", "")))
         for item in v if isinstance(v, list) else [v]:
             if k.kind in ("float", "int") and (
                 (k.warn_lo is not None and item < k.warn_lo) or (warn_hi is not None and item > warn_hi)
@@ -598,11 +597,13 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 # in the spelling and unit the case used (or its unit system's, for preset values)
                 spelling = spelled.get(k.path) or units.spell(k.template, system)
                 f = factors.get(k.path) or units.spellings(k.template).get(spelling, 1.0)
-                lo = "" if k.warn_lo is None else f"{k.warn_lo / f:g}"
-                hi = "" if warn_hi is None else f"{warn_hi / f:g}"
+                lo = None if k.warn_lo is None else k.warn_lo / f
+                hi = None if warn_hi is None else warn_hi / f
                 unit = k.unit_text(system, str(values.get("case.currency", "")))
-                warnings.append(f"{source}: {k.section}.{spelling}: {item / f:g} is unusual "
-                                f"(expected {lo}..{hi}{f' [{unit}]' if unit else ''}); check it")
+                expected = f"{'' if lo is None else f'{lo:g}'}..{'' if hi is None else f'{hi:g}'}"
+                warnings.append(Notice(source, f"{k.section}.{spelling}", f"{item / f:g} is unusual (expected "
+                                       f"{expected}{f' [{unit}]' if unit else ''}); check it", path=k.path,
+                                       kind=UNUSUAL, value=item / f, low=lo, high=hi, unit=unit or None))
 
     # 6. the site climate: the yield estimate when none is given, a warning above it
     site.apply(values, origin, notes, problems, warnings, source, spelled)
@@ -612,8 +613,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
     if isinstance(rate, float) and rate != 0.0 and 1.0 + rate == 1.0 and "loan.rate" not in rejected:
         # the annuity and the interest lines cannot tell it from 0, but would divide by it
         values["loan.rate"] = 0.0
-        warnings.append(f"{source}: loan.rate: {rate:g} is too small to change any payment (1 + rate rounds to 1); "
-                        "taken as 0, an interest-free loan")
+        warnings.append(Notice(source, "loan.rate", f"{rate:g} is too small to change any payment (1 + rate rounds "
+                               "to 1); taken as 0, an interest-free loan", path="loan.rate"))
     rules.cross_checks(values, problems, warnings, source, spelled, set(rejected) | misplaced, origin)
     if not problems:
         rules.spec_checks(values, warnings, source)

@@ -8,7 +8,7 @@ from __future__ import annotations
 import re
 from typing import Any, Mapping
 
-from tea.core.errors import Problem
+from tea.core.errors import WHAT_IF, Notice, Problem
 from tea.core.safe_text import toml_value
 from tea.inputs import schema, units
 from tea.inputs.schema import YIELD_CEILING_T_DM_PER_HA
@@ -18,35 +18,6 @@ _CURRENCY_RE = re.compile(r"^[A-Z]{3}$")
 COMMON_CURRENCIES = frozenset(
     "AUD BRL CAD CHF CNY CZK DKK EUR GBP HUF INR JPY MXN NOK NZD PLN RON SEK USD ZAR".split()
 )
-
-
-#: currencies of about a US dollar each (within a factor of about two): a money input above its usual
-#: ceiling (:data:`MONEY_USUAL_HI`) in one of them is pointed out; in another currency the ceiling is
-#: :data:`OTHER_CURRENCY_FACTOR` times higher, a bound for values no unit of account makes usual: the
-#: currencies with the most units to a dollar count some 25,000 (common practice: exchange rates, from memory)
-DOLLAR_LIKE = frozenset("AUD CAD CHF EUR GBP NZD USD".split())
-OTHER_CURRENCY_FACTOR = 100_000.0
-#: usual ceilings of money inputs in a dollar-like currency, by key (canonical, metric units): ten times or
-#: more what a stand on a field commonly costs or earns, so that only a slip (a price typed in the wrong
-#: unit, digits repeated) is pointed out (common practice: establishment a few thousand per ha, biomass tens
-#: to a couple of hundred per t DM, heat a few per GJ, carbon credits tens per t CO2e)
-MONEY_USUAL_HI = {
-    "revenue.price_per_t_dm": 1000.0, "revenue.contract_price_per_t_dm": 1000.0,
-    "revenue.price_per_gj": 60.0, "revenue.contract_price_per_gj": 60.0,
-    "carbon.credit_price_per_t_co2e": 1000.0,
-    "establishment.planting_unit_price": 20.0,
-    "nutrients.n_price_per_kg": 20.0, "nutrients.p2o5_price_per_kg": 20.0, "nutrients.k2o_price_per_kg": 20.0,
-    "harvest.drying_per_t_water": 500.0, "costs.haul_per_t_km": 10.0,
-    "costs.baling_chipping_per_t_dm": 500.0, "costs.storage_per_t_dm": 500.0,
-}
-#: the usual ceiling of every other money input (all per ha, or per ha a year)
-MONEY_PER_HA_USUAL_HI = 50_000.0
-
-
-def usual_money_hi(path: str, currency: str) -> float:
-    """Above what a money input is unusual, in the case's currency (canonical units)."""
-    ceiling = MONEY_USUAL_HI.get(path, MONEY_PER_HA_USUAL_HI)
-    return ceiling if currency in DOLLAR_LIKE else ceiling * OTHER_CURRENCY_FACTOR
 
 
 #: how far the centre of a risk distribution may sit from the case's own value before it is pointed out
@@ -70,8 +41,9 @@ def spec_checks(values: Mapping[str, Any], warnings: list, source: str) -> None:
     for path, r in ranges.items():
         base = values.get(path)
         if isinstance(base, (int, float)) and not r["low"] <= base <= r["high"]:
-            warnings.append(f"{source}: sensitivity.ranges.{path}: the case's own value {shown(path, base)} is "
-                            f"outside the range {shown(path, r['low'])} to {shown(path, r['high'])}; check the range")
+            warnings.append(Notice(source, f"sensitivity.ranges.{path}", f"the case's own value {shown(path, base)} "
+                                   f"is outside the range {shown(path, r['low'])} to {shown(path, r['high'])}; "
+                                   "check the range", path=path, kind=WHAT_IF))
     for path, dist in ((values.get("risk") or {}).get("inputs") or {}).items():
         base = values.get(path)
         kind = dist.get("dist")
@@ -84,9 +56,10 @@ def spec_checks(values: Mapping[str, Any], warnings: list, source: str) -> None:
         if not isinstance(base, (int, float)) or centre is None or base == 0:
             continue
         if abs(centre / base - 1.0) > SPEC_CENTRE_TOLERANCE:
-            warnings.append(f"{source}: risk.inputs.{path}: its draws centre on {shown(path, centre)}, "
-                            f"{centre / base - 1.0:+.0%} from the case's own value {shown(path, base)}; the risk "
-                            "results will centre away from the figures of the case: check the distribution")
+            warnings.append(Notice(source, f"risk.inputs.{path}", f"its draws centre on {shown(path, centre)}, "
+                                   f"{centre / base - 1.0:+.0%} from the case's own value {shown(path, base)}; the "
+                                   "risk results will centre away from the figures of the case: check the "
+                                   "distribution", path=path, kind=WHAT_IF))
 
 
 #: sections parsed by their own modules: [sensitivity] and [risk] (ranges and
@@ -143,8 +116,9 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
 
-    def warn(key: str, message: str) -> None:
-        warnings.append(f"{source}: {key}: {message}")
+    def warn(key: str, message: str, path: str | None = None) -> None:
+        """``key`` as the file spells it; ``path``: the schema's key path it stands for, if another."""
+        warnings.append(Notice(source, key, message, path=path or (key if key in schema.BY_PATH else None)))
 
     bad_keys = {p.key for p in problems} | set(rejected)
     values = {p: v for p, v in values.items() if p not in rejected}  # a refused value ties nothing
@@ -189,7 +163,7 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
         elif y > rec:
             warn(key, f"{what} is above the highest recorded for this crop ({rec * f:.3g} {unit})"
                  + ("; the crop's light-use parameters may not suit this site: give the mature yield from local "
-                    "trials" if estimated else ""))
+                    "trials" if estimated else ""), path="yield.mature_t_dm_per_ha")
 
     life = values.get("finance.stand_life_years")
     if isinstance(values.get("operations"), list) and isinstance(life, int):

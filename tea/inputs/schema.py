@@ -22,11 +22,28 @@ from __future__ import annotations
 
 import difflib
 import functools
+import re
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any, Iterable
 
 from tea.inputs import units
+
+#: currencies of about a US dollar each (within a factor of about two): a money input above its usual
+#: ceiling (a money key's ``warn_hi``) in one of them is pointed out; in another currency the ceiling is
+#: :data:`OTHER_CURRENCY_FACTOR` times higher, a bound for values no unit of account makes usual: the
+#: currencies with the most units to a dollar count some 25,000 (common practice: exchange rates, from memory)
+DOLLAR_LIKE = frozenset("AUD CAD CHF EUR GBP NZD USD".split())
+OTHER_CURRENCY_FACTOR = 100_000.0
+#: the usual ceiling of a money input that gives none (all such are per ha, or per ha a year), in a
+#: dollar-like currency: ten times or more what a stand on a field commonly costs or earns, so that only a
+#: slip (a price typed in the wrong unit, digits repeated) is pointed out (common practice: establishment a
+#: few thousand per ha); the keys priced per another unit give their own (biomass tens to a couple of
+#: hundred per t DM, heat a few per GJ, carbon credits tens per t CO2e)
+MONEY_PER_HA_USUAL_HI = 50_000.0
+
+#: a key of the case file named in a description (``rate_basis``)
+_KEY_NAME = re.compile(r"\b[a-z0-9]+_[a-z0-9_]+\b")
 
 
 class _Marker:
@@ -56,7 +73,9 @@ class Key:
 
     ``lo``/``hi`` bound the canonical value (an error outside); ``lo_open``/
     ``hi_open`` make a bound exclusive. ``warn_lo``/``warn_hi`` mark legal but
-    unusual values (a warning outside).
+    unusual values (a warning outside); a money key's ``warn_hi`` is for a
+    currency of about a dollar, :data:`MONEY_PER_HA_USUAL_HI` where not given
+    (see :meth:`usual_hi`).
     """
 
     section: str
@@ -75,6 +94,37 @@ class Key:
     warn_hi: float | None = None
     unit: str = ""  # unit words beyond the slots, e.g. "fraction", "yr", "GJ/t DM"
     aliases: tuple[str, ...] = field(default=())  # further accepted templates (e.g. fresh yield)
+    label: str = ""  # what the key means in a few words, where its description's opening would not say it
+
+    def usual_hi(self, currency: str = "") -> float | None:
+        """Above what a value is unusual (a warning), canonical units; a money key's in ``currency``: its
+        ceiling in a currency of about a dollar (:data:`DOLLAR_LIKE`), :data:`OTHER_CURRENCY_FACTOR` times it
+        in another.
+
+        >>> k = BY_PATH["revenue.price_per_t_dm"]
+        >>> k.usual_hi("EUR"), k.usual_hi("JPY"), BY_PATH["costs.rent_per_ha"].usual_hi("GBP")
+        (1000.0, 100000000.0, 50000.0)
+        """
+        if not self.money:
+            return self.warn_hi
+        ceiling = MONEY_PER_HA_USUAL_HI if self.warn_hi is None else float(self.warn_hi)
+        return ceiling if currency in DOLLAR_LIKE else ceiling * OTHER_CURRENCY_FACTOR
+
+    @cached_property
+    def words(self) -> str:
+        """What the key means in a few words, for a reader of the outputs rather than of the file: ``label``,
+        else the description up to its first stop, colon or bracket without a clause that names a key of the
+        file.
+
+        >>> BY_PATH["finance.discount_rate"].words, BY_PATH["loan.grace_years"].words
+        ('Discount rate', 'Grace years')
+        """
+        if self.label:
+            return self.label
+        opening = re.split(r"[.:(;]", self.doc, maxsplit=1)[0].strip()
+        clauses = [c for c in opening.split(", ") if not _KEY_NAME.search(c)] or [opening]
+        words = ", ".join(clauses)
+        return words[:1].upper() + words[1:]
 
     @cached_property
     def name(self) -> str:
@@ -154,11 +204,12 @@ KEYS: tuple[Key, ...] = (
     _k("establishment", "weed_control_per_{ha}", "float", REQUIRED, "Herbicide and its application in the planting year.", **MONEY_HA),
     _k("establishment", "planting_units_per_{ha}", "float", PRESET,
        "Planting material per ha: rhizomes, cuttings or kg of seed.", lo=0.0, unit="units"),
-    _k("establishment", "planting_unit_price", "float", REQUIRED, "Price of one unit of planting material.", money=True, lo=0.0, unit="/unit"),
+    _k("establishment", "planting_unit_price", "float", REQUIRED, "Price of one unit of planting material.", money=True, lo=0.0, unit="/unit", warn_hi=20),
     _k("establishment", "planting_unit", "str", PRESET, "What one unit of planting material is (shown on outputs)."),
     _k("establishment", "planting_operation_per_{ha}", "float", REQUIRED, "Contract planting or drilling.", **MONEY_HA),
     _k("establishment", "fertiliser_per_{ha}", "float", REQUIRED, "Fertiliser and lime at planting.", **MONEY_HA),
-    _k("establishment", "fencing_other_per_{ha}", "float", 0.0, "Fencing (e.g. against rabbits or deer) and other one-off costs.", **MONEY_HA),
+    _k("establishment", "fencing_other_per_{ha}", "float", 0.0, "Fencing (e.g. against rabbits or deer) and other one-off costs.", **MONEY_HA,
+       label="Fencing and other one-off costs"),
     _k("establishment", "n_{kg}_per_{ha}", "float", 0.0, "Nitrogen applied at planting (for N2O).", lo=0.0, warn_hi=200.0),
     _k("establishment", "failure_probability", "float", PRESET,
        "Chance that establishment partly fails and must be gap-filled or replanted in year 1.", **FRACTION, warn_hi=0.5),
@@ -184,7 +235,8 @@ KEYS: tuple[Key, ...] = (
        "Yield in years 1, 2, ... as fractions of the mature yield, until the list ends (then 1).",
        lo=0.0, hi=1.5, unit="fraction"),
     _k("yield", "decline_start_year", "int", 0, "Last year at full yield before a late decline; 0 means no decline.", lo=0),
-    _k("yield", "decline_per_year", "float", 0.0, "Yield lost per year after decline_start_year, compounding.", **FRACTION, warn_hi=0.2),
+    _k("yield", "decline_per_year", "float", 0.0, "Yield lost per year after decline_start_year, compounding.", **FRACTION, warn_hi=0.2,
+       label="Yearly yield decline"),
     _k("yield", "mortality_per_year", "float", 0.0,
        "Share of the plants (stools, crowns) dying each year from year 2 on, compounding; gaps are not refilled.",
        **FRACTION, warn_hi=0.1),
@@ -201,7 +253,8 @@ KEYS: tuple[Key, ...] = (
        "Rainfall of each month (12 values); with pet_mm it limits the estimate in dry months.",
        lo=0.0, hi=3000.0, unit="mm", source="site climate normals"),
     _k("site_climate", "pet_mm", "list", None, "Potential (reference) evapotranspiration of each month (12 values).",
-       lo=0.0, hi=1000.0, unit="mm", source="site climate normals"),
+       lo=0.0, hi=1000.0, unit="mm", source="site climate normals",
+       label="Potential evapotranspiration"),
     # --- harvest -----------------------------------------------------------------
     _k("harvest", "timing", "enum", PRESET, "When the crop is cut.", choices=("autumn", "late_winter")),
     _k("harvest", "interval_years", "int", PRESET, "Years between harvests (1 for grasses, 2-5 for coppice).", lo=1, hi=10),
@@ -238,7 +291,7 @@ KEYS: tuple[Key, ...] = (
        "sold wet at a price cut per point of moisture above it (price_cut_per_point).",
        choices=("dry", "price_cut")),
     _k("harvest", "drying_per_{t}_water", "float", 0.0,
-       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA),
+       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA, warn_hi=500),
     _k("harvest", "price_cut_per_point", "float", 0.0,
        "Share of the price deducted per percentage point of moisture above the buyer's specification.",
        lo=0.0, hi=0.2, unit="fraction/point"),
@@ -262,7 +315,8 @@ KEYS: tuple[Key, ...] = (
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     *(
-        _k("nutrients", f"{nut}_price_per_{{kg}}", "float", REQUIRED, f"Price of {label} in fertiliser.", money=True, lo=0.0)
+        _k("nutrients", f"{nut}_price_per_{{kg}}", "float", REQUIRED, f"Price of {label} in fertiliser.", money=True, lo=0.0,
+           warn_hi=20.0)
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     _k("nutrients", "urea_share_of_n", "float", 0.0,
@@ -271,10 +325,10 @@ KEYS: tuple[Key, ...] = (
     _k("nutrients", "spreading_per_{ha}", "float", 0.0, "Cost of spreading fertiliser, in each year any is applied.", **MONEY_HA),
     # --- annual costs ----------------------------------------------------------------
     _k("costs", "harvest_per_{ha}", "float", REQUIRED, "Cutting, per harvest.", **MONEY_HA),
-    _k("costs", "baling_chipping_per_{t}_dm", "float", REQUIRED, "Baling or chipping, per t of dry matter harvested.", **MONEY_HA),
+    _k("costs", "baling_chipping_per_{t}_dm", "float", REQUIRED, "Baling or chipping, per t of dry matter harvested.", **MONEY_HA, warn_hi=500),
     _k("costs", "haul_distance_{km}", "float", REQUIRED, "One-way distance from field to buyer.", lo=0.0, warn_hi=300.0),
-    _k("costs", "haul_per_{t}_{km}", "float", REQUIRED, "Haulage, per fresh tonne delivered and unit distance.", **MONEY_HA),
-    _k("costs", "storage_per_{t}_dm", "float", 0.0, "Storage, per t of dry matter sold.", **MONEY_HA),
+    _k("costs", "haul_per_{t}_{km}", "float", REQUIRED, "Haulage, per fresh tonne delivered and unit distance.", **MONEY_HA, warn_hi=10),
+    _k("costs", "storage_per_{t}_dm", "float", 0.0, "Storage, per t of dry matter sold.", **MONEY_HA, warn_hi=500),
     _k("costs", "rent_per_{ha}", "float", 0.0, "Land rent (or its opportunity cost), years 1..stand life.", **MONEY_HA, unit="/yr"),
     _k("costs", "overheads_per_{ha}", "float", 0.0, "Share of farm overheads, years 1..stand life.", **MONEY_HA, unit="/yr"),
     _k("costs", "insurance_per_{ha}", "float", 0.0, "Crop and liability insurance, years 1..stand life.", **MONEY_HA, unit="/yr"),
@@ -288,9 +342,9 @@ KEYS: tuple[Key, ...] = (
        lo=-0.5, hi=1.0, warn_lo=-0.1, warn_hi=0.1, unit="fraction/yr"),
     # --- revenue -----------------------------------------------------------------
     _k("revenue", "price_per_{t}_dm", "float", None, "Biomass price per t of dry matter delivered (give this or price_per_gj).",
-       money=True, lo=0.0),
+       money=True, lo=0.0, warn_hi=1000),
     _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True,
-       lo=0.0, unit="/GJ"),
+       lo=0.0, unit="/GJ", warn_hi=60),
     _k("revenue", "heating_value_gj_per_{t}_dm", "float", PRESET, "Net heating value of the dry matter.", unit="GJ",
        lo=0.0, lo_open=True, warn_lo=12.0, warn_hi=22.0),
     _k("revenue", "price_change_per_year", "float", 0.0,
@@ -304,9 +358,9 @@ KEYS: tuple[Key, ...] = (
        "Years from year 1 sold under a fixed-price contract (then at the market price); 0 = no contract.", lo=0, hi=60),
     _k("revenue", "contract_price_per_{t}_dm", "float", None,
        "Contract price per t of dry matter delivered (give this or contract_price_per_gj, as the market price).",
-       money=True, lo=0.0),
+       money=True, lo=0.0, warn_hi=1000),
     _k("revenue", "contract_price_per_gj", "float", None, "Contract price per GJ delivered.", money=True, lo=0.0,
-       unit="/GJ"),
+       unit="/GJ", warn_hi=60),
     _k("revenue", "contract_change_per_year", "float", 0.0,
        "Yearly change of the contract price (its indexation clause; real or nominal as finance.escalation_basis says).",
        lo=-0.5, hi=1.0, warn_lo=-0.1, warn_hi=0.1, unit="fraction/yr"),
@@ -316,7 +370,7 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "soc_method", "enum", "stock_change",
        "SOC path: IPCC Tier 1 linear stock change over the transition, a first-order approach to the new "
        "equilibrium, or a measured rate per year (soc_rate_t_c_per_ha_per_year) over the transition.",
-       choices=("stock_change", "first_order", "measured_rate")),
+       choices=("stock_change", "first_order", "measured_rate"), label="Soil carbon method"),
     _k("carbon", "transition_years", "int", 20, "Years to the new SOC equilibrium.", lo=1, hi=200,
        source="IPCC 2006 Vol.4 Ch.2, default time dependence of stock change factors (D = 20 yr)"),
     _k("carbon", "first_order_rate_per_year", "float", None,
@@ -362,7 +416,7 @@ KEYS: tuple[Key, ...] = (
        lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
     _k("carbon", "soc_c_to_n", "float", 15.0,
        "C:N ratio of the soil organic matter lost: N mineralised = SOC lost / C:N (IPCC Eq. 11.8).",
-       lo=5.0, hi=40.0, unit="ratio",
+       lo=5.0, hi=40.0, unit="ratio", label="C:N ratio of the soil organic matter lost",
        source="IPCC 2006 Vol.4 Ch.11 Eq. 11.8: default C:N 15 for land-use change (10 for management change); "
               "from memory"),
     _k("carbon", "n2o_method", "enum", "ipcc2006", "IPCC default N2O factors: 2006 Guidelines or 2019 Refinement.",
@@ -371,7 +425,7 @@ KEYS: tuple[Key, ...] = (
     _k("carbon", "diesel_kg_co2_per_{l}", "float", DERIVED,
        "CO2 (only: no CH4 or N2O of combustion) from burning one unit of diesel; the older spelling "
        "diesel_kg_co2e_per_l is read as this key.", unit="kg CO2", lo=0.0, warn_lo=2.0, warn_hi=3.5,
-       aliases=("diesel_kg_co2e_per_{l}",),
+       aliases=("diesel_kg_co2e_per_{l}",), label="CO2 from burning diesel",
        source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/inputs/data/ipcc.toml)"),
     _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
     _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),
@@ -384,7 +438,7 @@ KEYS: tuple[Key, ...] = (
     ),
     _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
        lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)"),
-    _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e"),
+    _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e", warn_hi=1000),
     _k("carbon", "credit_first_year", "int", 1,
        "First verification year: the removals up to it are credited in it, later ones in their own year; none "
        "in the removal year.", lo=0),
@@ -444,7 +498,8 @@ KEYS: tuple[Key, ...] = (
     _k("loan", "rate", "float", None, "Loan interest rate per year (needed when a share is borrowed).",
        lo=0.0, hi=1.0, warn_hi=0.2, unit="fraction/yr"),
     _k("loan", "term_years", "int", 10, "Years of repayment after the grace years.", lo=1, hi=40),
-    _k("loan", "grace_years", "int", 0, "Years 1..n during ramp-up with no principal repaid.", lo=0, hi=10),
+    _k("loan", "grace_years", "int", 0, "Years 1..n during ramp-up with no principal repaid.", lo=0, hi=10,
+       label="Grace years"),
     _k("loan", "grace_interest", "enum", "interest_only",
        "In the grace years, pay the interest, or add it to the loan (capitalised).",
        choices=("interest_only", "capitalised")),

@@ -11,7 +11,8 @@ from __future__ import annotations
 
 import re
 
-from tea.inputs import display, schema, units
+from tea.core.errors import UNUSUAL, WHAT_IF, Notice
+from tea.inputs import display, schema
 from tea.inputs.case import Case
 
 #: what a source note says when it is not a published source
@@ -32,11 +33,11 @@ WHY = {
     "loan": "it sets the loan repayments",
     "case": "it applies to every figure",
 }
-#: warnings with their own words: key path -> sentence
+#: warnings with their own words: key path -> sentence (not for a value of that key outside its usual range,
+#: which is said as such)
 SPECIAL = {
     "field.current_margin_per_ha": "What the field earns today was not given, so it is taken as nothing: the "
                                    "comparison with today's use may flatter the crop.",
-    "finance.inflation": "An inflation rate was given but the discount rate is real, so it is not used.",
     "yield.decline_per_year": "A yearly yield decline was given without the year it starts, so no decline "
                               "is counted.",
     "revenue.price_change_per_year": "A yearly price change was given along with a price path; the path is used.",
@@ -45,9 +46,6 @@ SPECIAL = {
                     "between harvests there is no sale to repay it from: repayments shaped to the harvests "
                     "(a sculpted loan) suit such a crop.",
 }
-_TECHNICAL = re.compile(r"^(?P<source>.*?): (?P<key>[a-z_]+\.[^:\s]+): (?P<message>.*)$", re.S)
-_UNUSUAL = re.compile(r"^(?P<value>\S+) is unusual \(expected (?P<lo>[^.]*)\.\.(?P<hi>[^ )]*)(?: \[(?P<unit>[^\]]*)\])?\); "
-                      r"check it$")
 
 
 def source_text(case: Case, path: str) -> str:
@@ -62,38 +60,15 @@ def source_text(case: Case, path: str) -> str:
     return note
 
 
-def _key_of(spelled: str) -> schema.Key | None:
-    """The schema key a warning names, in whichever unit spelling the case used."""
-    section, _, name = spelled.partition(".")
-    for k in schema.keys_in(section):
-        if name in units.spellings(k.template) or name == k.name:
-            return k
-    return None
-
-
-def _label(k: schema.Key) -> str:
-    """A key's meaning in a few words: its description up to the first stop, colon or bracket, without a
-    clause that names a key of the file (a grower reads the page, not the file)."""
-    words = re.split(r"[.:(;]", k.doc, maxsplit=1)[0].strip()
-    clauses = [c for c in words.split(", ") if not _KEY_NAME.search(c)] or [words]
-    words = ", ".join(clauses)
-    return words[:1].upper() + words[1:]
-
-
-#: a key of the case file named in a description (``rate_basis``)
-_KEY_NAME = re.compile(r"\b[a-z0-9]+_[a-z0-9_]+\b")
 #: units said in words when a count of them is not one
 _PLURAL = {"acre": "acres", "yr": "years", "mile": "miles", "year": "years", "short ton": "short tons"}
 
 
-def _amount(text: str, unit: str | None, about: bool = False) -> str:
+def _amount(value: float, unit: str | None, about: bool = False) -> str:
     """A value of a warning said for a grower: shares as percentages (a yearly one 'a year'), other
     quantities with thousands separators and their unit in words; ``about``: a range's bound, rounded to two
     significant figures (12,355.3 acres: about 12,000 acres)."""
-    try:
-        value = float(text)
-    except ValueError:
-        return f"{text} {unit}".strip() if unit else text
+    value = float(f"{value:.6g}")  # as the terminal's line gives it
     if about and value:
         rounded = float(f"{value:.2g}")
         prefix = "about " if abs(rounded - value) > 1e-9 * abs(value) else ""
@@ -107,34 +82,33 @@ def _amount(text: str, unit: str | None, about: bool = False) -> str:
     return prefix + f"{display.number(value)} {word}".strip()
 
 
-def grower_warning(text: str) -> str:
-    """A warning of the loader, said for a grower: what is unusual and why it matters."""
-    m = _TECHNICAL.match(text)
-    if not m:
-        return text
-    key = _key_of(m["key"])
+def _range(low: float | None, high: float | None, unit: str | None) -> str:
+    """A usual range in words, its unit said once: "0 to 20 % a year", "up to about 12,000 acres"."""
+    lo = None if low is None else _amount(low, unit, about=True)
+    hi = None if high is None else _amount(high, unit, about=True)
+    if lo is None or hi is None:
+        return f"up to {hi}" if hi is not None else f"from {lo}"
+    number = re.match(r"(?:about )?[0-9,.\-\u2212]+", lo)
+    if number and lo[number.end():] == hi[len(hi) - len(lo) + number.end():]:
+        lo = number.group().strip()
+    return f"{lo} to {hi}"
+
+
+def grower_warning(warning: str) -> str:
+    """A warning of the loader, said for a grower: what is unusual and why it matters. A warning that is no
+    :class:`~tea.core.errors.Notice` (nothing known of it but its text) is given as it is."""
+    if not isinstance(warning, Notice):
+        return warning
+    key = schema.BY_PATH.get(warning.path) if warning.path else None
     if key is None:
-        return m["message"][:1].upper() + m["message"][1:]
-    if key.path in SPECIAL:
+        return warning.message[:1].upper() + warning.message[1:]
+    if key.path in SPECIAL and warning.kind != UNUSUAL:
         return SPECIAL[key.path]
     why = WHY.get(key.section, "it changes the figures")
-    unusual = _UNUSUAL.match(m["message"])
-    if unusual:
-        unit, lo, hi = unusual["unit"], unusual["lo"], unusual["hi"]
-        low, high = _amount(lo, unit, about=True), _amount(hi, unit, about=True)
-        if lo and hi:  # the unit said once: "0 to 20 % a year"
-            number = re.match(r"(?:about )?[0-9,.\-\u2212]+", low)
-            if number and low[number.end():] == high[len(high) - len(low) + number.end():]:
-                low = number.group().strip()
-        bound = f"{low} to {high}" if lo and hi else (f"up to {high}" if hi else f"from {low}")
-        return (f"{_label(key)} is {_amount(unusual['value'], unit)}, outside the usual range ({bound}): check it, "
-                f"because {why}.")
-    message = m["message"]
-    return f"{_label(key)}: {message}; check it, because {why}."
-
-
-#: warnings about the what-if sections, whose key names the input they range over
-_WHAT_IF = re.compile(r"^.*?: (?P<section>sensitivity\.ranges|risk\.inputs)\.(?P<path>[a-z_]+\.[a-z0-9_]+): ")
+    if warning.kind == UNUSUAL and warning.value is not None:
+        return (f"{key.words} is {_amount(warning.value, warning.unit)}, outside the usual range "
+                f"({_range(warning.low, warning.high, warning.unit)}): check it, because {why}.")
+    return f"{key.words}: {warning.message}; check it, because {why}."
 
 
 def grower_warnings(case: Case) -> list[str]:
@@ -142,12 +116,11 @@ def grower_warnings(case: Case) -> list[str]:
     distributions that do not sit on the case's own values are said in one sentence naming the inputs."""
     said, off = [], []
     for w in case.warnings:
-        m = _WHAT_IF.match(w)
-        if m is None:
+        if not (isinstance(w, Notice) and w.kind == WHAT_IF):
             said.append(grower_warning(w))
             continue
-        key = schema.BY_PATH.get(m["path"])
-        off.append(_label(key).lower() if key is not None else m["path"])
+        key = schema.BY_PATH.get(w.path)
+        off.append(key.words.lower() if key is not None else w.path)
     if off:
         names = list(dict.fromkeys(off))
         said.append(f"The ranges tried for {', '.join(names)} in the chart of what moves the NPV, or in the risk "
