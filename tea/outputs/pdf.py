@@ -50,6 +50,10 @@ def _engine():
     weasyprint = _import_weasyprint()
     from weasyprint.text.fonts import FontConfiguration
 
+    from tea.outputs import svg_text
+
+    svg_text.install()  # the charts' labels laid out a line at a time, not a letter at a time
+
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     return weasyprint, FontConfiguration(), _fetcher(weasyprint)
 
