@@ -147,21 +147,6 @@ def test_several_cases_side_by_side_in_the_terminal(tmp_path):
     assert any("no loan" in line for line in lines if line.strip().startswith("Lowest DSCR"))
 
 
-def test_side_by_side_labels_are_in_the_cases_units_where_they_share_them(monkeypatch):
-    """A row whose figure is labelled apart for US customary units (terminal.US_LABELS) takes that label when
-    every case is US customary, and the plain one beside a metric case (each cell is in its own case's
-    units; common practice: a table's label names one unit only if all its cells are in it)."""
-    monkeypatch.setitem(terminal.US_LABELS, "npv", "NPV per acre")
-    us, metric = tea.load_case(SANDY), tea.load_case(CLAY)
-
-    def npv_label(cases):
-        results = [tea.summarise(c, tea.build_ledger(c)) for c in cases]
-        return next(r.label for _, g in side_by_side.rows(cases, results) for r in g if r.name == "npv")
-
-    assert npv_label([us, us]) == "NPV per acre"
-    assert npv_label([us, metric]) == terminal.LABELS["npv"]
-
-
 def test_terminal_lines_stay_within_100_characters():
     res = run_cli(["run", CLAY])
     assert res.code == 0

@@ -73,13 +73,6 @@ def _text(case: Case, res: Results, name: str, whole: bool = False, short: bool 
     return terminal._fig(res, case, name, whole=whole), value
 
 
-def _label(name: str, cases: Sequence[Case]) -> str:
-    """A row's label: in the cases' units where they share a unit system (each cell is in its case's own)."""
-    if len({c.unit_system for c in cases}) == 1:
-        return terminal.label(name, cases[0])
-    return terminal.LABELS[name]
-
-
 def rows(cases: Sequence[Case], results: Sequence[Results], short: bool = False) -> list[tuple[str, list[Row]]]:
     """The groups of rows for these cases (the loan group only where a case has a loan); ``short``: paybacks
     as whole years only, for the terminal's narrow columns."""
@@ -93,7 +86,7 @@ def rows(cases: Sequence[Case], results: Sequence[Results], short: bool = False)
         for name in names:
             if name == "carbon_credit_pv" and not any_credit:
                 continue
-            label = FACTS.get(name) or _label(name, cases)
+            label = FACTS.get(name) or terminal.LABELS.get(name, name)
             group.append(Row(name, label, False, tuple(_text(c, r, name, short=short) for c, r in zip(cases, results))))
             if name in WHOLE:
                 group.append(Row(name, f"{label}, whole field", True,
