@@ -259,3 +259,31 @@ def test_chart_labels_drawn_a_line_at_a_time_read_as_the_engines_own(specs, tmp_
         pa, pb = (Image.open(io.BytesIO(_pixels(made[w], tmp_path))).convert("L") for w in ("letters", "lines"))
         differ = int((np.asarray(ImageChops.difference(pa, pb)) > 64).sum())
         assert differ < 0.01 * pa.size[0] * pa.size[1], (kind, differ)
+
+
+@pytest.mark.parametrize("text", [
+    '<text x="20,200" y="30">AB</text>',  # positions for each letter, split by a comma
+    '<text x="20-5" y="30">AB</text>',  # and by a sign
+    '<text x="20" y="30" letter-spacing="3">spaced</text>',
+    '<text x="20" y="30">one <tspan font-weight="bold">two</tspan></text>',
+    '<text x="20" y="30">Line one\u2028Line two</text>',  # a line separator: two lines
+    '<text x="200" y="30" direction="rtl">\u05e9\u05dc\u05d5\u05dd abc</text>',
+    '<text x="20" y="30">\u0633\u0644\u0627\u0645</text>',  # right-to-left letters without the attribute
+])
+def test_text_the_engine_sets_letter_by_letter_is_left_to_it(text, tmp_path, monkeypatch):
+    """Text with per-letter placement, child runs, more than one line or right-to-left letters is drawn as
+    the PDF engine draws it (the same PDF, byte for byte, with and without :mod:`tea.outputs.svg_text`)."""
+    assert pdf._engine() and svg_text._installed
+    svg = f'<svg xmlns="http://www.w3.org/2000/svg" width="300" height="60" font-family="DejaVu Sans">{text}</svg>'
+    chart = charts.Chart(name="t", title="", svg=svg, alt="")
+    made = []
+    for line in (False, True):
+        monkeypatch.setattr(svg_text, "LINE_AT_A_TIME", line)
+        made.append(pdf.write_pdf(pdf.layout(f'<img src="{chart.data_uri}">')))
+    assert made[0] == made[1]
+    monkeypatch.setattr(svg_text, "LINE_AT_A_TIME", True)  # and one plain label is drawn as one line
+    plain = charts.Chart(name="p", title="", svg=svg.replace(text, '<text x="20" y="30">AVAWAY plain</text>'), alt="")
+    monkeypatch.setattr(svg_text, "LINE_AT_A_TIME", False)
+    letters = pdf.write_pdf(pdf.layout(f'<img src="{plain.data_uri}">'))
+    monkeypatch.setattr(svg_text, "LINE_AT_A_TIME", True)
+    assert pdf.write_pdf(pdf.layout(f'<img src="{plain.data_uri}">')) != letters

@@ -13,9 +13,14 @@ Sources named beside each check:
 
 from __future__ import annotations
 
+import json
 import re
 
+import pytest
+
 import tea
+from tea.inputs import schema
+from tea.outputs.advice import grower_warnings
 from tea.outputs import report
 
 from conftest import copy_case, run_cli, to_toml, CASES_DIR
@@ -109,3 +114,52 @@ def test_a_yield_above_the_sites_potential_is_warned_of_in_the_cases_units(demo_
     assert "t DM/ha" not in line and line.path == "yield.mature_t_dm_per_ha"
     potential = tea.inputs.site.season_for(case.values).peak_t_per_ha * 0.446090
     assert f"({potential:.3g} short ton DM/acre)" in line
+
+
+WORDED = [  # (demo case, edits as (section, key, value), what the page must say)
+    ("clay_corner_miscanthus", [("field", "current_margin_per_ha", 60000)],
+     "Current-use margin is 60,000 EUR/ha/yr, outside the usual range (up to 50,000 EUR/ha/yr)"),
+    ("flood_meadow_willow", [("site_climate", "temperature_c", [-5.0] * 12)],
+     "Monthly mean temperature: the site is never warm enough for the crop's season"),
+    ("clay_corner_miscanthus", [("case", "currency", "ISK")],
+     "Currency: ISK is not a common ISO 4217 code; check it, because it applies to every figure."),
+    ("sandy_slope_switchgrass", [("revenue", "price_per_short_ton_dm", 5000.0)],
+     "Biomass price is 5,000 USD/short ton DM, outside the usual range (up to about 910 USD/short ton DM)"),
+    ("flood_meadow_willow", [("operations", None, {"name": "late lime", "year": 40, "cost_per_ha": 10.0})],
+     "Late lime: year 40 is after the stand's last year"),
+    ("clay_corner_miscanthus", [("finance", "inflation", 0.3)],
+     "General inflation per year is 30 % a year, outside the usual range"),
+]
+
+
+@pytest.mark.parametrize("stem, edits, said", WORDED, ids=[w[2][:24] for w in WORDED])
+def test_each_kind_of_warning_reads_as_a_sentence_for_a_grower(demo_mappings, stem, edits, said):
+    """Warnings of each kind (a value outside its usual range, in metric and US units; a rule between keys;
+    the site climate; an operation; a currency) are said once each, as sentences that name no key of the
+    file and do not say "check it" twice (common practice, as above); the terminal keeps its line, which
+    ``--json`` gives as it is."""
+    data = copy_case(demo_mappings[stem])
+    for section, key, value in edits:
+        if key is None:
+            data[section].append(value)
+        else:
+            data[section][key] = value
+    case = tea.load_text(to_toml(data), source="edited.toml")
+    said_all = grower_warnings(case)
+    assert any(said in s for s in said_all), said_all
+    for sentence in said_all:
+        assert sentence.endswith(".") and sentence.count("check it") <= 1, sentence
+        assert not re.search(r"\b[a-z0-9]+_[a-z0-9_]+\b", sentence), sentence
+    assert all(w.path is None or w.path in schema.BY_PATH or w.kind == "what_if" for w in case.warnings)
+
+
+def test_json_gives_the_warnings_as_the_terminal_prints_them(demo_mappings, tmp_path):
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    data["revenue"]["price_per_short_ton_dm"] = 5000.0
+    path = tmp_path / "dear.toml"
+    path.write_text(to_toml(data), encoding="utf-8")
+    res = run_cli(["run", path, "--json"])
+    assert res.code == 0, res.text
+    printed = [line.removeprefix("warning: ") for line in res.err_lines if line.startswith("warning: ")]
+    assert json.loads(res.out)["warnings"] == printed and len(printed) == 1
+    assert "price_per_short_ton_dm: 5000 is unusual" in printed[0]

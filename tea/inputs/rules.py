@@ -10,7 +10,7 @@ from typing import Any, Mapping
 
 from tea.core.errors import WHAT_IF, Notice, Problem
 from tea.core.safe_text import toml_value
-from tea.inputs import schema, units
+from tea.inputs import display, schema, units
 from tea.inputs.schema import YIELD_CEILING_T_DM_PER_HA
 
 _CURRENCY_RE = re.compile(r"^[A-Z]{3}$")
@@ -112,6 +112,19 @@ def harvest_energy_problem(heating_value, moisture):
     return bad, why
 
 
+def mature_yield_as_given(values: Mapping[str, Any], spelled: Mapping[str, str]) -> tuple[str, float, str]:
+    """The mature-yield key as the case spells it (section included), and the factor and unit that show a
+    yield [t DM/ha] in the case's units.
+
+    >>> mature_yield_as_given({"case.units": "us_customary"}, {})
+    ('yield.mature_short_ton_dm_per_acre', 0.4460896, 'short ton DM/acre')
+    """
+    system = "us_customary" if values.get("case.units") == "us_customary" else "metric"
+    factor, unit = display.convert(1.0, "t DM/ha", system)
+    key = "yield." + (spelled.get("yield.mature_t_dm_per_ha") or units.spell("mature_{t}_dm_per_{ha}", system))
+    return key, factor, unit
+
+
 def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset(), origin=None) -> None:
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
@@ -150,11 +163,7 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     y, rec = values.get("yield.mature_t_dm_per_ha"), values.get("yield.record_t_dm_per_ha")
     if isinstance(y, (int, float)) and isinstance(rec, (int, float)) and y > 0 and rec > 0:
         ceiling = min(YIELD_CEILING_T_DM_PER_HA, 2.0 * rec)
-        us = values.get("case.units") == "us_customary"
-        key = "yield." + (spelled.get("yield.mature_t_dm_per_ha")
-                          or units.spell("mature_{t}_dm_per_{ha}", "us_customary" if us else "metric"))
-        f = units.display_factor("mature_{t}_dm_per_{ha}", "us_customary") if us else 1.0
-        unit = "short ton DM/acre" if us else "t DM/ha"
+        key, f, unit = mature_yield_as_given(values, spelled)
         estimated = (origin or {}).get("yield.mature_t_dm_per_ha") == "estimated"
         what = f"{y * f:.3g} {unit}" + (", estimated from the site climate," if estimated else "")
         if y > ceiling:

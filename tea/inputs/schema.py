@@ -113,15 +113,15 @@ class Key:
     @cached_property
     def words(self) -> str:
         """What the key means in a few words, for a reader of the outputs rather than of the file: ``label``,
-        else the description up to its first stop, colon or bracket without a clause that names a key of the
-        file.
+        else the description up to its first full stop, colon or bracket without a clause that names a key of
+        the file.
 
         >>> BY_PATH["finance.discount_rate"].words, BY_PATH["loan.grace_years"].words
         ('Discount rate', 'Grace years')
         """
         if self.label:
             return self.label
-        opening = re.split(r"[.:(;]", self.doc, maxsplit=1)[0].strip()
+        opening = re.split(r"\.(?=\s|$)|[:(;]", self.doc, maxsplit=1)[0].strip()  # "years 1..n" stays whole
         clauses = [c for c in opening.split(", ") if not _KEY_NAME.search(c)] or [opening]
         words = ", ".join(clauses)
         return words[:1].upper() + words[1:]
@@ -167,7 +167,8 @@ KEYS: tuple[Key, ...] = (
     # --- case --------------------------------------------------------------------
     _k("case", "name", "str", REQUIRED, "Name of the case, shown on every output."),
     _k("case", "notes", "str", "", "Free text shown on the outputs (e.g. who prepared it, for whom)."),
-    _k("case", "currency", "str", REQUIRED, "ISO 4217 code of the one currency all money is in (e.g. EUR, USD, GBP)."),
+    _k("case", "currency", "str", REQUIRED, "ISO 4217 code of the one currency all money is in (e.g. EUR, USD, GBP).",
+       label="Currency"),
     _k("case", "units", "enum", "metric", "Unit system the outputs are shown in.", choices=tuple(units.SYSTEMS)),
     _k("case", "demo", "bool", False, "Marks the case as invented demo data; outputs then say so."),
     _k("case", "page_size", "enum", "A4", "Paper size of the printed summary (a US customary case: Letter unless given).",
@@ -184,7 +185,8 @@ KEYS: tuple[Key, ...] = (
        "What the field is used for today (the counterfactual); sets its SOC factors.", choices=LAND_USES),
     _k("field", "current_margin_per_{ha}", "float", 0.0,
        "Annual gross margin the field earns today, before rent and overheads, years 1..stand life; "
-       "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)"),
+       "may be negative.", money=True, unit="/yr", source="case input; 0 if not given (warned)",
+       label="Current-use margin"),
     _k("field", "current_n_{kg}_per_{ha}", "float", 0.0,
        "Nitrogen the current use applies per year (fertiliser and manure N), for its N2O and fertiliser "
        "emissions.", lo=0.0, warn_hi=400.0, unit="/yr"),
@@ -203,7 +205,7 @@ KEYS: tuple[Key, ...] = (
     _k("establishment", "site_preparation_per_{ha}", "float", REQUIRED, "Ploughing, cultivation, stone picking.", **MONEY_HA),
     _k("establishment", "weed_control_per_{ha}", "float", REQUIRED, "Herbicide and its application in the planting year.", **MONEY_HA),
     _k("establishment", "planting_units_per_{ha}", "float", PRESET,
-       "Planting material per ha: rhizomes, cuttings or kg of seed.", lo=0.0, unit="units"),
+       "Planting material per ha: rhizomes, cuttings or kg of seed.", lo=0.0, unit="units", label="Planting density"),
     _k("establishment", "planting_unit_price", "float", REQUIRED, "Price of one unit of planting material.", money=True, lo=0.0, unit="/unit", warn_hi=20),
     _k("establishment", "planting_unit", "str", PRESET, "What one unit of planting material is (shown on outputs)."),
     _k("establishment", "planting_operation_per_{ha}", "float", REQUIRED, "Contract planting or drilling.", **MONEY_HA),
@@ -239,16 +241,17 @@ KEYS: tuple[Key, ...] = (
        label="Yearly yield decline"),
     _k("yield", "mortality_per_year", "float", 0.0,
        "Share of the plants (stools, crowns) dying each year from year 2 on, compounding; gaps are not refilled.",
-       **FRACTION, warn_hi=0.1),
+       **FRACTION, warn_hi=0.1, label="Yearly plant losses"),
     _k("yield", "site_factor", "float", 1.0, "Yield of this field relative to the crop's mature yield (marginal land < 1).",
        lo=0.0, hi=2.0, lo_open=True, warn_hi=1.2, unit="fraction"),
     # --- site climate (optional: the yield potential by Monteith's equation, `tea yield`) ----------
     _k("site_climate", "radiation_mj_per_m2_per_day", "list", None,
        "Mean daily incident global radiation of each month, January first (12 values); with temperature_c it "
        "gives the site's yield potential (no mature yield given: the estimate is used).",
-       lo=0.0, hi=45.0, unit="MJ/m2/d", source="site climate normals (e.g. a national weather service)"),
+       lo=0.0, hi=45.0, unit="MJ/m2/d", source="site climate normals (e.g. a national weather service)",
+       label="Monthly radiation"),
     _k("site_climate", "temperature_c", "list", None, "Mean air temperature of each month, January first (12 values).",
-       lo=-60.0, hi=50.0, unit="degC", source="site climate normals"),
+       lo=-60.0, hi=50.0, unit="degC", source="site climate normals", label="Monthly mean temperature"),
     _k("site_climate", "rainfall_mm", "list", None,
        "Rainfall of each month (12 values); with pet_mm it limits the estimate in dry months.",
        lo=0.0, hi=3000.0, unit="mm", source="site climate normals"),
@@ -274,7 +277,7 @@ KEYS: tuple[Key, ...] = (
        lo=0.0, hi=1.0, hi_open=True, warn_hi=0.75, unit="fraction"),
     _k("harvest", "storage_loss_wet", "float", PRESET,
        "Share of harvested dry matter lost in storage when it is stored wetter than storage_safe_moisture.",
-       **FRACTION, warn_hi=0.4),
+       **FRACTION, warn_hi=0.4, label="Storage loss of biomass stored wet"),
     _k("harvest", "storage_safe_moisture", "float", 0.25,
        "Highest moisture content (wet basis) at which biomass keeps in store with the dry storage loss.",
        lo=0.0, hi=1.0, hi_open=True, unit="fraction",
@@ -291,14 +294,16 @@ KEYS: tuple[Key, ...] = (
        "sold wet at a price cut per point of moisture above it (price_cut_per_point).",
        choices=("dry", "price_cut")),
     _k("harvest", "drying_per_{t}_water", "float", 0.0,
-       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA, warn_hi=500),
+       "Cost of drying, per t of water removed to reach the buyer's moisture specification.", **MONEY_HA, warn_hi=500,
+       label="Drying cost"),
     _k("harvest", "price_cut_per_point", "float", 0.0,
        "Share of the price deducted per percentage point of moisture above the buyer's specification.",
        lo=0.0, hi=0.2, unit="fraction/point"),
     # --- nutrients -----------------------------------------------------------------
     *(
         _k("nutrients", f"{nut}_{timing}_{{kg}}_per_{{t}}_dm", "float", PRESET,
-           f"{label} removed per t of dry matter harvested {when}.", lo=0.0, warn_hi=40.0)
+           f"{label} removed per t of dry matter harvested {when}.", lo=0.0, warn_hi=40.0,
+           label=f"{label} taken off by a harvest {when}")
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
         for timing, when in (("autumn", "in autumn"), ("late_winter", "in late winter"))
     ),
@@ -325,13 +330,18 @@ KEYS: tuple[Key, ...] = (
     _k("nutrients", "spreading_per_{ha}", "float", 0.0, "Cost of spreading fertiliser, in each year any is applied.", **MONEY_HA),
     # --- annual costs ----------------------------------------------------------------
     _k("costs", "harvest_per_{ha}", "float", REQUIRED, "Cutting, per harvest.", **MONEY_HA),
-    _k("costs", "baling_chipping_per_{t}_dm", "float", REQUIRED, "Baling or chipping, per t of dry matter harvested.", **MONEY_HA, warn_hi=500),
+    _k("costs", "baling_chipping_per_{t}_dm", "float", REQUIRED, "Baling or chipping, per t of dry matter harvested.", **MONEY_HA, warn_hi=500,
+       label="Baling or chipping cost"),
     _k("costs", "haul_distance_{km}", "float", REQUIRED, "One-way distance from field to buyer.", lo=0.0, warn_hi=300.0),
-    _k("costs", "haul_per_{t}_{km}", "float", REQUIRED, "Haulage, per fresh tonne delivered and unit distance.", **MONEY_HA, warn_hi=10),
-    _k("costs", "storage_per_{t}_dm", "float", 0.0, "Storage, per t of dry matter sold.", **MONEY_HA, warn_hi=500),
+    _k("costs", "haul_per_{t}_{km}", "float", REQUIRED, "Haulage, per fresh tonne delivered and unit distance.", **MONEY_HA, warn_hi=10,
+       label="Haulage rate"),
+    _k("costs", "storage_per_{t}_dm", "float", 0.0, "Storage, per t of dry matter sold.", **MONEY_HA, warn_hi=500,
+       label="Storage cost"),
     _k("costs", "rent_per_{ha}", "float", 0.0, "Land rent (or its opportunity cost), years 1..stand life.", **MONEY_HA, unit="/yr"),
-    _k("costs", "overheads_per_{ha}", "float", 0.0, "Share of farm overheads, years 1..stand life.", **MONEY_HA, unit="/yr"),
-    _k("costs", "insurance_per_{ha}", "float", 0.0, "Crop and liability insurance, years 1..stand life.", **MONEY_HA, unit="/yr"),
+    _k("costs", "overheads_per_{ha}", "float", 0.0, "Share of farm overheads, years 1..stand life.", **MONEY_HA, unit="/yr",
+       label="Farm overheads"),
+    _k("costs", "insurance_per_{ha}", "float", 0.0, "Crop and liability insurance, years 1..stand life.", **MONEY_HA, unit="/yr",
+       label="Crop and liability insurance"),
     _k("costs", "upkeep_per_{ha}", "float", 0.0, "Yearly field upkeep (weed control, inspection), years 1..stand life.", **MONEY_HA, unit="/yr"),
     _k("costs", "removal_per_{ha}", "float", REQUIRED, "Taking the stand out and returning the field to its former use, in the last year.", **MONEY_HA),
     _k("costs", "change_per_year", "float", 0.0,
@@ -342,9 +352,9 @@ KEYS: tuple[Key, ...] = (
        lo=-0.5, hi=1.0, warn_lo=-0.1, warn_hi=0.1, unit="fraction/yr"),
     # --- revenue -----------------------------------------------------------------
     _k("revenue", "price_per_{t}_dm", "float", None, "Biomass price per t of dry matter delivered (give this or price_per_gj).",
-       money=True, lo=0.0, warn_hi=1000),
+       money=True, lo=0.0, warn_hi=1000, label="Biomass price"),
     _k("revenue", "price_per_gj", "float", None, "Biomass price per GJ delivered, through the heating value.", money=True,
-       lo=0.0, unit="/GJ", warn_hi=60),
+       lo=0.0, unit="/GJ", warn_hi=60, label="Biomass price per GJ"),
     _k("revenue", "heating_value_gj_per_{t}_dm", "float", PRESET, "Net heating value of the dry matter.", unit="GJ",
        lo=0.0, lo_open=True, warn_lo=12.0, warn_hi=22.0),
     _k("revenue", "price_change_per_year", "float", 0.0,
@@ -358,7 +368,7 @@ KEYS: tuple[Key, ...] = (
        "Years from year 1 sold under a fixed-price contract (then at the market price); 0 = no contract.", lo=0, hi=60),
     _k("revenue", "contract_price_per_{t}_dm", "float", None,
        "Contract price per t of dry matter delivered (give this or contract_price_per_gj, as the market price).",
-       money=True, lo=0.0, warn_hi=1000),
+       money=True, lo=0.0, warn_hi=1000, label="Contract price"),
     _k("revenue", "contract_price_per_gj", "float", None, "Contract price per GJ delivered.", money=True, lo=0.0,
        unit="/GJ", warn_hi=60),
     _k("revenue", "contract_change_per_year", "float", 0.0,
@@ -400,7 +410,7 @@ KEYS: tuple[Key, ...] = (
        "measurement or a published synthesis, until the transition period ends.", lo=-5.0, hi=5.0,
        warn_lo=-1.5, warn_hi=1.5,
        source="e.g. Poeplau & Don 2014, GCB Bioenergy, doi:10.1111/gcbb.12043: 0.40 +/- 0.20 t C/ha/yr "
-              "for Miscanthus on former cropland in Europe"),
+              "for Miscanthus on former cropland in Europe", label="Measured SOC change per year"),
     _k("carbon", "prior_biomass_{t}_dm_per_{ha}", "float", DERIVED,
        "Biomass standing on the field before the stand (above and below ground), lost as CO2 at planting.",
        lo=0.0, warn_hi=50.0,
@@ -411,9 +421,10 @@ KEYS: tuple[Key, ...] = (
        lo=0.0, warn_hi=60.0),
     _k("carbon", "stand_biomass_n_{kg}_per_{t}_dm", "float", 0.0,
        "N per t of the stand's own biomass (rhizomes, roots, stools), ploughed in at removal as crop residue.",
-       lo=0.0, warn_hi=30.0),
+       lo=0.0, warn_hi=30.0, label="N content of the stand's biomass"),
     _k("carbon", "biomass_carbon_fraction", "float", 0.47, "Carbon per t of dry matter of the prior vegetation.",
-       lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory"),
+       lo=0.3, hi=0.6, unit="t C/t DM", source="IPCC 2006 Vol.4 Ch.6, default carbon fraction 0.47; from memory",
+       label="Carbon share of the prior vegetation's dry matter"),
     _k("carbon", "soc_c_to_n", "float", 15.0,
        "C:N ratio of the soil organic matter lost: N mineralised = SOC lost / C:N (IPCC Eq. 11.8).",
        lo=5.0, hi=40.0, unit="ratio", label="C:N ratio of the soil organic matter lost",
@@ -429,7 +440,8 @@ KEYS: tuple[Key, ...] = (
        source="IPCC 2006 Vol.2 Ch.1 Tables 1.2/1.4 (see tea/inputs/data/ipcc.toml)"),
     _k("carbon", "diesel_establishment_{l}_per_{ha}", "float", PRESET, "Diesel burnt in establishment.", lo=0.0),
     _k("carbon", "diesel_harvest_{l}_per_{ha}", "float", PRESET, "Diesel burnt per harvest (cutting).", lo=0.0),
-    _k("carbon", "diesel_{l}_per_{t}_dm", "float", PRESET, "Diesel burnt baling or chipping, per t DM harvested.", lo=0.0),
+    _k("carbon", "diesel_{l}_per_{t}_dm", "float", PRESET, "Diesel burnt baling or chipping, per t DM harvested.", lo=0.0,
+       label="Diesel for baling or chipping"),
     _k("carbon", "diesel_removal_{l}_per_{ha}", "float", PRESET, "Diesel burnt removing the stand.", lo=0.0),
     *(
         _k("carbon", f"{nut}_manufacture_{{kg}}_co2e_per_{{kg}}", "float", DERIVED, f"Emissions from making one unit of {label}.",
@@ -437,7 +449,7 @@ KEYS: tuple[Key, ...] = (
         for nut, label in (("n", "N"), ("p2o5", "P2O5"), ("k2o", "K2O"))
     ),
     _k("carbon", "haul_{kg}_co2e_per_{t}_{km}", "float", DERIVED, "Road haulage emissions per fresh t and unit distance.",
-       lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)"),
+       lo=0.0, warn_hi=1.0, source="tea/inputs/data/ipcc.toml (from memory)", label="Haulage emissions"),
     _k("carbon", "credit_price_per_t_co2e", "float", 0.0, "Price a buyer pays per credited t CO2e; 0 = no credits.", money=True, lo=0.0, unit="/t CO2e", warn_hi=1000),
     _k("carbon", "credit_first_year", "int", 1,
        "First verification year: the removals up to it are credited in it, later ones in their own year; none "
@@ -472,7 +484,7 @@ KEYS: tuple[Key, ...] = (
     _k("finance", "discount_rate", "float", REQUIRED, "Discount rate, real or nominal as rate_basis says.",
        lo=-0.5, hi=1.0, lo_open=True, warn_lo=0.0, warn_hi=0.2, unit="fraction/yr"),
     _k("finance", "rate_basis", "enum", "real", "Whether discount_rate is real or nominal (then made real with inflation, Fisher equation).",
-       choices=("real", "nominal")),
+       choices=("real", "nominal"), label="Discount rate basis"),
     _k("finance", "inflation", "float", 0.0, "General inflation per year: makes nominal rates real (rate_basis = nominal) and turns today's money into the loan's money of the year.",
        lo=-0.5, hi=1.0, lo_open=True, warn_lo=-0.05, warn_hi=0.15, unit="fraction/yr"),
     _k("finance", "escalation_basis", "enum", "real",

@@ -13,7 +13,7 @@ from __future__ import annotations
 from typing import Any, Mapping
 
 from tea.core.errors import Notice, Problem
-from tea.inputs import published, units
+from tea.inputs import published, rules
 from tea.methods import lue
 
 SECTION = "site_climate"
@@ -80,16 +80,13 @@ def apply(values: dict, origin: dict, notes: dict, problems: list, warnings: lis
             return
         values[path], origin[path], notes[path] = potential, "estimated", ESTIMATED
     elif potential > 0.0 and assumed(values) > potential:
-        us = values.get("case.units") == "us_customary"
-        key = f"yield.{spelled.get(path) or units.spell('mature_{t}_dm_per_{ha}', 'us_customary' if us else 'metric')}"
-        f, unit = (units.display_factor("mature_{t}_dm_per_{ha}", "us_customary"), "short ton DM/acre") if us \
-            else (1.0, "t DM/ha")
+        key, f, unit = rules.mature_yield_as_given(values, spelled)
         warnings.append(Notice(source, key, f"{assumed(values) * f:.3g} {unit} (with the site factor) is "
                                f"{assumed(values) / potential:.0%} of the site's potential from its climate "
                                f"({potential * f:.3g} {unit}); check it", path=path))
     elif potential <= 0.0:
         warnings.append(Notice(source, TEMPERATURE, "the site is never warm enough for the crop's season; "
-                               "the assumed yield has no climate potential to compare with"))
+                               "the assumed yield has no climate potential to compare with", path=TEMPERATURE))
 
 
 def no_yield_problem(s: lue.Season, source: str) -> Problem:

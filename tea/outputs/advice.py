@@ -32,6 +32,7 @@ WHY = {
     "finance": "it weighs every future year against today",
     "loan": "it sets the loan repayments",
     "case": "it applies to every figure",
+    "site_climate": "it sets what the site can grow",
 }
 #: warnings with their own words: key path -> sentence (not for a value of that key outside its usual range,
 #: which is said as such)
@@ -94,21 +95,27 @@ def _range(low: float | None, high: float | None, unit: str | None) -> str:
     return f"{lo} to {hi}"
 
 
+def _sentence(text: str) -> str:
+    """Text ended as a sentence."""
+    return text if text.endswith((".", "!", "?")) else text + "."
+
+
 def grower_warning(warning: str) -> str:
     """A warning of the loader, said for a grower: what is unusual and why it matters. A warning that is no
     :class:`~tea.core.errors.Notice` (nothing known of it but its text) is given as it is."""
     if not isinstance(warning, Notice):
         return warning
     key = schema.BY_PATH.get(warning.path) if warning.path else None
+    message = warning.message.removesuffix("; check it")  # said below, with why
     if key is None:
-        return warning.message[:1].upper() + warning.message[1:]
+        return _sentence(message[:1].upper() + message[1:])
     if key.path in SPECIAL and warning.kind != UNUSUAL:
         return SPECIAL[key.path]
     why = WHY.get(key.section, "it changes the figures")
     if warning.kind == UNUSUAL and warning.value is not None:
         return (f"{key.words} is {_amount(warning.value, warning.unit)}, outside the usual range "
                 f"({_range(warning.low, warning.high, warning.unit)}): check it, because {why}.")
-    return f"{key.words}: {warning.message}; check it, because {why}."
+    return f"{key.words}: {message}; check it, because {why}."
 
 
 def grower_warnings(case: Case) -> list[str]:

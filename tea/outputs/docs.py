@@ -79,8 +79,20 @@ def update(text: str) -> str:
 
 
 def main(argv: list[str] | None = None) -> int:
-    path = Path(argv[0] if argv else "README.md")
-    path.write_text(update(path.read_text(encoding="utf-8")), encoding="utf-8")
+    import argparse
+
+    parser = argparse.ArgumentParser(prog="python -m tea.outputs.docs",
+                                     description="Regenerate the generated reference blocks of the README (the "
+                                                 "case keys, the JSON figures and the ledger lines).")
+    parser.add_argument("readme", nargs="?", type=Path, default=Path("README.md"),
+                        help="the README to update in place (default: README.md here)")
+    path = parser.parse_args(argv).readme
+    try:
+        text = update(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, ValueError) as exc:
+        print(f"error: {path}: {exc}", file=sys.stderr)
+        return 2
+    path.write_text(text, encoding="utf-8")
     print(f"updated {path}")
     return 0
 

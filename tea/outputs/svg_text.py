@@ -10,8 +10,8 @@ sit where the line's own layout puts them. For such an element,
 :func:`install` has the engine lay the line out once and draw it as one
 line, which is most of the time a page's charts take to draw (about 4 ms a
 label against 0.3 ms, measured on the demo pages). Any other text element
-(several positions, spacing, a length to fit, child ``<tspan>``) is drawn as
-the engine draws it.
+(several positions, spacing, a length to fit, child ``<tspan>``, a line or
+paragraph separator, right-to-left text) is drawn as the engine draws it.
 
 A line laid out whole is kerned as the font says, where letter by letter it
 is not, so a label can come out a fraction of a point narrower; it is then
@@ -20,11 +20,15 @@ closer to what the chart library measured when it placed it.
 
 from __future__ import annotations
 
+import unicodedata
 from functools import lru_cache
 from math import inf
 
 #: attributes that give a text element per-letter placement (drawn letter by letter, as the engine does)
 _PER_LETTER = ("dx", "dy", "rotate", "letter-spacing", "textLength")
+
+#: Unicode bidirectional classes of right-to-left letters and digits
+_RIGHT_TO_LEFT = frozenset({"R", "AL", "AN"})
 
 #: whether one-position text is drawn a line at a time once :func:`install` has run (False: as the engine
 #: draws it, letter by letter; for comparing the two)
@@ -34,11 +38,15 @@ _installed = False
 
 
 def _one_position(node) -> bool:
-    """Whether a text element is one run of text at one point, with no per-letter placement and no children."""
+    """Whether a text element is one left-to-right run of text at one point, with no per-letter placement
+    and no children."""
     attrib = node.attrib
     if any(a in attrib for a in _PER_LETTER) or next(iter(node), None) is not None:
         return False
-    return all(" " not in attrib.get(a, "").strip() for a in ("x", "y"))
+    if node.get("direction") == "rtl" or any(unicodedata.bidirectional(c) in _RIGHT_TO_LEFT for c in node.text):
+        return False  # set letter by letter in the order typed, as the engine does
+    normalize = _pieces()[7]
+    return all(len(normalize(attrib.get(a, "")).split()) <= 1 for a in ("x", "y"))  # as the engine splits them
 
 
 def install() -> bool:
@@ -62,9 +70,10 @@ def install() -> bool:
         return False
 
     def text(svg, node, font_size):
-        if not LINE_AT_A_TIME or node.tag != "text" or not node.text or not _one_position(node):
+        if not LINE_AT_A_TIME or node.tag != "text" or not node.text or not _one_position(node) \
+                or not _line(svg, node, font_size):
             return letter_by_letter(svg, node, font_size)
-        return _line(svg, node, font_size)
+        return None
 
     for tag, drawer in list(engine_svg.TAGS.items()):
         if drawer is letter_by_letter:
@@ -89,9 +98,10 @@ def _pieces():
             size, split_first_line)
 
 
-def _line(svg, node, font_size) -> None:
+def _line(svg, node, font_size) -> bool:
     """Draw a one-position text element as one laid-out line: what the engine's letter-by-letter drawing
-    does, with the line laid out once (:func:`weasyprint.svg.text.text`, whose steps this follows)."""
+    does, with the line laid out once (:func:`weasyprint.svg.text.text`, whose steps this follows); False,
+    and nothing drawn, where the text does not lay out as one line (a line or paragraph separator in it)."""
     (INITIAL_VALUES, draw_emojis, draw_first_line, Matrix, extend_bounding_box, Style, TextBox, normalize, size,
      split_first_line) = _pieces()
 
@@ -115,7 +125,9 @@ def _line(svg, node, font_size) -> None:
     if node.get("direction") in ("ltr", "rtl"):
         style["direction"] = node.get("direction")
 
-    layout, _, _, width, height, baseline = split_first_line(node.text, style, svg.context, inf, 0)
+    layout, _, resume_at, width, height, baseline = split_first_line(node.text, style, svg.context, inf, 0)
+    if resume_at is not None:
+        return False
     x = size(normalize(node.attrib["x"]).strip(), font_size, svg.inner_width) if "x" in node.attrib else None
     y = size(normalize(node.attrib["y"]).strip(), font_size, svg.inner_height) if "y" in node.attrib else None
     if x is not None:
@@ -160,3 +172,4 @@ def _line(svg, node, font_size) -> None:
     svg.stream.end_text()
     svg.stream.pop_state()
     draw_emojis(svg.stream, style, x, y, emojis)
+    return True
