@@ -80,9 +80,17 @@ def test_presets_in_us_units():
     assert "mature_t_dm_per_ha" not in res.out
 
 
-@pytest.mark.parametrize(("region", "shown"), [("europe", True), ("asia_temperate", False), (None, False)])
-def test_non_native_caution_follows_the_preset_for_the_region(demo_mappings, region, shown):
-    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+@pytest.mark.parametrize(("stem", "region", "shown"), [
+    ("clay_corner_miscanthus", "europe", True), ("clay_corner_miscanthus", "asia_temperate", False),
+    ("clay_corner_miscanthus", None, False),
+    # willow (Salix viminalis) is native to Europe and northern Asia only (Spencer 1997, Horticultural Flora of
+    # South-eastern Australia vol. 2, as the coppice preset cites): non-native in North America and Africa too,
+    # which the preset does not list by name
+    ("flood_meadow_willow", "europe", False), ("flood_meadow_willow", "northern_america", True),
+    ("flood_meadow_willow", "africa", True),
+])
+def test_non_native_caution_follows_the_preset_for_the_region(demo_mappings, stem, region, shown):
+    data = copy_case(demo_mappings[stem])
     if region:
         data["field"]["region"] = region
     case = tea.load_text(to_toml(data), source="r.toml")

@@ -54,12 +54,24 @@ class Preset:
     region_sources: Mapping[str, str] = field(default_factory=dict)
 
     def non_native_in(self, region: str | None) -> bool | None:
-        """Whether the crop is non-native in a region (True/False), or None where the preset does not say."""
+        """Whether the crop is non-native in a region (True/False), or None where that cannot be said (no
+        region, or a preset that names no native range).
+
+        A region the preset lists as non-native is (with the source of that
+        listing, e.g. a weed declaration); so is every other region outside
+        the native range it names: a crop is native only where its range is.
+
+        >>> willow = load_preset("coppice")
+        >>> willow.non_native_in("europe"), willow.non_native_in("northern_america"), willow.non_native_in(None)
+        (False, True, None)
+        """
+        if region is None:
+            return None
         if region in self.non_native_regions:
             return True
         if region in self.native_regions:
             return False
-        return None
+        return True if self.native_regions else None
 
 
 def preset_names() -> list[str]:

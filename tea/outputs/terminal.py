@@ -371,6 +371,10 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
                     out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
+            if p.native_regions:
+                elsewhere = [r for r in schema.REGIONS if r not in p.native_regions + p.non_native_regions]
+                if elsewhere:
+                    out.append(f"    non-native too, being outside its native range: {', '.join(elsewhere)}")
         else:
             sources = sorted({short_source(s) for s in p.sources.values()} - {""})
             out.append("    sources: " + "; ".join(sources))
