@@ -259,3 +259,26 @@ def test_a_carbon_credit_price_in_a_us_case_says_its_ton_is_metric():
     assert key.unit_text("metric", "EUR") == "EUR/t CO2e"
     res = run_cli(["sensitivity", SANDY])
     assert res.code == 0 and "USD/metric ton CO2e" in res.out and "USD/t CO2e" not in res.out, res.out
+
+
+def test_seed_is_counted_in_pounds_in_a_us_case(demo_mappings, tmp_path):
+    """US seed is sold by the pound: a US customary case counts the seed-sown grass preset's 8.0 kg/ha of seed
+    as pounds, 7.1 lb/acre as the preset's source gives it (Oklahoma State University, switchgrass stand
+    establishment: "8.0 kg/ha (7.1 lb/acre)"; 1 lb = 0.45359237 kg, 1 acre = 0.40468564224 ha, NIST
+    Handbook 44 Appendix C), so that a price per lb is read as one. A case that names its own unit keeps the
+    preset's rate in the preset's unit."""
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    for key in ("planting_unit", "planting_units_per_acre"):
+        data["establishment"].pop(key)
+    case = tea.load_text(to_toml(data), source="us.toml")
+    assert case["establishment.planting_unit"] == "lb seed"
+    per_acre = case["establishment.planting_units_per_ha"] * HA_PER_ACRE
+    assert round(per_acre, 1) == 7.1
+    data["establishment"]["planting_unit"] = "kg seed"
+    own = tea.load_text(to_toml(data), source="us.toml")
+    assert own["establishment.planting_units_per_ha"] == case.preset.values["establishment.planting_units_per_ha"]
+    assert run_cli(["new", tmp_path / "seed", "--crop", "switchgrass", "--units", "us_customary",
+                    "--currency", "USD"]).code == 0
+    text = (tmp_path / "seed.toml").read_text(encoding="utf-8")
+    assert '# planting_unit = "lb seed"' in text and "# planting_units_per_acre = 7.14" in text
+    assert "kg of seed" not in text

@@ -241,7 +241,9 @@ def test_inputs_are_in_plain_words_with_units_validation_and_sources(tmp_path, d
     for k in schema.KEYS:
         spelled = units.spell(k.template, "us_customary")
         r = rows.get((k.section, spelled)) or rows[(k.section, spelled + "[1]")]
-        assert ws.cell(r, COL["Input"]).value == k.doc.rstrip("."), k.path  # plain words first
+        label = ws.cell(r, COL["Input"]).value  # plain words first, in the case's units
+        assert label == units.in_words_of(k.doc, "us_customary").rstrip("."), k.path
+        assert not re.search(r"\bper ha\b|t DM/ha", label), k.path
         name = "in_" + k.path.replace(".", "_")
         col = COL["Canonical value"] if k.kind in ("float", "int", "list") else COL["Value"]
         letter = ws.cell(1, col).column_letter

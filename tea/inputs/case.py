@@ -53,6 +53,23 @@ class Preset:
     non_native_regions: tuple[str, ...] = ()
     region_sources: Mapping[str, str] = field(default_factory=dict)
 
+    def values_in(self, system: str) -> dict[str, Any]:
+        """The preset's values for a case in a unit system: as given, except that a US customary case counts
+        planting material the preset counts in kilograms (seed) in pounds, as US seed is sold, with the rate per
+        ha in pounds to match (1 lb = 0.45359237 kg, NIST Handbook 44 Appendix C).
+
+        >>> v = load_preset("seeded_grass").values_in("us_customary")
+        >>> v["establishment.planting_unit"], round(v["establishment.planting_units_per_ha"], 2)
+        ('lb seed', 17.64)
+        """
+        values = dict(self.values)
+        unit = values.get("establishment.planting_unit")
+        if system == "us_customary" and isinstance(unit, str) and unit.startswith("kg "):
+            values["establishment.planting_unit"] = "lb " + unit[3:]
+            if isinstance(values.get("establishment.planting_units_per_ha"), (int, float)):
+                values["establishment.planting_units_per_ha"] /= units.KG_PER_LB
+        return values
+
     def non_native_in(self, region: str | None) -> bool | None:
         """Whether the crop is non-native in a region (True/False), or None where that cannot be said (no
         region, or a preset that names no native range).
@@ -550,11 +567,15 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 if "crop.name" not in values:
                     values["crop.name"], origin["crop.name"], notes["crop.name"] = preset_name, "case", "case file"
     if preset is not None:
-        for path, value in preset.values.items():
+        # a case that names its own unit of planting material takes the preset's rate in the preset's unit
+        in_system = preset.values_in(system) if "establishment.planting_unit" not in values else preset.values
+        for path, value in in_system.items():
             if path not in values:
                 values[path] = value
                 origin[path] = "preset"
                 notes[path] = f"preset {preset.name}: {preset.sources[path]}"
+                if value != preset.values[path]:
+                    notes[path] += f"; counted in pounds in a US customary case ({preset.values[path]!r} in kg)"
 
     # 3. fresh-weight yield to dry matter
     if fresh_given and "yield.fresh_moisture" not in rejected:

@@ -9,7 +9,6 @@ source; other defaults are shown commented out.
 from __future__ import annotations
 
 import fnmatch
-import re
 
 from typing import Any
 
@@ -48,6 +47,8 @@ OPTIONAL_EXAMPLES: dict[str, Any] = {
     "loan.rate": 0.055,
 }
 UNIT_PRICE_EXAMPLE = {"rhizome_grass": 0.11, "seeded_grass": 20.0, "coppice": 0.085}
+#: the same in a US customary starter, whose seed is counted in pounds (:meth:`tea.inputs.case.Preset.values_in`)
+US_UNIT_PRICE_EXAMPLE = {"seeded_grass": 9.0}
 COPPICE_EXAMPLES = {"costs.harvest_per_ha": 420.0, "costs.removal_per_ha": 800.0}
 #: the same invented examples for a US customary starter, as round numbers in US units (per acre, short ton,
 #: mile, lb): never converted from the metric ones, so the file reads as a US case would be written
@@ -68,29 +69,6 @@ US_EXAMPLES: dict[str, Any] = {
     "revenue.price_per_t_dm": 85.0,
 }
 US_COPPICE_EXAMPLES = {"costs.harvest_per_ha": 170.0, "costs.removal_per_ha": 320.0}
-#: metric words in key descriptions and their US customary words
-#: (whole words only: "per ha" is not the start of "per harvest"; the amount of planting material stays in the
-#: preset's own unit, e.g. kg of seed, per acre)
-US_WORDS = (("100 t DM/ha", "45 short ton DM/acre"), ("per ha", "per acre"), ("t DM/ha", "short ton DM/acre"),
-            ("per t", "per short ton"), ("_t_per_ha", "_short_ton_per_acre"))
-
-
-def _in_words_of(doc: str, system: str) -> str:
-    """A key's description in the words of a unit system (the schema writes metric).
-
-    >>> _in_words_of("Cutting, per harvest; fuel per ha; price per t DM.", "us_customary")
-    'Cutting, per harvest; fuel per acre; price per short ton DM.'
-    """
-    if system == "metric":
-        return doc
-    for metric, us in US_WORDS:
-        if metric.startswith("_"):  # a part of a key's name
-            doc = doc.replace(metric, us)
-        else:
-            doc = re.sub(rf"(?<![A-Za-z0-9_]){re.escape(metric)}(?![A-Za-z0-9])", us, doc)
-    return doc
-
-
 def _toml(value: Any) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
@@ -312,6 +290,8 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
     in_us = set()
     if system == "us_customary":
         us = dict(US_EXAMPLES, **(US_COPPICE_EXAMPLES if preset.kind == "coppice" else {}))
+        if preset.kind in US_UNIT_PRICE_EXAMPLE:
+            us["establishment.planting_unit_price"] = US_UNIT_PRICE_EXAMPLE[preset.kind]
         examples.update(us)
         in_us = set(us)
     # the same crop: the same preset, and no other crop of it named (one preset stands for several crops)
@@ -371,7 +351,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         lines.append(f"[{section}]")
         for k in schema.keys_in(section):
             unit = k.unit_text(system, currency)
-            doc = f"{_in_words_of(k.doc, system)}" + (f" [{unit}]" if unit else "") + \
+            doc = f"{units.in_words_of(k.doc, system)}" + (f" [{unit}]" if unit else "") + \
                 (f" One of: {', '.join(k.choices)}." if k.choices else "")
             tag = ""  # in a case from a source case: where the value comes from
             if base is not None and k.path not in ("case.name", "case.notes"):
@@ -410,7 +390,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 value, active = examples.get(k.path), True
                 tag = "[new crop: example] " if base is not None else ""
             elif k.path in preset.values:
-                value, active = preset.values[k.path], False
+                value, active = preset.values_in(system)[k.path], False
                 doc += f" Preset: {preset.sources[k.path]}."
                 tag = "[new crop: preset] " if base is not None else ""
             elif k.default in (schema.DERIVED, schema.PRESET) or k.default is None:

@@ -141,3 +141,26 @@ def unit_label(template: str, system: str) -> str:
     if den:
         text = (text or "1") + "/" + "/".join(den)
     return text
+
+
+#: metric words in key descriptions and their US customary words
+#: (whole words only: "per ha" is not the start of "per harvest"; seed is counted in pounds,
+#: :meth:`tea.inputs.case.Preset.values_in`)
+US_WORDS = (("100 t DM/ha", "45 short ton DM/acre"), ("per ha", "per acre"), ("t DM/ha", "short ton DM/acre"),
+            ("per t", "per short ton"), ("_t_per_ha", "_short_ton_per_acre"), ("kg of seed", "lb of seed"))
+
+
+def in_words_of(doc: str, system: str) -> str:
+    """A key's description in the words of a unit system (the schema writes metric).
+
+    >>> in_words_of("Cutting, per harvest; fuel per ha; price per t DM.", "us_customary")
+    'Cutting, per harvest; fuel per acre; price per short ton DM.'
+    """
+    if system == "metric":
+        return doc
+    for metric, us in US_WORDS:
+        if metric.startswith("_"):  # a part of a key's name
+            doc = doc.replace(metric, us)
+        else:
+            doc = re.sub(rf"(?<![A-Za-z0-9_]){re.escape(metric)}(?![A-Za-z0-9])", us, doc)
+    return doc

@@ -361,7 +361,7 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
         aliases = f" (also: {', '.join(p.aliases)})" if p.aliases else ""
         out.append(f"{name}: {p.title}{aliases}")
         if verbose:
-            for path, value in p.values.items():
+            for path, value in p.values_in(system).items():
                 key = schema.BY_PATH[path]
                 spelled = f"{key.section}.{units.spell(key.template, system)}"
                 factor = units.display_factor(key.template, system)

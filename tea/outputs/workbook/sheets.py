@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from tea.core.safe_text import xlsx_literal
-from tea.inputs import display, schema
+from tea.inputs import display, schema, units
 from tea.inputs.case import Case
 from tea.inputs.workbook_reader import INPUT_COLUMNS, INPUT_HEAD_ROW, KEPT_HEADER
 from tea.model.declare import Def
@@ -143,7 +143,7 @@ class SheetWriter:
         note = case.notes.get(k.path) or k.source or ("not used unless given" if value is None else "")
         numeric = k.kind in ("float", "int", "list")
         slots = shown if isinstance(shown, list) else [shown]
-        label = k.doc.rstrip(".")
+        label = units.in_words_of(k.doc, case.unit_system).rstrip(".")
         for i, r in enumerate(item.rows):
             v = slots[i] if i < len(slots) else None
             text(ws, r, col["Input"], label if i == 0 else f"  {i + 1}", st("label"))
