@@ -163,3 +163,15 @@ def test_json_gives_the_warnings_as_the_terminal_prints_them(demo_mappings, tmp_
     printed = [line.removeprefix("warning: ") for line in res.err_lines if line.startswith("warning: ")]
     assert json.loads(res.out)["warnings"] == printed and len(printed) == 1
     assert "price_per_short_ton_dm: 5000 is unusual" in printed[0]
+
+
+def test_a_nominal_rate_is_made_real_on_the_page_by_division_not_subtraction(demo_mappings):
+    """Fisher equation (1 + i) = (1 + r)(1 + inflation): the US demo's 7 % nominal with 2.5 % inflation is
+    1.07 / 1.025 - 1 = 4.39 % real, not 7 - 2.5 = 4.5 %; the page shows the division a reader can redo."""
+    case = tea.load_text(to_toml(copy_case(demo_mappings["sandy_slope_switchgrass"])), source="us.toml")
+    assert case["finance.rate_basis"] == "nominal" and (case["finance.discount_rate"], case["finance.inflation"]) == (
+        0.07, 0.025)
+    assert f"{100 * (1.07 / 1.025 - 1):.2f}" == "4.39"
+    text = _page_text(case)
+    assert "7.0 % nominal with 2.5 % inflation = 4.39 % real (1.07 / 1.025 \u2212 1, Fisher)" in text
+    assert "less" not in text[text.index("nominal") - 20:text.index("nominal") + 40]

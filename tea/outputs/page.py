@@ -100,8 +100,10 @@ def _words(label: str) -> str:
 def rate_text(res: Results) -> str:
     real = display.percent(res.discount_rate_real, 1)
     if res.rate_basis == "nominal":
-        return (f"{display.percent(res.discount_rate_given, 1)} nominal less {display.percent(res.inflation, 1)} "
-                f"inflation = {display.percent(res.discount_rate_real, 2)} real")
+        # (1 + nominal) / (1 + inflation) - 1, not their difference: the sum is shown, so that no reader subtracts
+        return (f"{display.percent(res.discount_rate_given, 1)} nominal with {display.percent(res.inflation, 1)} "
+                f"inflation = {display.percent(res.discount_rate_real, 2)} real "
+                f"({1 + res.discount_rate_given:.4g} / {1 + res.inflation:.4g} \u2212 1, Fisher)")
     return f"{real} real"
 
 
