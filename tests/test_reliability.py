@@ -124,6 +124,14 @@ def test_hole_01_an_empty_area_is_a_bad_row_not_the_base_area(tmp_path):
     assert "line 3 (row 2): area_ha: no area given" in result.err
 
 
+def test_a_row_without_a_field_id_is_a_bad_row_not_a_blank_in_the_ranking(tmp_path):
+    """common practice: a ranked field must be one the advisor can find again."""
+    result, ids = _screen_ids(tmp_path, "field_id,area_ha,site_factor\nF1,5,0.9\n,5,1.0\nF3,7,1.1\n")
+    assert ids == ["F1", "F3"]
+    assert "line 3 (row 2): field_id: no field id given" in result.err
+    assert "1 row skipped" in result.out
+
+
 # ----------------------------------------------------------------------------- 2. formula injection
 INJECTED = ['=HYPERLINK("http://x.invalid","click")', "+cmd|' /C calc'!A0", "@SUM(1+1)", "-2+3", "-A1*2"]
 

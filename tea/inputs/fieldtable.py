@@ -522,6 +522,10 @@ class _Checker:
         for c in self.columns:
             if c.kind in ("id", "label"):
                 shown[c.header] = columns[c.index]
+            if c.kind == "id":
+                for i in np.flatnonzero(columns[c.index] == ""):
+                    flag(i, c.header, "", "no field id given: each field needs one, or its figures could not be "
+                         "told apart from the others'")
         for c in self.keys:
             k = c.key
             raw = columns[c.index]

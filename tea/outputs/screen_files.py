@@ -138,12 +138,18 @@ def write_errors(result: ScreenResult, out: str | Path, force: bool = True) -> P
     return atomic_write_text(out, "\n".join(lines) + "\n", force=force)
 
 
+def _count(n: int, noun: str) -> str:
+    """A count and its noun, plural unless one: ``1 row``, ``3 rows``."""
+    return f"{n:,} {noun}" + ("" if n == 1 else "s")
+
+
 def metadata_lines(result: ScreenResult) -> list[str]:
     """What the table is: the tool, the base case, the counts, the units, demo data, the cautions."""
     case = result.case
     lines = [
         f"tea {__version__} screen of {result.source} over base case {case.name!r} ({case.source}, hash {case.hash})",
-        f"{result.rows_evaluated} fields evaluated, {result.rows_skipped} rows skipped; ranked by {result.rank_by}"
+        f"{_count(result.rows_evaluated, 'field')} evaluated, {_count(result.rows_skipped, 'row')} skipped; ranked "
+        f"by {result.rank_by}"
         + (" (smallest first)" if result.ascending else " (largest first)"),
         result.units_note,
     ]
@@ -160,8 +166,8 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
     case = result.case
     out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]
     out.append("=" * len(out[0]))
-    out.append(f"{result.rows_read} rows read; {result.rows_evaluated} fields evaluated; "
-               f"{result.rows_skipped} rows skipped" + (" (see the error file)" if result.rows_skipped else ""))
+    out.append(f"{_count(result.rows_read, 'row')} read; {_count(result.rows_evaluated, 'field')} evaluated; "
+               f"{_count(result.rows_skipped, 'row')} skipped" + (" (see the error file)" if result.rows_skipped else ""))
     out.append(wrapped(terminal_units_note(case)))  # the file's note says fractions; this table shows percent
     table = result.table
     if len(table):
