@@ -444,3 +444,29 @@ def test_options_that_shape_only_files_are_warned_when_no_file_is_asked_for(tmp_
     assert all("none is asked for" in w for w in warned)
     res = run_cli(["run", case, "--brief", "--sensitivity", "--xlsx", tmp_path / "a.xlsx"])
     assert res.code == 0 and "warning: --sensitivity" not in res.err, res.err
+
+
+def test_a_file_that_is_no_case_is_named_for_what_it_is(tmp_path):
+    """A PDF handed to `tea run` (its signature, ISO 32000-1 section 7.5.2: a file begins "%PDF-") is said to
+    be one, not a case file in the wrong text encoding."""
+    path = tmp_path / "summary.pdf"
+    path.write_bytes(b"%PDF-1.7\n%\xe2\xe3\xcf\xd3\n1 0 obj\n")
+    res = run_cli(["run", path])
+    assert res.code == 2 and len(res.err_lines) == 1, res.text
+    assert "not a case file: it is a PDF document" in res.err and "UTF-8" not in res.err
+
+
+def test_an_unknown_section_lists_every_section_a_case_may_have(tmp_path):
+    path = tmp_path / "odd.toml"
+    path.write_text('[bogus]\nx = 1\n', encoding="utf-8")
+    res = run_cli(["check", path])
+    assert res.code == 2
+    listed = res.err[res.err.index("(sections: "):]
+    for section in ("case", "operations", "sensitivity", "risk", "working_capital"):
+        assert section in listed, section
+
+
+def test_new_keeps_a_toml_ending_in_capitals(tmp_path):
+    res = run_cli(["new", tmp_path / "field.TOML", "--crop", "willow"])
+    assert res.code == 0, res.text
+    assert (tmp_path / "field.TOML").exists() and not (tmp_path / "field.TOML.toml").exists()

@@ -117,7 +117,7 @@ def _cmd_new(args: argparse.Namespace) -> int:
     from tea.inputs.starter import starter_case
 
     crop = preset_for(args.crop)
-    name = args.name if args.name.endswith(".toml") else args.name + ".toml"
+    name = args.name if args.name.lower().endswith(".toml") else args.name + ".toml"  # "field.TOML" as it is
     path = Path(name)
     _check_outputs([(name, (".toml",))], args.force)
     base = load_case(args.base) if args.base else None

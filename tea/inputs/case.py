@@ -259,11 +259,25 @@ def load_case(path: str | Path) -> Case:
         data = path.read_bytes()
     except OSError as exc:
         raise CaseError([Problem(source, "", read_refused(exc))]) from None
+    kind = next((what for magic, what in _NOT_CASES.items() if data.startswith(magic)), None)
+    if kind is not None:
+        raise CaseError([Problem(source, "", f"not a case file: it is {kind}; expected a case file (TOML text, "
+                                             ".toml) or a workbook tea wrote (.xlsx)")])
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise CaseError([Problem(source, "", not_utf8(data, exc.start))]) from None
     return load_text(text.replace("\r\n", "\n").replace("\r", "\n"), source=source)  # line ends as text mode reads them
+
+
+#: the first bytes of files a case is not, and what they are (the formats' published signatures)
+_NOT_CASES = {
+    b"%PDF-": "a PDF document",
+    b"PK\x03\x04": "a zip archive (a workbook is one: give it its .xlsx ending)",
+    b"\x89PNG\r\n\x1a\n": "a PNG picture",
+    b"\xff\xd8\xff": "a JPEG picture",
+    b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1": "an old Office file (.xls, .doc)",
+}
 
 
 def not_utf8(data: bytes, start: int) -> str:
@@ -495,7 +509,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 notes[section] = "case file"
             continue
         if section not in index:
-            bad(_key_text(section), "unknown section" + _suggest(section, schema.SECTIONS) + f" (sections: {', '.join(schema.SECTIONS)})")
+            every = schema.SECTIONS + EXTENSION_SECTIONS
+            bad(_key_text(section), "unknown section" + _suggest(section, every) + f" (sections: {', '.join(every)})")
             close = difflib.get_close_matches(section, schema.SECTIONS, n=1, cutoff=0.5)
             if close and isinstance(table, Mapping):  # its keys were meant for [close]: not reported again as missing
                 misplaced.update(k.path for k in schema.keys_in(close[0]))
