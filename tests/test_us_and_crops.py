@@ -161,6 +161,15 @@ def test_terminal_lines_stay_within_100_characters():
     assert max(len(line) for line in res.out.splitlines()) <= 100  # common practice: a 100-column terminal
 
 
+def test_a_long_figure_continues_under_the_figures_not_the_labels():
+    """The US demo's IRR against current use is undefined with its reason, longer than the line: its second
+    line starts in the figures' column (common practice: a two-column table keeps its columns)."""
+    lines = run_cli(["run", SANDY, "--brief"]).out.splitlines()
+    at = next(i for i, line in enumerate(lines) if line.lstrip().startswith("IRR vs current use"))
+    column = lines[at].index("\u2013 (IRR undefined")
+    assert len(lines[at]) <= 100 and lines[at + 1][:column].strip() == "" and lines[at + 1][column] != " "
+
+
 @pytest.mark.parametrize(("section", "key", "value", "written"), [
     ("yield", "site_factor", 85, "0.85 for 85"),
     ("yield", "ramp_up_fractions", [0, 40, 80], "[0, 0.4, 0.8] for [0, 40, 80]"),

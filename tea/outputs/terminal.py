@@ -212,7 +212,10 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 given, _ = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)
                 per_ha += f" (case: {given:,.2f})"
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
-            out.append(f"  {label(name, case):<{width}}{per_ha:<34}{whole}")
+            row = f"  {label(name, case):<{width}}{per_ha:<34}{whole}".rstrip()
+            # a long figure (a reason it is undefined) continues under the figures, not under the labels
+            out.extend(textwrap.wrap(row, WIDTH, subsequent_indent=" " * (width + 2), break_on_hyphens=False)
+                       if len(row) > WIDTH else [row])
             said = ""
             if name == "min_dscr" and sculpted_below_capacity(case, res):
                 said = (f"above the sculpting target {case['loan.sculpt_dscr']:.2f}: the loan asked for is less than "
