@@ -255,6 +255,10 @@ class TestDemoFieldTable:
         # per-acre money = per-ha money x ha per acre (NIST HB44 exact definition)
         assert row["npv_per_acre"] == pytest.approx(own["npv"] * HA_PER_ACRE, rel=1e-9)
         assert row["npv_field"] == pytest.approx(own.whole_field["npv"], rel=1e-9)
+        # carbon in short tons per acre too, as its column says (1 short ton = 0.90718474 t, NIST HB44)
+        assert row["soc_gain_short_ton_co2e_per_acre"] == pytest.approx(
+            own["soc_gain_t_co2e"] * HA_PER_ACRE / 0.90718474, rel=1e-9)
+        assert not any("_t_c" in c or "_t_dm" in c for c in res.table.columns)
 
 
 BAD_TABLE = """\

@@ -10,6 +10,8 @@ the same one a single case uses), then returns the fields ranked
 
 from __future__ import annotations
 
+import re
+
 import sys
 from dataclasses import dataclass
 from pathlib import Path
@@ -158,13 +160,13 @@ def _units_note(case: Case, terminal: bool = False) -> str:
     """What the numbers of a screen are in: of its files (rates as fractions), or of its terminal view,
     whose table marks whole-field figures by name and shows the IRR in percent."""
     per = "acre" if case.unit_system == "us_customary" else "ha"
-    units = "short tons, miles" if case.unit_system == "us_customary" else "t, km"
+    units = "short tons, carbon included, miles" if case.unit_system == "us_customary" else "t, km"
     if terminal:
         whole, rates = ("in a column marked 'field' (whole field)",
                         "IRR in percent (a fraction in the ranked file: 8.0 % = 0.08)")
     else:
         whole, rates = "the column ends in _field (whole field)", "rates and IRR as fractions (0.08 = 8 %)"
-    return (f"money in {case.currency}; figures per {per} ({units}; carbon in metric t) unless {whole}; {rates}; "
+    return (f"money in {case.currency}; figures per {per} ({units}) unless {whole}; {rates}; "
             "years counted from planting (year 0)")
 
 
@@ -178,7 +180,7 @@ def _rename_with_units(table, case: Case):
 
     Per-area figures end in ``_per_ha`` (``_per_acre``); dry matter in US
     customary units is named ``short_ton_dm``; break-even prices end in the
-    price's unit. Carbon stays in metric tonnes, money in the case's currency.
+    price's unit, carbon ``short_ton_c``/``short_ton_co2e``; money in the case's currency.
     """
     from tea.inputs import display
 
@@ -202,14 +204,16 @@ def _rename_with_units(table, case: Case):
             new = f"{new}_per_ha"
         if us:
             new = new.replace("per_ha", "per_acre")
-            if shown.startswith("short ton"):
-                new = new.replace("_t_dm", "_short_ton_dm")
+            if shown.startswith("short ton"):  # dry matter and carbon alike: converted above
+                new = re.sub(r"_t_(dm|c|co2e)(?=_|$)", r"_short_ton_\1", new)
         renames[name] = new
     for name in FIELD_FIGURES:
         col = f"{name}_field"
-        factor, _ = display.convert(1.0, MODEL.figure(name).unit.replace("/ha", ""), system)
+        factor, shown = display.convert(1.0, MODEL.figure(name).unit.replace("/ha", ""), system)
         if col in table and factor != 1.0:
             table[col] = table[col] * factor
+            if shown.startswith("short ton"):
+                renames[col] = re.sub(r"_t_(dm|c|co2e)(?=_|$)", r"_short_ton_\1", col)
     return table.rename(columns=renames)
 
 

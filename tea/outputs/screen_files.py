@@ -172,10 +172,11 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
     table = result.table
     if len(table):
         per = "acre" if case.unit_system == "us_customary" else "ha"
+        tons = "short_ton" if case.unit_system == "us_customary" else "t"
         label = next((c for c in (ID_COLUMN, "field.name", "name") if c in table), "line")
         cols = [("rank", "rank"), (label, "field"), (f"eav_vs_current_use_per_{per}", f"EAV vs now /{per}/yr"),
                 (f"npv_vs_current_use_per_{per}", f"NPV vs now /{per}"), ("npv_vs_current_use_field", "NPV vs now, field"),
-                ("irr", "IRR"), ("payback_year", "payback yr"), (f"soc_gain_t_co2e_per_{per}", f"SOC t CO2e/{per}")]
+                ("irr", "IRR"), ("payback_year", "payback yr"), (f"soc_gain_{tons}_co2e_per_{per}", f"SOC {tons.replace('_', ' ')} CO2e/{per}")]
         cols = [(c, h) for c, h in cols if c in table]
         head = table.head(top)
         cells = []
