@@ -496,3 +496,18 @@ def test_the_loan_line_says_a_capped_loan_and_names_grace_years_only_where_they_
     assert res["money_short_of_debt_service"] > 0
     page = " ".join(unescape(report.summary_html(case, f, res)).split())
     assert "of debt service uncovered" in page and "grace years included" not in page
+
+
+def test_a_zero_lowest_dscr_says_the_year_had_no_cash_to_cover_anything():
+    """Yescombe, Principles of Project Finance (2nd ed.), ch. 12: DSCR = CFADS / debt service. Where a test
+    year's CFADS is negative the ratio is taken as 0 (tea's definition); the terminal and the page then say
+    that the year's cash is nil or negative, so that 0.00 does not read as a rounded small cover."""
+    from tea.outputs import page, terminal
+
+    case, f, res = run(CLAY, **{"loan.profile": "annuity", "loan.grace_years": 0, "loan.covenant_first_year": 0})
+    year = int(res["min_dscr_year"])
+    assert res["min_dscr"] == 0 and f.loc[year, "cfads"] <= 0 < f.loc[year, "debt_service"]
+    assert "the cash available that year is nil or negative" in terminal.summary_text(case, f, res, yearly=False)
+    assert f"0.00 in year {year}, a year whose cash available is nil or negative" in page._loan_line(case, res)
+    plain, g, low = run(CLAY)
+    assert low["min_dscr"] > 0 and "nil or negative" not in page._loan_line(plain, low)

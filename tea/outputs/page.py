@@ -220,8 +220,9 @@ def _loan_line(case: Case, res: Results) -> str:
     if not value_of(res, "loan_principal"):
         return ""
     cover = (f"lowest DSCR of the covenant test years {fig_text(case, res, 'min_dscr')} in "
-             f"{fig_text(case, res, 'min_dscr_year')} (covenant {fig_text(case, res, 'dscr_covenant')}"
-             if value_of(res, "min_dscr") is not None else "")
+             f"{fig_text(case, res, 'min_dscr_year')}"
+             + (", a year whose cash available is nil or negative" if terminal.no_cash_in_a_test_year(res) else "")
+             + f" (covenant {fig_text(case, res, 'dscr_covenant')}" if value_of(res, "min_dscr") is not None else "")
     # debt service the stand's own cash leaves to other funds, in any year (a grace year's interest included)
     interest_in_grace = (case["loan.grace_years"] or 0) > 0 and case["loan.grace_interest"] != "capitalised"
     short = (f"; the stand's cash leaves {fig_text(case, res, 'money_short_of_debt_service')} of debt service "

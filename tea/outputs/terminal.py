@@ -141,6 +141,12 @@ def loan_capped(res: Results) -> bool:
     return (res["loan_asked"] or 0) > (res["loan_principal"] or 0) + 0.005
 
 
+def no_cash_in_a_test_year(res: Results) -> bool:
+    """Whether the lowest DSCR of the test years is 0 because that year's cash available is nil or negative
+    (the ratio is taken as 0 there, not as a negative number)."""
+    return bool(res["loan_principal"]) and res["min_dscr"] == 0
+
+
 def sculpted_below_capacity(case: Case, res: Results) -> bool:
     """Whether a sculpted loan is smaller than its target DSCR could carry: its payments then keep the shape of
     the cash available at a higher, single DSCR than the target."""
@@ -217,6 +223,9 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             out.extend(textwrap.wrap(row, WIDTH, subsequent_indent=" " * (width + 2), break_on_hyphens=False)
                        if len(row) > WIDTH else [row])
             said = ""
+            if name == "min_dscr" and no_cash_in_a_test_year(res):
+                said = ("0: the cash available that year is nil or negative, so the stand pays none of its debt "
+                        "service (the ratio is taken as 0, not as a negative number)")
             if name == "min_dscr" and sculpted_below_capacity(case, res):
                 said = (f"above the sculpting target {case['loan.sculpt_dscr']:.2f}: the loan asked for is less than "
                         "that target could carry, so its payments keep the shape of the cash at this higher ratio")
