@@ -27,6 +27,8 @@ from tea.model.definition import MODEL
 from tea.model.evaluate import evaluate
 from tea.model.slopes import expanded
 
+from conftest import CASES_DIR, run_cli
+
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = ("clay_corner_miscanthus", "sandy_slope_switchgrass", "flood_meadow_willow")
 M = expanded(MODEL)
@@ -203,3 +205,14 @@ def test_a_us_case_is_explained_with_its_values_in_its_own_units_too():
     npv = tea.summarise(tea.load_case(path))["npv"]
     assert f"({display.number(npv * 0.40468564224)} USD/acre)" in res.out
     assert "a value in brackets is in the case's units" in res.out
+
+
+def test_a_us_case_finds_its_own_keys_and_values_among_the_inputs():
+    """The inputs of a US customary case are listed with the key as its file spells it and its value in its
+    units beside the model's (1 short ton = 0.90718474 t, 1 acre = 0.40468564224 ha, NIST Handbook 44
+    Appendix C): the demo file's mature yield, 4.6 short ton DM/acre, is found as written."""
+    res = run_cli(["explain", CASES_DIR / "sandy_slope_switchgrass.toml", "sold_t_dm", "--year", "5"])
+    assert res.code == 0, res.text
+    line = next(x for x in res.out.splitlines() if x.strip().startswith("yield.mature_t_dm_per_ha ="))
+    metric = 4.6 * 0.90718474 / 0.40468564224
+    assert f"= {metric:.6g} t DM/ha/yr (yield.mature_short_ton_dm_per_acre = 4.6 short ton DM/acre/yr)" in line

@@ -7,7 +7,7 @@ from typing import Any
 import numpy as np
 
 from tea.model.explain import Explanation, Node
-from tea.inputs import display
+from tea.inputs import display, schema, units
 
 WIDTH = 100
 
@@ -32,6 +32,29 @@ def _in_system(v: Any, unit: str, currency: str, system: str) -> str:
     if factor == 1.0 and shown == unit:
         return ""
     return f" ({_value(float(v) * factor, shown, currency)})"
+
+
+def _plain(value: Any) -> str:
+    """An input's value as the model holds it, to six significant figures (a list item by item)."""
+    if isinstance(value, list):
+        return ", ".join(_plain(x) for x in value)
+    return f"{value:.6g}" if isinstance(value, float) else str(value)
+
+
+def _as_the_case_gives(path: str, value: Any, currency: str, system: str) -> str:
+    """`` (the key as a US customary case spells it = its value there, with the unit)`` where that differs from
+    the model's key and value, else ""."""
+    k = schema.BY_PATH.get(path)
+    if system == "metric" or k is None:
+        return ""
+    spelled, factor = units.spell(k.template, system), units.display_factor(k.template, system)
+    if spelled == k.name and factor == 1.0:
+        return ""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        value = value * factor
+    elif isinstance(value, list):
+        value = [x * factor for x in value]
+    return f" ({k.section}.{spelled} = {_plain(value)} {k.unit_text(system, currency)})"
 
 
 def _node(n: Node, currency: str, indent: str, out: list[str], system: str = "metric") -> None:
@@ -65,8 +88,8 @@ def explain_text(ex: Explanation, currency: str, system: str = "metric") -> str:
     else:
         out += ["", "Case inputs it uses (a 1 % change, or a step for a whole number or a choice, moves it):"]
     for u in ex.inputs:
-        value = u.value if not isinstance(u.value, list) else ", ".join(f"{x:g}" for x in u.value)
-        out.append(f"  {u.path} = {value} {u.unit}  [{u.origin}] {u.source}".rstrip())
+        out.append(f"  {u.path} = {_plain(u.value)} {u.unit}{_as_the_case_gives(u.path, u.value, currency, system)}"
+                   f"  [{u.origin}] {u.source}".rstrip())
     if ex.constants:
         out += ["", "Constants:"]
         out += [f"  {c['name']} = {c['value']:.10g} {c['unit']}: {c['source']}" for c in ex.constants]
