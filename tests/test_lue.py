@@ -349,6 +349,13 @@ def test_tea_yield_on_every_demo_case(path, tmp_path):
     assert said in flat, flat
     shown = float(flat.split(said + ": ", 1)[1].split()[0].replace(",", ""))
     assert case.unit_system != "metric" or shown == pytest.approx(potential["potential_t_dm_per_ha"], abs=0.051)
+    # every dry matter in the case's units, the monthly table's total included (1 short ton = 0.90718474 t,
+    # 1 acre = 0.40468564224 ha: NIST Handbook 44 Appendix C)
+    us = case.unit_system == "us_customary"
+    total = sum(r["dry_matter_t_per_ha"] for r in season.rows()) * (0.40468564224 / 0.90718474 if us else 1.0)
+    year_row = next(line for line in res.out.splitlines() if line.strip().startswith("year "))
+    assert float(year_row.split()[-1]) == pytest.approx(total, abs=0.006)
+    assert ("t DM/ha" in res.out) is not us
     js = run_cli(["yield", path, "--json", "--plot", tmp_path / "season.svg"])
     assert js.code == 0, js.text
     data = json.loads(js.out)

@@ -51,20 +51,24 @@ def yield_text(case: Case) -> str:
                f"e {p['rue_g_per_mj_par']:g} g/MJ")
     out.append(f"growing season: {s.season_days} days; largest leaf area index {s.lai_max_reached:.1f}")
     out.append("")
+    # dry matter in the case's units (radiation in MJ/m2 whatever the units: the measure weather services give)
+    dm_factor, dm_unit = display.convert(1.0, "t DM/ha", system)
     for name, value, unit in terms(s):
+        if unit == "t DM/ha":
+            value, unit = value * dm_factor, dm_unit
         shown = f"{value:.3f}" if unit == "fraction" else f"{value:,.2f}" if unit != "MJ/m2" else f"{value:,.0f}"
-        also = f" ({_yield_text(value, system)})" if unit == "t DM/ha" and system != "metric" else ""
-        out.append(f"  {name:52} {shown:>10} {unit}{also}")
+        out.append(f"  {name:52} {shown:>10} {unit}")
     out.append("")
-    out.append(f"  {'month':5} {'global':>8} {'PAR in':>8} {'PAR':>8} {'share':>7} {'water':>6} {'dry matter':>11}")
-    out.append(f"  {'':5} {'MJ/m2':>8} {'season':>8} {'interc.':>8} {'interc.':>7} {'factor':>6} {'t DM/ha':>11}")
+    dm_head = dm_unit.replace("short ton DM", "sh.ton DM")  # the column's width
+    out.append(f"  {'month':5} {'global':>8} {'PAR in':>8} {'PAR':>8} {'share':>7} {'water':>6} {'dry matter':>13}")
+    out.append(f"  {'':5} {'MJ/m2':>8} {'season':>8} {'interc.':>8} {'interc.':>7} {'factor':>6} {dm_head:>13}")
     for m, row in zip(MONTHS, s.rows()):
         out.append(f"  {m:5} {row['global_radiation_mj_per_m2']:8.0f} {row['par_in_season_mj_per_m2']:8.0f} "
                    f"{row['intercepted_par_mj_per_m2']:8.0f} {row['share_intercepted']:7.2f} "
-                   f"{row['water_factor']:6.2f} {row['dry_matter_t_per_ha']:11.2f}")
+                   f"{row['water_factor']:6.2f} {row['dry_matter_t_per_ha'] * dm_factor:13.2f}")
     total = sum(r["dry_matter_t_per_ha"] for r in s.rows())
     out.append(f"  {'year':5} {s.global_radiation.sum():8.0f} {s.radiation:8.0f} {s.intercepted_par.sum():8.0f} "
-               f"{s.intercepted_share:7.2f} {'':6} {total:11.2f}")
+               f"{s.intercepted_share:7.2f} {'':6} {total * dm_factor:13.2f}")
     out.append("")
     # which product the case takes as its mature yield: before H where H is a late harvest's loss (the ledger
     # takes the loss off itself), after H where H is the harvested part of the growth (a coppice's stems)
