@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 import tomllib
 from pathlib import Path
 
@@ -470,3 +471,20 @@ def test_new_keeps_a_toml_ending_in_capitals(tmp_path):
     res = run_cli(["new", tmp_path / "field.TOML", "--crop", "willow"])
     assert res.code == 0, res.text
     assert (tmp_path / "field.TOML").exists() and not (tmp_path / "field.TOML.toml").exists()
+
+
+def test_the_short_list_of_sources_names_references_not_fragments_of_findings():
+    """`tea presets` lists each preset's sources by name: authors and year, a journal and volume, an
+    organisation, or an attribution that stands for itself (common practice, from memory, derived, guides),
+    never the opening words of what a source found (the project's rule for source notes)."""
+    res = run_cli(["presets"])
+    assert res.code == 0
+    listed = [s for line in res.out.splitlines() if line.strip().startswith("sources: ")
+              for s in line.split("sources: ", 1)[1].split("; ")]
+    assert len(listed) > 20
+    own = ("common practice", "from memory", "derived", "extension guides", "grower guides")
+    for s in listed:
+        assert s.startswith(own) or re.match(r'[A-Z"]|iForest ', s), s  # iForest: a journal's own spelling
+        assert not re.match(r"[A-Z][a-z]? \d|within |published|a |year ", s), s
+        assert s.startswith('"') or not s.endswith("\u2026"), s
+    assert "Szczukowski et al. 2002" in listed and "Biomass and Bioenergy 25(6)" in listed

@@ -343,7 +343,9 @@ SHORT_SOURCE = 60
 def short_source(text: str) -> str:
     """What a source text names, for a short list: the words before its first comma, colon or semicolon
     outside brackets (``derived``, ``from memory`` and ``common practice`` stand for themselves), after what
-    a changed value was, cut at :data:`SHORT_SOURCE` characters.
+    a changed value was; where the text opens with what was found rather than who says so (a measurement,
+    "published ...", "within the published ..."), the first reference it gives in brackets; a bracket dropped
+    from a name longer than :data:`SHORT_SOURCE` characters, and a name still longer cut there.
 
     >>> short_source("changed from 30: Szczukowski et al. 2002, Plant Soil Environ. 48:413")
     'Szczukowski et al. 2002'
@@ -351,16 +353,69 @@ def short_source(text: str) -> str:
     'Hay and Forage Grower (hayandforage.com, Maintenance)'
     >>> short_source("derived: 1.0 x (1 - 0.30)")
     'derived'
+    >>> short_source("K 1.2-2.4 g/kg in stems (2009) of clones (Biomass and Bioenergy 25(6):571-580, 2003)")
+    'Biomass and Bioenergy 25(6)'
+    >>> short_source("University of Missouri Extension G1208 (J. C. Frisby, reviewed 1993), Fuel Requirement Estimates")
+    'University of Missouri Extension G1208'
+    >>> short_source("Wilson, Heaton, Liebman & Moore 2013, Agronomy Journal"), short_source("Kemmerer & Liu 2010, x")
+    ('Wilson et al. 2013', 'Kemmerer & Liu 2010')
+    >>> short_source("published: 5 % lost (Harvesting Losses in Willow, Energies 17(7):1541, 2024)")
+    'Energies 17(7)'
     """
     text = _CHANGED.sub("", text.strip(), count=1)
+    if _FINDING.match(text) and not text.startswith(_STANDS_FOR_ITSELF):
+        cited = next((g for g in _bracketed(text) if re.match(r"[A-Z][A-Za-z]{2,}|\"", g)), None)
+        if cited is not None and cited.startswith('"'):  # a study named by its title
+            text = '"' + cited[1:].partition('"')[0] + '"'
+        elif cited is not None:
+            text = cited
+            journal = _JOURNAL.search(text)  # a paper's title first, then its journal: the journal names it
+            if journal and not _AUTHORS.match(text):
+                return journal.group(1)
+    authors = _AUTHORS.match(text)
+    if authors:  # "Szczukowski, Tworkowski, Klasa & Stolarski 2002": the first author et al., the year
+        first, others, year = authors.group(1), authors.group(2), authors.group(3)
+        return f"{first} et al. {year}" if "," in others or "et al" in others else f"{first}{others} {year}"
+    name = text if text.startswith('"') else _before_first_stop(text)
+    if len(name) > SHORT_SOURCE:
+        name = re.sub(r"\s*\([^()]*(?:\([^()]*\)[^()]*)*\)", "", name).strip()
+    return name if len(name) <= SHORT_SOURCE else name[:SHORT_SOURCE - 1].rstrip() + "\u2026"
+
+
+#: a source text that opens with what was found (a measurement, "published", "within the published"), not a name
+_FINDING = re.compile(r"(?:[a-z]|[A-Z][a-z]? \d|\d)")
+#: authors and year opening a reference: "Wilson, Heaton, Liebman & Moore 2013", "Kemmerer & Liu 2010",
+#: "Sanderson et al. 1997"
+_AUTHORS = re.compile(r"([A-Z][\w\-']+)((?:,? (?:[A-Z][\w\-']+|&|and|et al\.))*) ((?:19|20)\d\d)\b")
+#: a journal and its volume in a reference: "Biomass and Bioenergy 25(6):571-580"
+_JOURNAL = re.compile(r"([A-Z][A-Za-z&\- ]+ \d+(?:\([\d\-]+\))?):\d+")
+#: source texts that name no reference but stand for themselves
+_STANDS_FOR_ITSELF = ("derived", "from memory", "common practice")
+
+
+def _bracketed(text: str) -> list[str]:
+    """The contents of the outermost brackets of a text, in order."""
+    found, depth, start = [], 0, 0
+    for i, ch in enumerate(text):
+        if ch == "(":
+            if depth == 0:
+                start = i + 1
+            depth += 1
+        elif ch == ")" and depth:
+            depth -= 1
+            if depth == 0:
+                found.append(text[start:i])
+    return found
+
+
+def _before_first_stop(text: str) -> str:
+    """A text up to its first comma, colon or semicolon outside brackets."""
     depth = 0
     for i, ch in enumerate(text):
         depth += 1 if ch in "([" else (-1 if ch in ")]" else 0)
         if ch in ",:;" and depth == 0:
-            text = text[:i]
-            break
-    text = text.strip()
-    return text if len(text) <= SHORT_SOURCE else text[:SHORT_SOURCE - 1].rstrip() + "\u2026"
+            return text[:i].strip()
+    return text.strip()
 
 
 def presets_text(verbose: bool = False, system: str = "metric") -> str:
