@@ -201,3 +201,19 @@ def test_another_crop_of_the_same_preset_is_not_the_same_crop(tmp_path):
     base = tea.load_case(source)
     assert tea.summarise(tea.load_case(same))["npv"] == pytest.approx(tea.summarise(base)["npv"], rel=1e-9)
     assert tea.load_case(other)["crop.name"] == "reed canary grass"
+
+
+def test_a_starter_in_a_currency_far_from_a_dollar_asks_for_every_money_value(tmp_path):
+    """tea's invented examples are amounts in a currency of about a dollar; in yen (about 150 to the dollar,
+    from memory) they would read as real prices 150 times too small. A JPY starter holds no number in its
+    money keys, and `tea check` names each until it is given; in pounds sterling the examples stand."""
+    assert run_cli(["new", tmp_path / "yen", "--crop", "willow", "--currency", "JPY"]).code == 0
+    text = (tmp_path / "yen.toml").read_text(encoding="utf-8")
+    assert 'price_per_t_dm = "your JPY value"' in text and "price_per_t_dm = 95" not in text
+    res = run_cli(["check", tmp_path / "yen.toml"])
+    assert res.code == 2
+    named = {line.split(": ")[2] for line in res.err_lines if line.startswith("error:")}
+    assert {"revenue.price_per_t_dm", "establishment.planting_unit_price", "costs.harvest_per_ha"} <= named
+    assert all("expected a number [JPY/" in line for line in res.err_lines if line.startswith("error:"))
+    assert run_cli(["new", tmp_path / "pound", "--crop", "willow", "--currency", "GBP"]).code == 0
+    assert run_cli(["check", tmp_path / "pound.toml"]).code == 0

@@ -328,6 +328,10 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                   *_wrapped("Not carried, the source crop's own values: ", dropped),
                   "# Not carried: the source case's [[operations]] (below, behind '#': take back those of the field),",
                   "# [sensitivity] and [risk] (their ranges are about the source crop)."]
+    dollar_like = currency in schema.DOLLAR_LIKE
+    if not dollar_like:
+        lines += [f"# Money: tea's examples are in a currency of about a dollar, so the money keys marked [your value]",
+                  f"# hold no number: give each in {currency} (`tea check` lists those still missing)."]
     lines += [
         "# Keys behind '#' show the preset's or the default value; remove the '#' to change one.",
         "# Units are in the key names; the README's case-file reference lists every key.",
@@ -401,6 +405,11 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                     doc += " Not used unless given; the value shown is an example."
             else:
                 value, active = k.default, False
+            if active and k.money and k.path in examples and value is not None and not dollar_like:
+                # an example in a currency of about a dollar would read as a real price in this one: the key
+                # is left for the user's own value, which the loader asks for until it is given
+                value = f"your {currency} value"
+                tag += "[your value] "
             spelling, shown = _shown(k, value, system, k.path in in_us and active)
             if k.path == MATURE_YIELD:
                 yield_doc = len(lines)
