@@ -158,8 +158,8 @@ def test_generated_field_tables(tmp_path_factory, monkeypatch, table):
     ranked = list(csv.reader(line for line in out.read_text(encoding="utf-8").splitlines()
                              if not line.startswith("#")))
     columns, rows = ranked[0], ranked[1:]
-    skipped = int(re.search(r"(\d+) rows skipped", result.out).group(1))
-    read = int(re.search(r"(\d+) rows read", result.out).group(1))
+    skipped = int(re.search(r"([\d,]+) rows? skipped", result.out).group(1).replace(",", ""))
+    read = int(re.search(r"([\d,]+) rows? read", result.out).group(1).replace(",", ""))
     assert len(rows) + skipped == read
     if skipped:
         assert (folder / "ranked.errors.csv").exists()

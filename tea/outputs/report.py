@@ -237,11 +237,19 @@ def render_comparison(
         """Piece 0 the overview, piece k the pages of the k-th batch of cases, each fitted to its own sheet:
         laid out, and written as one PDF for a PDF."""
         if k == 0:
-            html = _render("compare.html.j2", page_size=size, overview=compare.overview(cases, ledgers, results, size),
-                           meta=meta, embed=True, page_label="", pages=[], generator=f"tea {__version__}",
-                           # the overview is laid out apart from the case pages: its page numbers count its own
-                           page_scope=f"overview of {len(cases)} cases")
-            doc = pdf.layout(html, _stylesheets())
+            overview = compare.overview(cases, ledgers, results, size)
+
+            def overview_html(**footer) -> str:
+                return _render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=True, pages=[],
+                               generator=f"tea {__version__}", **footer)
+
+            # laid out apart from the case pages, so a page number would count the overview's own pages: one page
+            # says what it is and what follows; a longer overview numbers its pages as its own
+            doc = pdf.layout(overview_html(page_label=f"overview of {len(cases)} cases; one page per case follows"),
+                             _stylesheets())
+            if len(doc.pages) > 1:
+                doc = pdf.layout(overview_html(page_label="", page_scope=f"overview of {len(cases)} cases"),
+                                 _stylesheets())
             return [], (pdf.write_pdf(doc) if kind == "pdf" else None)
         made = [fitted(i) for i in batches[k - 1]]
         if kind != "pdf":
