@@ -80,22 +80,28 @@ def test_presets_in_us_units():
     assert "mature_t_dm_per_ha" not in res.out
 
 
-@pytest.mark.parametrize(("stem", "region", "shown"), [
+@pytest.mark.parametrize(("stem", "region", "said"), [
     ("clay_corner_miscanthus", "europe", True), ("clay_corner_miscanthus", "asia_temperate", False),
-    ("clay_corner_miscanthus", None, False),
-    # willow (Salix viminalis) is native to Europe and northern Asia only (Spencer 1997, Horticultural Flora of
-    # South-eastern Australia vol. 2, as the coppice preset cites): non-native in North America and Africa too,
-    # which the preset does not list by name
+    ("clay_corner_miscanthus", None, None),
+    # willow (Salix viminalis) is native to Europe and northern Asia (Spencer 1997, Horticultural Flora of
+    # South-eastern Australia vol. 2, as the coppice preset cites): non-native in North America and Africa
     ("flood_meadow_willow", "europe", False), ("flood_meadow_willow", "northern_america", True),
     ("flood_meadow_willow", "africa", True),
+    # a region the preset's sources do not settle: said so, never taken as native
+    ("flood_meadow_willow", "pacific", None), ("sandy_slope_switchgrass", "southern_america", None),
 ])
-def test_non_native_caution_follows_the_preset_for_the_region(demo_mappings, stem, region, shown):
+def test_non_native_caution_follows_the_preset_for_the_region(demo_mappings, stem, region, said):
     data = copy_case(demo_mappings[stem])
+    data["field"].pop("region", None)
     if region:
         data["field"]["region"] = region
     case = tea.load_text(to_toml(data), source="r.toml")
-    assert case.preset.non_native_in(region) is (True if shown else (False if region else None))
-    assert ("is not native to" in _summary(case)) is shown
+    assert case.preset.non_native_in(region) is said
+    text = _summary(case)
+    assert ("is not native to" in text) is (said is True)
+    assert ("do not say whether the crop" in text) is (said is None and region is not None)
+    frame = tea.build_ledger(case)
+    assert terminal.json_payload(case, frame, tea.summarise(case, frame))["non_native_crop"] is said
 
 
 def test_crop_names_are_aliases_of_presets(demo_mappings):
@@ -274,20 +280,34 @@ def test_seed_is_counted_in_pounds_in_a_us_case(demo_mappings, tmp_path):
     """US seed is sold by the pound: a US customary case counts the seed-sown grass preset's 8.0 kg/ha of seed
     as pounds, 7.1 lb/acre as the preset's source gives it (Oklahoma State University, switchgrass stand
     establishment: "8.0 kg/ha (7.1 lb/acre)"; 1 lb = 0.45359237 kg, 1 acre = 0.40468564224 ha, NIST
-    Handbook 44 Appendix C), so that a price per lb is read as one. A case that names its own unit keeps the
-    preset's rate in the preset's unit."""
+    Handbook 44 Appendix C). The preset's rate follows the unit the case counts in, named or not, so that the
+    seed costs rate x price in one unit; a US case that prices seed without naming the unit is warned."""
     data = copy_case(demo_mappings["sandy_slope_switchgrass"])
     for key in ("planting_unit", "planting_units_per_acre"):
         data["establishment"].pop(key)
-    case = tea.load_text(to_toml(data), source="us.toml")
-    assert case["establishment.planting_unit"] == "lb seed"
-    per_acre = case["establishment.planting_units_per_ha"] * HA_PER_ACRE
-    assert round(per_acre, 1) == 7.1
-    data["establishment"]["planting_unit"] = "kg seed"
-    own = tea.load_text(to_toml(data), source="us.toml")
-    assert own["establishment.planting_units_per_ha"] == case.preset.values["establishment.planting_units_per_ha"]
+
+    def loaded(**establishment):
+        edited = copy_case(data)
+        edited["establishment"].update(establishment)
+        return tea.load_text(to_toml(edited), source="us.toml")
+
+    unnamed, pounds, kilos = loaded(), loaded(planting_unit="lb seed"), loaded(planting_unit="kg seed")
+    assert unnamed["establishment.planting_unit"] == "lb seed"
+    assert round(unnamed["establishment.planting_units_per_ha"] * HA_PER_ACRE, 1) == 7.1
+    assert pounds["establishment.planting_units_per_ha"] == unnamed["establishment.planting_units_per_ha"]
+    assert kilos["establishment.planting_units_per_ha"] == unnamed.preset.values["establishment.planting_units_per_ha"]
+    assert [w.path for w in unnamed.warnings if "planting" in w] == ["establishment.planting_unit_price"]
+    assert not [w for w in pounds.warnings if "planting" in w]
+    # a starter says the unit; another case of the same crop keeps the unit its carried price is in
     assert run_cli(["new", tmp_path / "seed", "--crop", "switchgrass", "--units", "us_customary",
                     "--currency", "USD"]).code == 0
     text = (tmp_path / "seed.toml").read_text(encoding="utf-8")
-    assert '# planting_unit = "lb seed"' in text and "# planting_units_per_acre = 7.14" in text
-    assert "kg of seed" not in text
+    assert '\nplanting_unit = "lb seed"' in text and "# planting_units_per_acre = 7.14" in text
+    assert run_cli(["new", tmp_path / "metric", "--crop", "switchgrass", "--currency", "USD"]).code == 0
+    assert run_cli(["new", tmp_path / "to_us", "--from", tmp_path / "metric.toml", "--crop", "switchgrass",
+                    "--units", "us_customary"]).code == 0
+    cost = {}
+    for name in ("metric", "to_us"):
+        case = tea.load_case(tmp_path / f"{name}.toml")
+        cost[name] = case["establishment.planting_units_per_ha"] * case["establishment.planting_unit_price"]
+    assert cost["to_us"] == pytest.approx(cost["metric"], rel=1e-12)

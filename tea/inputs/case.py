@@ -56,39 +56,47 @@ class Preset:
     def values_in(self, system: str) -> dict[str, Any]:
         """The preset's values for a case in a unit system: as given, except that a US customary case counts
         planting material the preset counts in kilograms (seed) in pounds, as US seed is sold, with the rate per
-        ha in pounds to match (1 lb = 0.45359237 kg, NIST Handbook 44 Appendix C).
+        ha in pounds to match (:meth:`planting_rate_in`).
 
         >>> v = load_preset("seeded_grass").values_in("us_customary")
         >>> v["establishment.planting_unit"], round(v["establishment.planting_units_per_ha"], 2)
         ('lb seed', 17.64)
         """
         values = dict(self.values)
-        unit = values.get("establishment.planting_unit")
+        unit = values.get(PLANTING_UNIT)
         if system == "us_customary" and isinstance(unit, str) and unit.startswith("kg "):
-            values["establishment.planting_unit"] = "lb " + unit[3:]
-            if isinstance(values.get("establishment.planting_units_per_ha"), (int, float)):
-                values["establishment.planting_units_per_ha"] /= units.KG_PER_LB
+            values[PLANTING_UNIT] = "lb " + unit[3:]
+            values[PLANTING_RATE] = self.planting_rate_in(values[PLANTING_UNIT])
         return values
 
-    def non_native_in(self, region: str | None) -> bool | None:
-        """Whether the crop is non-native in a region (True/False), or None where that cannot be said (no
-        region, or a preset that names no native range).
+    def planting_rate_in(self, unit: Any) -> Any:
+        """The preset's planting material per ha counted in ``unit``: in pounds where the preset counts kilograms
+        of the same material (``"kg seed"``) and ``unit`` is pounds of it (``"lb seed"``; 1 lb = 0.45359237 kg,
+        NIST Handbook 44 Appendix C), else its own rate.
 
-        A region the preset lists as non-native is (with the source of that
-        listing, e.g. a weed declaration); so is every other region outside
-        the native range it names: a crop is native only where its range is.
+        >>> p = load_preset("seeded_grass")
+        >>> round(p.planting_rate_in("lb seed"), 2), p.planting_rate_in("kg seed"), p.planting_rate_in("bag")
+        (17.64, 8.0, 8.0)
+        """
+        rate, own = self.values.get(PLANTING_RATE), self.values.get(PLANTING_UNIT)
+        if isinstance(rate, (int, float)) and isinstance(own, str) and own.startswith("kg ") \
+                and unit == "lb " + own[3:]:
+            return rate / units.KG_PER_LB
+        return rate
+
+    def non_native_in(self, region: str | None) -> bool | None:
+        """Whether the crop is non-native in a region (True/False), or None where the preset does not say (no
+        region given, or one its sources do not settle).
 
         >>> willow = load_preset("coppice")
         >>> willow.non_native_in("europe"), willow.non_native_in("northern_america"), willow.non_native_in(None)
         (False, True, None)
         """
-        if region is None:
-            return None
         if region in self.non_native_regions:
             return True
         if region in self.native_regions:
             return False
-        return True if self.native_regions else None
+        return None
 
 
 def preset_names() -> list[str]:
@@ -268,6 +276,30 @@ def load_case(path: str | Path) -> Case:
     except UnicodeDecodeError as exc:
         raise CaseError([Problem(source, "", not_utf8(data, exc.start))]) from None
     return load_text(text.replace("\r\n", "\n").replace("\r", "\n"), source=source)  # line ends as text mode reads them
+
+
+PLANTING_UNIT, PLANTING_RATE = "establishment.planting_unit", "establishment.planting_units_per_ha"
+PLANTING_PRICE = "establishment.planting_unit_price"
+
+
+def _count_planting_material(values: dict, origin: dict, notes: dict, warnings: list, preset: Preset, system: str,
+                             source: str) -> None:
+    """The preset's rate of planting material in the unit the case counts it in (its own ``planting_unit``, else
+    the preset's in the case's unit system: seed in pounds in a US customary case), so that the rate and the
+    unit price are in one unit; and a warning where a US customary case prices seed without naming the unit,
+    which the price is then read in."""
+    unit, own = values.get(PLANTING_UNIT), preset.values.get(PLANTING_UNIT)
+    if origin.get(PLANTING_RATE) == "preset":
+        values[PLANTING_RATE] = preset.planting_rate_in(unit)
+        if values[PLANTING_RATE] != preset.values.get(PLANTING_RATE):
+            notes[PLANTING_RATE] += f"; counted in {unit}: {preset.values[PLANTING_RATE]:g} {own} per ha"
+    if origin.get(PLANTING_UNIT) == "preset" and unit != own:
+        notes[PLANTING_UNIT] += f"; a US customary case counts the preset's {own} in pounds"
+        if origin.get(PLANTING_PRICE) == "case":
+            warnings.append(Notice(source, "establishment.planting_unit_price",
+                                   f"read as a price per {unit}, the unit a US customary case counts this seed in; "
+                                   f"give planting_unit = \"{own}\" if the price is per {own.split()[0]}",
+                                   path=PLANTING_PRICE))
 
 
 #: the first bytes of files a case is not, and what they are (the formats' published signatures)
@@ -583,14 +615,12 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                     values["crop.name"], origin["crop.name"], notes["crop.name"] = preset_name, "case", "case file"
     if preset is not None:
         # a case that names its own unit of planting material takes the preset's rate in the preset's unit
-        in_system = preset.values_in(system) if "establishment.planting_unit" not in values else preset.values
-        for path, value in in_system.items():
+        for path, value in preset.values_in(system).items():
             if path not in values:
                 values[path] = value
                 origin[path] = "preset"
                 notes[path] = f"preset {preset.name}: {preset.sources[path]}"
-                if value != preset.values[path]:
-                    notes[path] += f"; counted in pounds in a US customary case ({preset.values[path]!r} in kg)"
+        _count_planting_material(values, origin, notes, warnings, preset, system, source)
 
     # 3. fresh-weight yield to dry matter
     if fresh_given and "yield.fresh_moisture" not in rejected:

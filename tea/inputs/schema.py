@@ -205,7 +205,8 @@ KEYS: tuple[Key, ...] = (
     _k("establishment", "site_preparation_per_{ha}", "float", REQUIRED, "Ploughing, cultivation, stone picking.", **MONEY_HA),
     _k("establishment", "weed_control_per_{ha}", "float", REQUIRED, "Herbicide and its application in the planting year.", **MONEY_HA),
     _k("establishment", "planting_units_per_{ha}", "float", PRESET,
-       "Planting material per ha: rhizomes, cuttings or kg of seed.", lo=0.0, unit="units", label="Planting density"),
+       "Planting material per ha, in the unit planting_unit names: rhizomes, cuttings, or kg of seed (lb in a US "
+       "customary case).", lo=0.0, unit="units", label="Planting density"),
     _k("establishment", "planting_unit_price", "float", REQUIRED, "Price of one unit of planting material.", money=True, lo=0.0, unit="/unit", warn_hi=20),
     _k("establishment", "planting_unit", "str", PRESET, "What one unit of planting material is (shown on outputs)."),
     _k("establishment", "planting_operation_per_{ha}", "float", REQUIRED, "Contract planting or drilling.", **MONEY_HA),

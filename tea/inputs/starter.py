@@ -13,7 +13,7 @@ import fnmatch
 from typing import Any
 
 from tea.inputs import schema, units
-from tea.inputs.case import load_preset
+from tea.inputs.case import PLANTING_PRICE, PLANTING_RATE, PLANTING_UNIT, load_preset
 
 #: invented example values for the keys a case must give, canonical units
 #: (money per ha or per t in no particular currency); never check values
@@ -300,10 +300,17 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
     carried = _carried(base, same_crop) if base is not None else {}
     for own in ("case.currency", "case.units"):  # the command's (the source case's unless it says otherwise)
         carried.pop(own, None)
+    if PLANTING_PRICE in carried and PLANTING_UNIT not in carried:
+        # a price carried over is per the unit the source case counted in: that unit goes with it, whatever unit
+        # this case's system would count the preset's material in
+        carried[PLANTING_UNIT] = base[PLANTING_UNIT]
+    # the unit this case counts planting material in, which the preset's rate is shown in
+    planting_unit = carried.get(PLANTING_UNIT, preset.values_in(system).get(PLANTING_UNIT))
     # the crop's keys a case must give that get an invented example (none with the same crop: all carried)
     invented = [k.path for k in schema.KEYS if base is not None and k.section != "crop" and whose(k.path) == CROP
                 and k.path not in carried and (k.default is schema.REQUIRED or k.path in examples)]
     yield_doc: int | None = None  # the line describing the mature yield
+    left_for_user = 0  # money keys left for the user's own values (a currency far from a dollar)
     lines = [f"# Starter case for `tea`, crop preset {crop}: {preset.title}."]
     if base is None:
         lines += ["# Keys without '#' need your values: the numbers there are invented examples."]
@@ -329,9 +336,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                   "# Not carried: the source case's [[operations]] (below, behind '#': take back those of the field),",
                   "# [sensitivity] and [risk] (their ranges are about the source crop)."]
     dollar_like = currency in schema.DOLLAR_LIKE
-    if not dollar_like:
-        lines += [f"# Money: tea's examples are in a currency of about a dollar, so the money keys marked [your value]",
-                  f"# hold no number: give each in {currency} (`tea check` lists those still missing)."]
+    money_note_at = len(lines)  # where the note on money keys left for the user's values goes, if any are
     lines += [
         "# Keys behind '#' show the preset's or the default value; remove the '#' to change one.",
         "# Units are in the key names; the README's case-file reference lists every key.",
@@ -393,8 +398,15 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
             elif k.default is schema.REQUIRED or k.path in examples:
                 value, active = examples.get(k.path), True
                 tag = "[new crop: example] " if base is not None else ""
+            elif k.path == PLANTING_UNIT and planting_unit != preset.values.get(PLANTING_UNIT):
+                # seed counted in pounds in a US case: said, so that the price beside it is read per pound
+                value, active = planting_unit, True
+                doc += (f" Preset: {preset.values[PLANTING_UNIT]}, counted in pounds in a US customary case "
+                        f"({preset.sources[k.path]}).")
             elif k.path in preset.values:
                 value, active = preset.values_in(system)[k.path], False
+                if k.path == PLANTING_RATE:
+                    value = preset.planting_rate_in(planting_unit)
                 doc += f" Preset: {preset.sources[k.path]}."
                 tag = "[new crop: preset] " if base is not None else ""
             elif k.default in (schema.DERIVED, schema.PRESET) or k.default is None:
@@ -410,6 +422,9 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 # is left for the user's own value, which the loader asks for until it is given
                 value = f"your {currency} value"
                 tag += "[your value] "
+                left_for_user += 1
+            elif not active and k.money and value is not None and not dollar_like and k.path in OPTIONAL_EXAMPLES:
+                value = None  # an optional example's amount, in a currency of about a dollar: not shown
             spelling, shown = _shown(k, value, system, k.path in in_us and active)
             if k.path == MATURE_YIELD:
                 yield_doc = len(lines)
@@ -419,6 +434,12 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
             else:
                 lines.append(("" if active else "# ") + f"{spelling} = {_toml(shown)}")
         lines.append("")
+    if left_for_user:
+        lines[money_note_at:money_note_at] = [
+            "# Money: tea's examples are in a currency of about a dollar, so the money keys marked [your value]",
+            f"# hold no number: give each in {currency} (`tea check` lists those still missing)."]
+        if yield_doc is not None:
+            yield_doc += 2  # the two lines went in above it
     if same_crop:
         for section in ("sensitivity", "risk"):
             if base.values.get(section):

@@ -144,10 +144,9 @@ def unit_label(template: str, system: str) -> str:
 
 
 #: metric words in key descriptions and their US customary words
-#: (whole words only: "per ha" is not the start of "per harvest"; seed is counted in pounds,
-#: :meth:`tea.inputs.case.Preset.values_in`)
+#: (whole words only: "per ha" is not the start of "per harvest")
 US_WORDS = (("100 t DM/ha", "45 short ton DM/acre"), ("per ha", "per acre"), ("t DM/ha", "short ton DM/acre"),
-            ("per t", "per short ton"), ("_t_per_ha", "_short_ton_per_acre"), ("kg of seed", "lb of seed"))
+            ("per t", "per short ton"), ("_t_per_ha", "_short_ton_per_acre"))
 
 
 def in_words_of(doc: str, system: str) -> str:

@@ -151,9 +151,15 @@ def crop_name(case: Case) -> str:
 
 
 def non_native_caution(case: Case) -> str | None:
-    """The caution for a crop the preset says is non-native in the case's region (``field.region``), else None."""
+    """The caution for a crop the preset says is non-native in the case's region (``field.region``), or whose
+    sources do not settle whether it is native there; None where it is native or no region is given."""
     region = case.values.get("field.region")
-    if not case.preset.non_native_in(region):
+    native = case.preset.non_native_in(region)
+    if region is None or native is False:
         return None
-    return (f"The crop ({crop_name(case)}) is not native to {REGION_WORDS.get(region, region)}: planting it may be "
+    where = REGION_WORDS.get(region, region)
+    if native is None:
+        return (f"tea's sources do not say whether the crop ({crop_name(case)}) is native to {where}: planting it "
+                "may be regulated (invasive-species and planting rules); check local rules before planting.")
+    return (f"The crop ({crop_name(case)}) is not native to {where}: planting it may be "
             "regulated (invasive-species and planting rules); check local rules before planting.")

@@ -340,57 +340,78 @@ _CHANGED = re.compile(r"changed from [^:]*:\s*")
 SHORT_SOURCE = 60
 
 
-def short_source(text: str) -> str:
-    """What a source text names, for a short list: the words before its first comma, colon or semicolon
-    outside brackets (``derived``, ``from memory`` and ``common practice`` stand for themselves), after what
-    a changed value was; where the text opens with what was found rather than who says so (a measurement,
-    "published ...", "within the published ..."), the first reference it gives in brackets; a bracket dropped
-    from a name longer than :data:`SHORT_SOURCE` characters, and a name still longer cut there.
+def short_sources(text: str) -> list[str]:
+    """What a source text names, for a short list of a preset's sources: an attribution that stands for
+    itself (``derived``, ``from memory``, ``common practice``, ``extension guides``...) as that phrase; authors and
+    year as the first author et al. and the year; a journal as its name, volume and pages; a text that opens
+    with what was found (a measurement, "published ...", "within the published ...") by every reference it
+    gives in brackets; any other by its words before the first comma, colon or semicolon outside brackets
+    (a bracket dropped where that is longer than :data:`SHORT_SOURCE` characters, then cut there).
 
-    >>> short_source("changed from 30: Szczukowski et al. 2002, Plant Soil Environ. 48:413")
-    'Szczukowski et al. 2002'
-    >>> short_source("Hay and Forage Grower (hayandforage.com, Maintenance), R. Smith: one-third")
-    'Hay and Forage Grower (hayandforage.com, Maintenance)'
-    >>> short_source("derived: 1.0 x (1 - 0.30)")
-    'derived'
-    >>> short_source("K 1.2-2.4 g/kg in stems (2009) of clones (Biomass and Bioenergy 25(6):571-580, 2003)")
-    'Biomass and Bioenergy 25(6)'
-    >>> short_source("University of Missouri Extension G1208 (J. C. Frisby, reviewed 1993), Fuel Requirement Estimates")
-    'University of Missouri Extension G1208'
-    >>> short_source("Wilson, Heaton, Liebman & Moore 2013, Agronomy Journal"), short_source("Kemmerer & Liu 2010, x")
-    ('Wilson et al. 2013', 'Kemmerer & Liu 2010')
-    >>> short_source("published: 5 % lost (Harvesting Losses in Willow, Energies 17(7):1541, 2024)")
-    'Energies 17(7)'
+    >>> short_sources("changed from 30: Szczukowski, Tworkowski, Klasa & Stolarski 2002, Plant Soil Environ. 48:413")
+    ['Szczukowski et al. 2002']
+    >>> short_sources("Hay and Forage Grower (hayandforage.com, Maintenance), R. Smith: one-third")
+    ['Hay and Forage Grower (hayandforage.com, Maintenance)']
+    >>> short_sources("derived: 1.0 x (1 - 0.30)"), short_sources("from memory (as the other preset): none")
+    (['derived'], ['from memory'])
+    >>> short_sources("K 1.2-2.4 g/kg in stems (2009) of clones (Biomass and Bioenergy 25(6):571-580, 2003)")
+    ['Biomass and Bioenergy 25(6):571-580']
+    >>> short_sources("within the published 0.6-10: 0.05 % K (0.6 kg; Warncke et al. 2010, x; Guénon et al. 2016)")
+    ['Warncke et al. 2010', 'Guénon et al. 2016']
+    >>> short_sources("University of Missouri Extension G1208 (J. C. Frisby, reviewed 1993), Fuel Requirement Estimates")
+    ['University of Missouri Extension G1208']
+    >>> short_sources("iForest 5:224-229 (2012), doi:10.3832/ifor0628-005: 7,140 cuttings/ha")
+    ['iForest 5:224-229']
     """
     text = _CHANGED.sub("", text.strip(), count=1)
-    if _FINDING.match(text) and not text.startswith(_STANDS_FOR_ITSELF):
-        cited = next((g for g in _bracketed(text) if re.match(r"[A-Z][A-Za-z]{2,}|\"", g)), None)
-        if cited is not None and cited.startswith('"'):  # a study named by its title
-            text = '"' + cited[1:].partition('"')[0] + '"'
-        elif cited is not None:
-            text = cited
-            journal = _JOURNAL.search(text)  # a paper's title first, then its journal: the journal names it
-            if journal and not _AUTHORS.match(text):
-                return journal.group(1)
-    authors = _AUTHORS.match(text)
-    if authors:  # "Szczukowski, Tworkowski, Klasa & Stolarski 2002": the first author et al., the year
-        first, others, year = authors.group(1), authors.group(2), authors.group(3)
-        return f"{first} et al. {year}" if "," in others or "et al" in others else f"{first}{others} {year}"
-    name = text if text.startswith('"') else _before_first_stop(text)
+    own = next((p for p in _STANDS_FOR_ITSELF if text.startswith(p)), None)
+    if own is not None:
+        return [own]
+    named = _references(text, anywhere=False)
+    if named:
+        return named
+    if _FINDING.match(text):
+        groups = _bracketed(text)
+        cited = [ref for group in groups for ref in _references(group, anywhere=True)]
+        if cited:
+            return list(dict.fromkeys(cited))
+        named = next((g for g in groups if re.match(_NAME, g)), None)  # a bracket that opens with a name
+        if named is not None:
+            text = named
+    name = _before_first_stop(text)
     if len(name) > SHORT_SOURCE:
         name = re.sub(r"\s*\([^()]*(?:\([^()]*\)[^()]*)*\)", "", name).strip()
-    return name if len(name) <= SHORT_SOURCE else name[:SHORT_SOURCE - 1].rstrip() + "\u2026"
+    return [name if len(name) <= SHORT_SOURCE else name[:SHORT_SOURCE - 1].rstrip() + "\u2026"]
+
+
+def _references(text: str, anywhere: bool) -> list[str]:
+    """The references a text gives: authors and year ("Wilson et al. 2013"), a journal with its volume and
+    pages, or a quoted title; at its start only, or ``anywhere`` in it."""
+    found = []
+    for m in (_AUTHORS.finditer(text) if anywhere else [_AUTHORS.match(text)]):
+        if m:
+            first, others, year = m.group(1), m.group(2), m.group(3)
+            found.append(f"{first} et al. {year}" if "," in others or "et al" in others else f"{first}{others} {year}")
+    if found:
+        return found
+    journal = (_JOURNAL.search if anywhere else _JOURNAL.match)(text)
+    if journal:
+        return [journal.group(1)]
+    title = re.match(r'"([^"]+)"', text) if anywhere else None
+    return [f'"{title.group(1)}"'] if title else []
 
 
 #: a source text that opens with what was found (a measurement, "published", "within the published"), not a name
 _FINDING = re.compile(r"(?:[a-z]|[A-Z][a-z]? \d|\d)")
+#: a letter of a name in any script, upper case first (a capital, then letters, hyphens or apostrophes)
+_NAME = r"[^\W\d_a-z][^\W\d_]*(?:[-'][^\W\d_]+)*"
 #: authors and year opening a reference: "Wilson, Heaton, Liebman & Moore 2013", "Kemmerer & Liu 2010",
-#: "Sanderson et al. 1997"
-_AUTHORS = re.compile(r"([A-Z][\w\-']+)((?:,? (?:[A-Z][\w\-']+|&|and|et al\.))*) ((?:19|20)\d\d)\b")
-#: a journal and its volume in a reference: "Biomass and Bioenergy 25(6):571-580"
-_JOURNAL = re.compile(r"([A-Z][A-Za-z&\- ]+ \d+(?:\([\d\-]+\))?):\d+")
+#: "Sanderson et al. 1997", "Guénon et al. 2016"
+_AUTHORS = re.compile(rf"({_NAME})((?:,? (?:{_NAME}|&|and|et al\.))*) ((?:19|20)\d\d)\b")
+#: a journal with its volume and pages: "Biomass and Bioenergy 25(6):571-580", "iForest 5:224-229"
+_JOURNAL = re.compile(r"((?:[A-Z]|i[A-Z])[A-Za-z&\- ]* \d+(?:\([\d\-]+\))?:\d+(?:-\d+)?)")
 #: source texts that name no reference but stand for themselves
-_STANDS_FOR_ITSELF = ("derived", "from memory", "common practice")
+_STANDS_FOR_ITSELF = ("derived", "from memory", "common practice", "extension guides", "grower guides")
 
 
 def _bracketed(text: str) -> list[str]:
@@ -438,12 +459,11 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
                     out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
-            if p.native_regions:
-                elsewhere = [r for r in schema.REGIONS if r not in p.native_regions + p.non_native_regions]
-                if elsewhere:
-                    out.append(f"    non-native too, being outside its native range: {', '.join(elsewhere)}")
+            unsettled = [r for r in schema.REGIONS if r not in p.native_regions + p.non_native_regions]
+            if unsettled:
+                out.append(f"    not settled by its sources (the outputs say so): {', '.join(unsettled)}")
         else:
-            sources = sorted({short_source(s) for s in p.sources.values()} - {""})
+            sources = sorted({name for s in p.sources.values() for name in short_sources(s)} - {""})
             out.append("    sources: " + "; ".join(sources))
     out.append("")
     out.append("`tea presets -v` lists every value with its source (--units us_customary in US units); "
