@@ -243,13 +243,14 @@ def render_comparison(
                 return _render("compare.html.j2", page_size=size, overview=overview, meta=meta, embed=True, pages=[],
                                generator=f"tea {__version__}", **footer)
 
-            # laid out apart from the case pages, so a page number would count the overview's own pages: one page
-            # says what it is and what follows; a longer overview numbers its pages as its own
-            doc = pdf.layout(overview_html(page_label=f"overview of {len(cases)} cases; one page per case follows"),
+            # laid out apart from the case pages, so a page number counts the overview's own pages: a longer
+            # overview numbers its pages as its own; one page (a few cases, quick to lay out again) says what it
+            # is and what follows instead of "page 1 of 1"
+            doc = pdf.layout(overview_html(page_label="", page_scope=f"overview of {len(cases)} cases"),
                              _stylesheets())
-            if len(doc.pages) > 1:
-                doc = pdf.layout(overview_html(page_label="", page_scope=f"overview of {len(cases)} cases"),
-                                 _stylesheets())
+            if len(doc.pages) == 1:
+                doc = pdf.layout(overview_html(page_label=f"overview of {len(cases)} cases; one page per case "
+                                                          "follows"), _stylesheets())
             return [], (pdf.write_pdf(doc) if kind == "pdf" else None)
         made = [fitted(i) for i in batches[k - 1]]
         if kind != "pdf":
