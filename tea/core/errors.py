@@ -68,7 +68,8 @@ class Notice(str):
     :data:`WHAT_IF`, :data:`OTHER`); an unusual value carries the value, the
     usual range (``low``/``high``, None where open) and the unit, all as the
     file gives them; a warning about a what-if section (:data:`WHAT_IF`) has
-    in ``path`` the input its range or distribution is over.
+    in ``path`` the input its range or distribution is over. ``check``: the
+    terminal's line ends by asking the reader to check the value.
 
     >>> n = Notice("a.toml", "finance.discount_rate", "0.25 is unusual", path="finance.discount_rate",
     ...            kind=UNUSUAL, value=0.25, high=0.2, unit="fraction/yr")
@@ -87,13 +88,15 @@ class Notice(str):
     low: float | None
     high: float | None
     unit: str | None
+    check: bool
 
     def __new__(cls, source: str, key: str, message: str, *, path: str | None = None, kind: str = "other",
                 value: float | None = None, low: float | None = None, high: float | None = None,
-                unit: str | None = None) -> Notice:
-        self = super().__new__(cls, f"{source}: {key}: {message}" if key else f"{source}: {message}")
+                unit: str | None = None, check: bool = False) -> Notice:
+        line = f"{message}; check it" if check else message  # the terminal asks for a check; the page says why
+        self = super().__new__(cls, f"{source}: {key}: {line}" if key else f"{source}: {line}")
         self.__dict__.update(source=source, key=key, message=message, path=path, kind=kind, value=value,
-                             low=low, high=high, unit=unit)
+                             low=low, high=high, unit=unit, check=check)
         return self
 
     def __reduce__(self):

@@ -614,7 +614,6 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 if "crop.name" not in values:
                     values["crop.name"], origin["crop.name"], notes["crop.name"] = preset_name, "case", "case file"
     if preset is not None:
-        # a case that names its own unit of planting material takes the preset's rate in the preset's unit
         for path, value in preset.values_in(system).items():
             if path not in values:
                 values[path] = value
@@ -680,8 +679,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
                 unit = k.unit_text(system, str(values.get("case.currency", "")))
                 expected = f"{'' if lo is None else f'{lo:g}'}..{'' if hi is None else f'{hi:g}'}"
                 warnings.append(Notice(source, f"{k.section}.{spelling}", f"{item / f:g} is unusual (expected "
-                                       f"{expected}{f' [{unit}]' if unit else ''}); check it", path=k.path,
-                                       kind=UNUSUAL, value=item / f, low=lo, high=hi, unit=unit or None))
+                                       f"{expected}{f' [{unit}]' if unit else ''})", path=k.path, kind=UNUSUAL,
+                                       value=item / f, low=lo, high=hi, unit=unit or None, check=True))
 
     # 6. the site climate: the yield estimate when none is given, a warning above it
     site.apply(values, origin, notes, problems, warnings, source, spelled)

@@ -129,9 +129,10 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
     def bad(key: str, message: str) -> None:
         problems.append(Problem(source, key, message))
 
-    def warn(key: str, message: str, path: str | None = None) -> None:
+    def warn(key: str, message: str, path: str | None = None, check: bool = False) -> None:
         """``key`` as the file spells it; ``path``: the schema's key path it stands for, if another."""
-        warnings.append(Notice(source, key, message, path=path or (key if key in schema.BY_PATH else None)))
+        warnings.append(Notice(source, key, message, path=path or (key if key in schema.BY_PATH else None),
+                               check=check))
 
     bad_keys = {p.key for p in problems} | set(rejected)
     values = {p: v for p, v in values.items() if p not in rejected}  # a refused value ties nothing
@@ -141,7 +142,7 @@ def cross_checks(values, problems, warnings, source, spelled, rejected=frozenset
         if why:
             bad("case.currency", why)
         elif currency not in COMMON_CURRENCIES:
-            warn("case.currency", f"{currency} is not a common ISO 4217 code; check it")
+            warn("case.currency", f"{currency} is not a common ISO 4217 code", check=True)
 
     has_t, has_gj = values.get("revenue.price_per_t_dm") is not None, values.get("revenue.price_per_gj") is not None
     if has_t and has_gj:

@@ -83,7 +83,7 @@ def apply(values: dict, origin: dict, notes: dict, problems: list, warnings: lis
         key, f, unit = rules.mature_yield_as_given(values, spelled)
         warnings.append(Notice(source, key, f"{assumed(values) * f:.3g} {unit} (with the site factor) is "
                                f"{assumed(values) / potential:.0%} of the site's potential from its climate "
-                               f"({potential * f:.3g} {unit}); check it", path=path))
+                               f"({potential * f:.3g} {unit})", path=path, check=True))
     elif potential <= 0.0:
         warnings.append(Notice(source, TEMPERATURE, "the site is never warm enough for the crop's season; "
                                "the assumed yield has no climate potential to compare with", path=TEMPERATURE))

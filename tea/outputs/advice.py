@@ -106,7 +106,7 @@ def grower_warning(warning: str) -> str:
     if not isinstance(warning, Notice):
         return warning
     key = schema.BY_PATH.get(warning.path) if warning.path else None
-    message = warning.message.removesuffix("; check it")  # said below, with why
+    message = warning.message  # without the terminal's "check it": the page says it below, with why
     if key is None:
         return _sentence(message[:1].upper() + message[1:])
     if key.path in SPECIAL and warning.kind != UNUSUAL:
