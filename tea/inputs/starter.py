@@ -304,8 +304,9 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         # a price carried over is per the unit the source case counted in: that unit goes with it, whatever unit
         # this case's system would count the preset's material in
         carried[PLANTING_UNIT] = base[PLANTING_UNIT]
+    in_system = preset.values_in(system)  # the preset's values as a case in this unit system takes them
     # the unit this case counts planting material in, which the preset's rate is shown in
-    planting_unit = carried.get(PLANTING_UNIT, preset.values_in(system).get(PLANTING_UNIT))
+    planting_unit = carried.get(PLANTING_UNIT, in_system.get(PLANTING_UNIT))
     # the crop's keys a case must give that get an invented example (none with the same crop: all carried)
     invented = [k.path for k in schema.KEYS if base is not None and k.section != "crop" and whose(k.path) == CROP
                 and k.path not in carried and (k.default is schema.REQUIRED or k.path in examples)]
@@ -336,7 +337,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                   "# Not carried: the source case's [[operations]] (below, behind '#': take back those of the field),",
                   "# [sensitivity] and [risk] (their ranges are about the source crop)."]
     dollar_like = currency in schema.DOLLAR_LIKE
-    money_note_at = len(lines)  # where the note on money keys left for the user's values goes, if any are
+    head, lines = lines, []  # the header, which a note on money keys left for the user's values may join below
     lines += [
         "# Keys behind '#' show the preset's or the default value; remove the '#' to change one.",
         "# Units are in the key names; the README's case-file reference lists every key.",
@@ -404,7 +405,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 doc += (f" Preset: {preset.values[PLANTING_UNIT]}, counted in pounds in a US customary case "
                         f"({preset.sources[k.path]}).")
             elif k.path in preset.values:
-                value, active = preset.values_in(system)[k.path], False
+                value, active = in_system[k.path], False
                 if k.path == PLANTING_RATE:
                     value = preset.planting_rate_in(planting_unit)
                 doc += f" Preset: {preset.sources[k.path]}."
@@ -435,11 +436,8 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 lines.append(("" if active else "# ") + f"{spelling} = {_toml(shown)}")
         lines.append("")
     if left_for_user:
-        lines[money_note_at:money_note_at] = [
-            "# Money: tea's examples are in a currency of about a dollar, so the money keys marked [your value]",
-            f"# hold no number: give each in {currency} (`tea check` lists those still missing)."]
-        if yield_doc is not None:
-            yield_doc += 2  # the two lines went in above it
+        head += ["# Money: tea's examples are in a currency of about a dollar, so the money keys marked [your value]",
+                 f"# hold no number: give each in {currency} (`tea check` lists those still missing)."]
     if same_crop:
         for section in ("sensitivity", "risk"):
             if base.values.get(section):
@@ -449,7 +447,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
         lines[yield_doc] += (f" Not used as shown: this case's [site_climate] gives an estimate of {estimate} with "
                              "this crop's light-use parameters (`tea yield` shows how); remove the '#' and give "
                              "your own to use it instead.")
-    return "\n".join(lines)
+    return "\n".join(head + lines)
 
 
 def _wrapped(head: str, items: list[str], width: int = 110) -> list[str]:
