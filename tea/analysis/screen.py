@@ -11,7 +11,6 @@ the same one a single case uses), then returns the fields ranked
 from __future__ import annotations
 
 import re
-
 import sys
 from dataclasses import dataclass
 from pathlib import Path
@@ -205,7 +204,7 @@ def _rename_with_units(table, case: Case):
         if us:
             new = new.replace("per_ha", "per_acre")
             if shown.startswith("short ton"):  # dry matter and carbon alike: converted above
-                new = re.sub(r"_t_(dm|c|co2e)(?=_|$)", r"_short_ton_\1", new)
+                new = _in_short_tons(new)
         renames[name] = new
     for name in FIELD_FIGURES:
         col = f"{name}_field"
@@ -213,8 +212,17 @@ def _rename_with_units(table, case: Case):
         if col in table and factor != 1.0:
             table[col] = table[col] * factor
             if shown.startswith("short ton"):
-                renames[col] = re.sub(r"_t_(dm|c|co2e)(?=_|$)", r"_short_ton_\1", col)
+                renames[col] = _in_short_tons(col)
     return table.rename(columns=renames)
+
+
+def _in_short_tons(column: str) -> str:
+    """A column's name with its tonnes of dry matter, C or CO2e named as short tons.
+
+    >>> _in_short_tons("soc_gain_t_co2e_field"), _in_short_tons("sold_t_dm_per_acre")
+    ('soc_gain_short_ton_co2e_field', 'sold_short_ton_dm_per_acre')
+    """
+    return re.sub(r"_t_(dm|c|co2e)(?=_|$)", r"_short_ton_\1", column)
 
 
 class _NoBar:

@@ -233,7 +233,7 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 said = (f"less than the {_fig(res, case, 'loan_asked')} asked for: the sculpted profile draws at "
                         "most what its target DSCR repays")
             if said:  # under the figure, within the terminal's 100 columns
-                out.extend(textwrap.wrap(said, 100, initial_indent=" " * (width + 2),
+                out.extend(textwrap.wrap(said, WIDTH, initial_indent=" " * (width + 2),
                                          subsequent_indent=" " * (width + 2)))
         out.append("")
     block = yield_text.site_lines(case)
