@@ -458,6 +458,7 @@ def test_a_file_that_is_no_case_is_named_for_what_it_is(tmp_path):
 
 
 def test_an_unknown_section_lists_every_section_a_case_may_have(tmp_path):
+    """The README's case-file reference documents these sections (common practice: an error lists the choices)."""
     path = tmp_path / "odd.toml"
     path.write_text('[bogus]\nx = 1\n', encoding="utf-8")
     res = run_cli(["check", path])
