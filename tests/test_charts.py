@@ -177,3 +177,51 @@ def test_dollar_signs_in_a_name_are_text_not_math_markup():
     series = [charts.Series("1. $\\frac{1}{2}$ acre", [0.0, 1.0], [-1.0, 2.0], None)]
     chart = charts.compare_cumulative([("USD per acre", series)], name="dollars")
     assert "1. $\\frac{1}{2}$ acre" in _svg_texts(chart.svg)
+
+
+_DRAW_IN_A_FRESH_PROCESS = """
+import hashlib, sys
+import tea
+from tea.outputs import charts
+from tea.outputs.page import page_chart_specs
+from tea.outputs.whatmoves import SensitivityViews
+
+charts.QUICK_IMPORT = sys.argv[1] == "quick"
+charts.load()
+from matplotlib import artist
+from matplotlib.lines import Line2D
+
+case = tea.load_case(sys.argv[2])
+ledger = tea.build_ledger(case)
+specs = page_chart_specs(case, ledger, tea.summarise(case, ledger), "case-0")
+specs.append(SensitivityViews(case, True, "case-0").below_spec())
+print(hashlib.sha256("".join(c.svg for c in charts.draw_all(specs)).encode()).hexdigest())
+line = Line2D([0, 1], [0, 1])
+line.set(linewidth=2.5, color="red")
+print(line.get_linewidth(), line.get_color())
+try:
+    line.set(widht=1)
+except AttributeError as exc:
+    print("refused:", exc)
+print(artist.kwdoc.__module__, artist.Artist._update_set_signature_and_docstring.__func__.__module__)
+print("generated docs:", "linewidth" in (Line2D.set.__doc__ or ""))
+"""
+
+
+def test_the_quick_import_draws_the_same_charts_and_matplotlib_works_as_before():
+    """With :data:`charts.QUICK_IMPORT` (tea's command line) matplotlib's artists are made without their
+    generated ``set`` docstrings: each in a fresh interpreter, every kind of page chart is the same SVG bytes,
+    ``set`` sets properties and refuses a misspelt one with matplotlib's own error, and matplotlib's functions
+    are its own again after the import. Without it, the docstrings are matplotlib's (the check can fail)."""
+    import subprocess
+    import sys
+
+    runs = {how: subprocess.run([sys.executable, "-c", _DRAW_IN_A_FRESH_PROCESS, how,
+                                 str(CASES_DIR / "clay_corner_miscanthus.toml")],
+                                capture_output=True, text=True, check=True).stdout.splitlines()
+            for how in ("quick", "full")}
+    quick, full = runs["quick"], runs["full"]
+    assert quick[:-1] == full[:-1]
+    assert quick[1] == "2.5 red" and quick[2].startswith("refused:") and "widht" in quick[2]
+    assert quick[3] == "matplotlib.artist matplotlib.artist"
+    assert (quick[-1], full[-1]) == ("generated docs: False", "generated docs: True")
