@@ -15,6 +15,7 @@ SVG output :func:`inline` and :func:`titled` make ready for the page:
 from __future__ import annotations
 
 import base64
+import math
 import re
 from dataclasses import dataclass
 from functools import cached_property
@@ -62,11 +63,15 @@ class Chart:
         w, h = self.size_pt
         return f'<svg xmlns="http://www.w3.org/2000/svg" width="{w}pt" height="{h}pt" viewBox="0 0 {w} {h}"/>'
 
+    @cached_property  # made once, where the chart is drawn (tea.outputs.charts.draw_all), and pickled with it
+    def engine_svg(self) -> str:
+        """The SVG as the PDF engine is given it: the same picture, drawn faster (:func:`for_engine`)."""
+        return for_engine(self.svg)
+
     @cached_property  # a page is rendered at each density it is tried at: made once per chart
     def data_uri(self) -> str:
-        """The SVG as a ``data:`` URL for the PDF engine, which draws it as an image: the same picture, laid
-        out faster (:func:`for_engine`)."""
-        return "data:image/svg+xml;base64," + base64.b64encode(for_engine(self.svg).encode("utf-8")).decode("ascii")
+        """The SVG as a ``data:`` URL for the PDF engine, which draws it as an image (:attr:`engine_svg`)."""
+        return "data:image/svg+xml;base64," + base64.b64encode(self.engine_svg.encode("utf-8")).decode("ascii")
 
     @property
     def src(self) -> str:
@@ -147,14 +152,20 @@ def _declarations(text: str) -> list[tuple[str, str]]:
 
 
 def for_engine(svg: str) -> str:
-    """A chart's SVG as the PDF engine draws it fastest, with the same picture: each element's ``style``
+    """A chart's SVG as the PDF engine draws it fastest, with the same picture: its styles as attributes
+    (:func:`styles_as_attributes`), then its marks drawn as few paths (:func:`marks_joined`). The HTML page
+    keeps matplotlib's markup."""
+    return marks_joined(styles_as_attributes(svg))
+
+
+def styles_as_attributes(svg: str) -> str:
+    """A chart's SVG with the same picture and the same PDF from the engine, parsed faster: each element's ``style``
     declarations as its presentation attributes (the engine parses a style attribute as CSS for every
     element it draws), and matplotlib's one style sheet (``*{stroke-linejoin: round; stroke-linecap: butt}``)
     as attributes of the root, which every element inherits unless it sets its own. An element that has an
-    attribute of the same name as one of its declarations keeps its style attribute. The HTML page keeps
-    matplotlib's markup.
+    attribute of the same name as one of its declarations keeps its style attribute.
 
-    >>> for_engine('<svg x="1"><defs><style type="text/css">*{stroke-linecap: butt}</style></defs>'
+    >>> styles_as_attributes('<svg x="1"><defs><style type="text/css">*{stroke-linecap: butt}</style></defs>'
     ...            '<path d="M 0 0" style="fill: none; stroke: #000"/></svg>')
     '<svg stroke-linecap="butt" x="1"><path d="M 0 0" fill="none" stroke="#000"/></svg>'
     """
@@ -171,3 +182,177 @@ def for_engine(svg: str) -> str:
         return f'<{m["tag"]}{m["attrs"]}' + "".join(f' {n}="{v}"' for n, v in declared)
 
     return _STYLED.sub(attributes, svg)
+
+
+# ----------------------------------------------------------------------------- marks drawn as few paths
+_SVG_NS = "http://www.w3.org/2000/svg"
+_HREFS = ("{http://www.w3.org/1999/xlink}href", "href")
+#: path data of absolute commands whose arguments are all points (what matplotlib writes), and their numbers
+_POINTS_ONLY = re.compile(r"(?:\s*[MLCQZz]|\s*,?\s*-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)*\s*")
+_NUMBER = re.compile(r"-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
+#: an id an attribute refers to (``#id`` in ``href``, ``url(#id)`` in ``clip-path``)
+_REFERRED = re.compile(r"#([^)\s\"']+)")
+#: opacity attributes: a mark painted with any of them below 1 is never joined (overlaps would show)
+_OPACITIES = ("opacity", "fill-opacity", "stroke-opacity")
+#: the least gap [pt] between a joined mark and anything it is moved past or joined to: more than the reach
+#: of anti-aliasing at any resolution a viewer draws at (one pixel at 72 dpi)
+GAP_PT = 1.0
+#: a line of text is taken to be at most this wide per character [em] and to reach this far above and below
+#: its baseline [em]: more than any glyph of DejaVu Sans, the charts' font, so a box is never too small
+TEXT_EM_PER_CHARACTER, TEXT_EM_UP, TEXT_EM_DOWN = 1.3, 1.2, 0.5
+
+Box = tuple[float, float, float, float]
+
+
+def _points(d: str) -> list[float] | None:
+    """The numbers of path data made of absolute point commands only (x, y, x, y, ...), or None."""
+    if not _POINTS_ONLY.fullmatch(d):
+        return None
+    numbers = [float(n) for n in _NUMBER.findall(d)]
+    return numbers if len(numbers) % 2 == 0 else None
+
+
+def _moved(d: str, dx: float, dy: float) -> str:
+    """Path data of point commands moved by (dx, dy)."""
+    count = iter(range(1 << 30))
+
+    def one(m: re.Match) -> str:
+        value = float(m.group(0)) + (dx if next(count) % 2 == 0 else dy)
+        return f"{value:.6f}".rstrip("0").rstrip(".")
+
+    return _NUMBER.sub(one, d)
+
+
+def _number(text: str | None) -> float | None:
+    if text is None:
+        return None
+    m = re.fullmatch(r"\s*(-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)(?:px|pt)?\s*", text)
+    return float(m.group(1)) if m else None
+
+
+def _box(el, widest: float) -> Box | None:
+    """A box [pt] that holds everything an element paints, or None if it cannot be told (then nothing is
+    moved past it). A path: its points and the reach of its stroke (half its width; twice its width at
+    mitred corners); a line of text: its length at :data:`TEXT_EM_PER_CHARACTER` from its anchor."""
+    tag = el.tag
+    if tag in ("defs", "clipPath", "title", "desc"):
+        return (math.inf, math.inf, -math.inf, -math.inf)  # paints nothing
+    if "transform" in el.attrib:
+        return None
+    if tag == "path":
+        points = _points(el.get("d", ""))
+        if not points:
+            return None
+        width = _number(el.get("stroke-width"))
+        width = widest if width is None else width
+        reach = 0.0 if el.get("stroke") == "none" else width * (2.0 if el.get("stroke-linejoin") == "miter" else 0.5)
+        xs, ys = points[0::2], points[1::2]
+        return (min(xs) - reach, min(ys) - reach, max(xs) + reach, max(ys) + reach)
+    if tag == "text":
+        x, y, size = _number(el.get("x")), _number(el.get("y")), _number(el.get("font-size"))
+        if x is None or y is None or size is None or len(el) or not el.text:
+            return None
+        wide = TEXT_EM_PER_CHARACTER * size * len(el.text)
+        left = {"middle": x - wide / 2, "end": x - wide}.get(el.get("text-anchor", "start"), x)
+        return (left, y - TEXT_EM_UP * size, left + wide, y + TEXT_EM_DOWN * size)
+    return None
+
+
+def _apart(a: Box, b: Box) -> bool:
+    return (a[2] + GAP_PT <= b[0] or b[2] + GAP_PT <= a[0]
+            or a[3] + GAP_PT <= b[1] or b[3] + GAP_PT <= a[1])
+
+
+_SUBPATH = re.compile(r"M[^M]*")
+
+
+def _joinable(el) -> bool:
+    """A path that can be drawn as part of another with the same attributes: no id, no transform, point
+    commands only, painted opaque, and lines only (no fill, or straight lines that enclose nothing). A
+    filled shape is left alone: a viewer may align a lone rectangle's edges to its pixels, and not a
+    path of several."""
+    if el.tag != "path" or "id" in el.attrib or "transform" in el.attrib \
+            or any(_number(el.get(a, "1")) != 1.0 for a in _OPACITIES):
+        return False
+    d = el.get("d", "")
+    return el.get("fill") == "none" or ("z" not in d.lower() and all(
+        len(_NUMBER.findall(sub)) == 4 for sub in _SUBPATH.findall(d)))
+
+
+def marks_joined(svg: str) -> str:
+    """A chart's SVG drawn as fewer elements, with the same picture: the engine sets up each element it
+    draws on its own, and a chart's marks are many small ones.
+
+    * A mark placed by reference (``<use>`` of a path in ``<defs>``: matplotlib's tick marks and markers)
+      becomes that path, moved to its place; a definition no longer referred to is dropped.
+    * Paths with the same attributes, side by side in one group, become one path with all their outlines
+      (e.g. an axis's tick marks, its gridlines): a path joins the first of its kind only if it is opaque,
+      lies :data:`GAP_PT` apart from the outlines already joined, and lies as far apart from every element
+      drawn between the two (text by a box larger than its letters); else it starts a path of its own.
+      Nothing changes in what covers what.
+
+    Anything else, or SVG that cannot be read, is left as it is.
+    """
+    from xml.etree import ElementTree
+
+    try:
+        root = ElementTree.fromstring(svg)
+    except ElementTree.ParseError:
+        return svg
+    for el in root.iter():  # local names: the markup is written back with SVG as its default namespace
+        if isinstance(el.tag, str) and el.tag.startswith("{" + _SVG_NS + "}"):
+            el.tag = el.tag[len(_SVG_NS) + 2:]
+    defined = {el.get("id"): el for defs in root.iter("defs") for el in defs
+               if el.tag == "path" and el.get("id")}
+    widths = [w for w in (_number(el.get("stroke-width")) for el in root.iter()) if w is not None]
+    widest = max(widths, default=1.0)
+    changed = False
+    for parent in list(root.iter()):
+        for i, el in enumerate(list(parent)):
+            if el.tag != "use":
+                continue
+            href = next((el.get(h) for h in _HREFS if el.get(h)), "")
+            mark = defined.get(href[1:]) if href.startswith("#") else None
+            if mark is None or "transform" in el.attrib or "transform" in mark.attrib \
+                    or _points(mark.get("d", "")) is None:
+                continue
+            dx, dy = _number(el.get("x", "0")), _number(el.get("y", "0"))
+            if dx is None or dy is None:
+                continue
+            attrs = {k: v for k, v in el.attrib.items() if k not in (*_HREFS, "x", "y")}
+            attrs.update({k: v for k, v in mark.attrib.items() if k not in ("id", "d")})  # its own win
+            attrs["d"] = _moved(mark.get("d"), dx, dy)
+            path = ElementTree.Element("path", attrs)
+            path.tail = el.tail
+            parent[i] = path
+            changed = True
+    if changed:
+        referred = {m.group(1) for el in root.iter() for v in el.attrib.values() for m in _REFERRED.finditer(v)}
+        for defs in list(root.iter("defs")):
+            for mark in [m for m in defs if m.get("id") in defined and m.get("id") not in referred]:
+                defs.remove(mark)
+        for parent in list(root.iter()):
+            for el in [e for e in parent if e.tag == "defs" and len(e) == 0]:
+                parent.remove(el)
+    for parent in list(root.iter()):
+        drawn: list[tuple[object, Box | None]] = []  # the elements kept, in order, with their boxes
+        heads: dict[tuple, tuple[int, list[Box]]] = {}  # attributes -> (index in drawn, outlines joined)
+        for el in list(parent):
+            box = _box(el, widest)
+            if box is not None and _joinable(el):
+                key = tuple(sorted((k, v) for k, v in el.attrib.items() if k != "d"))
+                head = heads.get(key)
+                if head is not None and all(_apart(box, b) for b in head[1]) and all(
+                        b is not None and _apart(box, b) for _, b in drawn[head[0] + 1:]):
+                    first = drawn[head[0]][0]
+                    first.set("d", first.get("d").rstrip() + " " + el.get("d").strip())
+                    head[1].append(box)
+                    parent.remove(el)
+                    changed = True
+                    continue
+                heads[key] = (len(drawn), [box])
+            drawn.append((el, box))
+    if not changed:
+        return svg
+    root.set("xmlns", _SVG_NS)
+    return ElementTree.tostring(root, encoding="unicode")

@@ -123,9 +123,23 @@ class Spec:
         return Chart(name=given["name"], title=title, svg="", alt=alt, size_pt=size)
 
 
+def draw_all_and_sent(specs: Sequence[Spec]) -> list[Chart]:
+    """The charts of the specs, then of the specs sent to the work after it was handed over (one list, sent
+    once: :meth:`tea.outputs.workers.Later.send`), in that order: the first are drawn while the rest are
+    still being described."""
+    from tea.outputs import workers
+
+    drawn = draw_all(specs)
+    return drawn + draw_all(workers.received())
+
+
 def draw_all(specs: Sequence[Spec]) -> list[Chart]:
-    """The charts of the specs, in order."""
-    return [spec.draw() for spec in specs]
+    """The charts of the specs, in order, each with its SVG for the PDF engine made (:attr:`Chart.engine_svg`):
+    in the process that draws them, not in the one that lays the page out."""
+    drawn = [spec.draw() for spec in specs]
+    for chart in drawn:
+        _ = chart.engine_svg
+    return drawn
 
 
 # ----------------------------------------------------------------------------- helpers

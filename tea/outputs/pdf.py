@@ -67,7 +67,7 @@ def _fetcher(weasyprint):
     (see :func:`layout`): the chart, or a placeholder of its size. A chart it
     cannot give stops the layout.
     """
-    from tea.outputs.chart_markup import LATER, for_engine
+    from tea.outputs.chart_markup import LATER
 
     urls = weasyprint.urls
 
@@ -83,7 +83,7 @@ def _fetcher(weasyprint):
                     raise urls.FatalURLFetchingError(f"chart {name!r}: {exc}") from exc
                 if not svg:
                     raise urls.FatalURLFetchingError(f"chart {name!r}: not drawn")
-                return urls.URLFetcherResponse(url, body=for_engine(svg).encode("utf-8"),
+                return urls.URLFetcherResponse(url, body=svg.encode("utf-8"),
                                                headers={"Content-Type": "image/svg+xml"})
             return super().fetch(url, headers)
 
@@ -206,10 +206,12 @@ def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = Non
     ``stylesheets`` come after the page's own ``<style>``; ``images`` is a
     dictionary the engine keeps the page's images in (its charts, parsed),
     shared by layouts of the same page so that each is parsed once;
-    ``charts`` gives the SVG of a chart by name, for the charts the page names
-    by their outlines (:attr:`tea.outputs.charts.Chart.src`): the chart, or a
-    placeholder of its size (:attr:`tea.outputs.charts.Chart.placeholder`),
-    for which the chart is drawn in once drawn (:func:`draw_in`).
+    ``charts`` gives the engine's SVG of a chart by name
+    (:attr:`tea.outputs.charts.Chart.engine_svg`), for the charts the page
+    names by their outlines (:attr:`tea.outputs.charts.Chart.src`): the
+    chart, or a placeholder of its size
+    (:attr:`tea.outputs.charts.Chart.placeholder`), for which the chart is
+    drawn in once drawn (:func:`draw_in`).
     """
     weasyprint, fonts, fetcher = _engine()
     fetcher.charts = charts
@@ -222,8 +224,9 @@ def layout(html: str, stylesheets: Sequence[Any] = (), images: dict | None = Non
 
 def draw_in(images: dict, charts: Mapping[str, str]) -> bool:
     """Put drawn charts in place of their placeholders in the pages laid out with ``images`` (the dictionary
-    given to :func:`layout`): ``charts`` gives the SVG of each by name. False, and the pages not all changed,
-    if the engine's pictures cannot be redrawn so (the pages must then be laid out with the charts).
+    given to :func:`layout`): ``charts`` gives the engine's SVG of each by name
+    (:attr:`tea.outputs.charts.Chart.engine_svg`). False, and the pages not all changed, if the engine's
+    pictures cannot be redrawn so (the pages must then be laid out with the charts).
 
     The page's layout took only the placeholder's size, which is the drawn
     chart's; the engine draws a picture when the PDF is written, from the SVG
@@ -232,12 +235,12 @@ def draw_in(images: dict, charts: Mapping[str, str]) -> bool:
     """
     from xml.etree import ElementTree
 
-    from tea.outputs.chart_markup import LATER, for_engine
+    from tea.outputs.chart_markup import LATER
 
     for url, image in images.items():
         if not url.startswith(LATER + ":"):
             continue
-        svg = for_engine(charts.get(url[len(LATER) + 1:]))
+        svg = charts.get(url[len(LATER) + 1:])
         try:
             image.__init__(ElementTree.fromstring(svg.encode("utf-8")), image._base_url, image._url_fetcher,
                            image._context)

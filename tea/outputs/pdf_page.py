@@ -50,7 +50,7 @@ def lay_out(fitting: tuple[str, int, int, int, Sequence[float], Sequence[float]]
     placeholders : dict
         An empty SVG picture of each chart's size, by name.
 
-    Then received (:func:`tea.outputs.workers.received`): the SVG of each
+    Then received (:func:`tea.outputs.workers.received`): the engine's SVG of each
     drawn chart by name, and the file to write the PDF to (None: no PDF).
     """
     anchor, start, last, floor, type_scale, chart_scale = fitting

@@ -106,9 +106,22 @@ def render_summary(
     """
     path, kind = _target(path, force)
     size = _page_size(page_size, case)
+    # the charts are drawn in one process (one standing by with matplotlib loaded, if the command line started
+    # one; else one forked now) while the page is laid out in another (one standing by with the PDF engine
+    # started, if the command line started one; else this one) with a placeholder of each chart's size; the
+    # charts are drawn in after. A worker standing by is handed the page's own charts at once, and the
+    # tornado chart once the sensitivity run has made it
+    first = page_chart_specs(case, ledger, results, "case-0")
+    drawing = workers.handed_over(charts.draw_all_and_sent, first, role="charts") \
+        if workers.stands_by("charts") else None
     views = SensitivityViews(case, sensitivity, "case-0")
     tornado = views.below_spec()
-    specs = page_chart_specs(case, ledger, results, "case-0") + ([tornado] if tornado is not None else [])
+    more = [tornado] if tornado is not None else []
+    if drawing is not None:
+        drawing.send(more)
+    else:
+        drawing = workers.elsewhere(charts.draw_all, first + more, role="charts")
+    specs = first + more
 
     def page_with(shown: list[charts.Chart]) -> CasePage:
         """The page with these charts (drawn, or their outlines), the tornado chart of NPV last."""
@@ -118,12 +131,8 @@ def render_summary(
 
     meta = _meta([case], [results])
     key = ("summary", case.hash, case.source, size, views.key)
-    # the charts are drawn in one process (one standing by with matplotlib loaded, if the command line started
-    # one) while the page is laid out in another (one standing by with the PDF engine started, if the command
-    # line started one; else this one) with a placeholder of each chart's size; the charts are drawn in after
-    drawn = workers.elsewhere(charts.draw_all, specs, role="charts")
     if kind == "html" and key in _fit_cache:  # the fit of the same page, just measured
-        return atomic_write_text(path, _summary_page(page_with(drawn()), size, meta, _fit_cache[key], False),
+        return atomic_write_text(path, _summary_page(page_with(drawing()), size, meta, _fit_cache[key], False),
                                  force=True)
     outlines = [spec.outline() for spec in specs]
     page = page_with(outlines)
@@ -137,8 +146,8 @@ def render_summary(
         html_at(start), {chart.name: chart.placeholder for chart in outlines}, role="page", answer=html_at)
     if not laying.in_worker:
         pdf.prepare()  # while the charts are drawn
-    made = drawn()
-    laying.send({chart.name: chart.svg for chart in made})
+    made = drawing()
+    laying.send({chart.name: chart.engine_svg for chart in made})
 
     def laid_out(tmp: Path | None) -> tuple[CasePage, int]:
         """Lay the page out (and write it as PDF to ``tmp``): the page with its charts and its density."""

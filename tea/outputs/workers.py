@@ -325,6 +325,11 @@ def stand_by(*modules: str, role: str = "work") -> bool:
     return True
 
 
+def stands_by(role: str) -> bool:
+    """Whether a worker stands by for ``role`` (:func:`stand_by`), not yet handed its work."""
+    return role in _standing
+
+
 def stand_down() -> None:
     """End the workers standing by that were never given their work."""
     while _standing:
