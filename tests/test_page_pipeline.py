@@ -368,3 +368,60 @@ def test_text_the_engine_sets_letter_by_letter_is_left_to_it(text, tmp_path, mon
     letters = pdf.write_pdf(pdf.layout(f'<img src="{plain.data_uri}">'))
     monkeypatch.setattr(svg_text, "LINE_AT_A_TIME", True)
     assert pdf.write_pdf(pdf.layout(f'<img src="{plain.data_uri}">')) != letters
+
+
+# ----------------------------------------------------------------------------- compiled templates kept
+def test_templates_compiled_in_one_run_are_taken_from_jinjas_cache_in_the_next(computed, tmp_path, monkeypatch):
+    """jinja2's own bytecode cache keeps the compiled page templates between runs: a fresh environment (the
+    next run) loads them from it instead of compiling, and the page is the same HTML either way."""
+    import jinja2
+
+    case, ledger, results = computed
+    monkeypatch.setattr(jinja2.FileSystemBytecodeCache, "_get_default_cache_dir", lambda self: str(tmp_path))
+    report._environment.cache_clear()
+    first = report.summary_html(case, ledger, results)
+    kept = sorted(tmp_path.glob("__jinja2_*.cache"))
+    assert len(kept) >= 2  # the page's template and those it extends and includes
+    report._environment.cache_clear()
+    compiled, compile = [], jinja2.Environment.compile
+
+    def counted(self, source, name=None, *args, **kwargs):
+        compiled.append(name)
+        return compile(self, source, name, *args, **kwargs)
+
+    monkeypatch.setattr(jinja2.Environment, "compile", counted)
+    assert report.summary_html(case, ledger, results) == first
+    assert compiled == []  # nothing compiled: every template came from the cache
+    for cached in kept:
+        cached.unlink()
+    report._environment.cache_clear()
+    assert report.summary_html(case, ledger, results) == first
+    assert "summary.html.j2" in compiled  # the check can fail: without the cache the template is compiled
+    report._environment.cache_clear()
+
+
+@pytest.mark.parametrize("trouble", ["unsafe folder", "cannot write"])
+def test_a_template_cache_that_cannot_be_used_is_no_error(computed, tmp_path, monkeypatch, trouble):
+    """jinja2 refuses a cache folder someone else could write to (RuntimeError); a full or read-only disk
+    cannot store a compiled template (OSError). Either way the page is made, the same as with the cache."""
+    import tempfile
+
+    import jinja2
+
+    case, ledger, results = computed
+    report._environment.cache_clear()
+    expected = report.summary_html(case, ledger, results)
+    if trouble == "unsafe folder":
+        def unsafe(self):
+            raise RuntimeError("The cache directory is not safe")
+        monkeypatch.setattr(jinja2.FileSystemBytecodeCache, "_get_default_cache_dir", unsafe)
+    else:
+        monkeypatch.setattr(jinja2.FileSystemBytecodeCache, "_get_default_cache_dir", lambda self: str(tmp_path))
+
+        def full(*args, **kwargs):
+            raise OSError(28, "No space left on device")
+        monkeypatch.setattr(tempfile, "NamedTemporaryFile", full)
+    report._environment.cache_clear()
+    assert (report._environment().bytecode_cache is None) == (trouble == "unsafe folder")
+    assert report.summary_html(case, ledger, results) == expected
+    report._environment.cache_clear()

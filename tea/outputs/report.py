@@ -332,6 +332,7 @@ def _environment():
 
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(str(TEMPLATES)),
+        bytecode_cache=_compiled_templates(),
         autoescape=True,  # every template, whatever its name: case text is never markup
         undefined=jinja2.StrictUndefined,
         trim_blocks=True,
@@ -340,6 +341,27 @@ def _environment():
         finalize=_shown,  # every value a template prints: control and direction-override characters escaped
     )
     return env
+
+
+def _compiled_templates():
+    """Where compiled templates are kept between runs: jinja2's own cache of them in the user's directory
+    under the system's temporary folder (made by jinja2 readable by the user alone, and refused if anyone
+    else owns it), keyed by each template's text. Compiling the page's templates is about a twentieth of
+    the time of a page. None (each run compiles them) where that folder cannot be made or is not safe; a
+    compiled template that cannot be stored is compiled again next time."""
+    import jinja2
+
+    class Kept(jinja2.FileSystemBytecodeCache):
+        def dump_bytecode(self, bucket) -> None:
+            try:
+                super().dump_bytecode(bucket)
+            except OSError:  # a full or read-only disk: the template is compiled, only not kept
+                pass
+
+    try:
+        return Kept()
+    except (OSError, RuntimeError):  # RuntimeError: jinja2 found the folder unsafe
+        return None
 
 
 def _shown(value: Any) -> Any:
