@@ -260,6 +260,24 @@ class TestDemoFieldTable:
             own["soc_gain_t_co2e"] * HA_PER_ACRE / 0.90718474, rel=1e-9)
         assert not any("_t_c" in c or "_t_dm" in c for c in res.table.columns)
 
+    @pytest.mark.parametrize("model_name, file_name", [
+        ("npv", "npv_per_acre"), ("soc_gain_t_co2e_field", "soc_gain_short_ton_co2e_field"),
+        ("sold_t_dm", "sold_short_ton_dm_per_acre")])
+    def test_a_us_screen_ranks_by_the_column_the_ranked_file_names(self, cases, tmp_path, model_name, file_name):
+        """``--rank-by`` takes the name of a column as the ranked file writes it (per acre, short tons) as well
+        as the figure's own name: the same ranking, by the column the file has, and said by that name."""
+        base = cases["sandy_slope_switchgrass"]
+        path = tmp_path / "f.csv"
+        path.write_text("field_id,area_acre,haul_distance_mile,site_factor\nA,10,5,0.7\nB,20,30,1.0\nC,5,60,0.85\n")
+        by_model = screen.screen(path, base, rank_by=model_name, progress=False)
+        by_file = screen.screen(path, base, rank_by=file_name, progress=False)
+        pd.testing.assert_frame_equal(by_model.table, by_file.table)
+        assert by_file.rank_by == by_model.rank_by == file_name
+        column = by_file.table[file_name].to_numpy()
+        assert list(column) == sorted(column, reverse=True)  # ranked by that very column, largest first
+        with pytest.raises(CaseError, match="npv_per_acre"):  # the error lists the file's names
+            screen.screen(path, base, rank_by="npv_per_ha", progress=False)
+
 
 BAD_TABLE = """\
 # comment lines and blank lines are skipped

@@ -39,7 +39,7 @@ class ScreenResult:
     rows_read: int
     rows_skipped: int
     warnings: list[str]
-    rank_by: str
+    rank_by: str  # the ranked file's column (per acre, short tons in a US case)
     case: Case
     source: str
     units_note: str
@@ -66,8 +66,9 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
     case : Case
         The base case.
     rank_by : str
-        Figure to rank by (a name of :data:`LEAN_FIGURES`, or with ``_field``
-        for the whole-field value).
+        Figure to rank by: a name of :data:`SCREEN_FIGURES`, or with ``_field``
+        for the whole-field value, or the ranked file's name of its column
+        (:func:`file_columns`: ``npv_per_acre``, ``soc_gain_short_ton_co2e_field``).
     ascending : bool
         Rank the smallest first.
     chunk_rows : int
@@ -83,10 +84,13 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
 
     source = str(fields)
     figure_names = SCREEN_FIGURES
+    # a figure is named as the model names it or as the ranked file's column does (per acre, short tons)
+    named = {shown: name for name, (shown, _factor) in file_columns(case).items()}
     valid_rank = set(figure_names) | {f"{n}_field" for n in FIELD_FIGURES}
+    rank_by = named.get(rank_by, rank_by)
     if rank_by not in valid_rank:
-        raise CaseError([Problem(source, "--rank-by", f"unknown figure {brief(rank_by)}; expected one of "
-                                 + ", ".join(sorted(valid_rank)))])
+        raise CaseError([Problem(source, "--rank-by", f"unknown figure {brief(rank_by)}; expected a column "
+                                 "of the ranked file: " + ", ".join(sorted(named)))])
     pieces = []
     bad: list[BadRow] = []
     with FieldTable(fields, case) as fields_table:
@@ -108,7 +112,7 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
     skipped = len({b.line for b in bad})
     table = _rename_with_units(table, case)
     return ScreenResult(table, sorted(bad, key=lambda b: (b.line, b.column)), read, skipped, warnings,
-                        rank_by, case, source, _units_note(case), ascending)
+                        file_columns(case)[rank_by][0], case, source, _units_note(case), ascending)
 
 
 #: the figures a screen reports per field (per ha), in output order
@@ -174,8 +178,9 @@ def terminal_units_note(case: Case) -> str:
     return _units_note(case, terminal=True)
 
 
-def _rename_with_units(table, case: Case):
-    """Figures shown in the case's unit system, each column named by its unit where a name alone is unclear.
+def file_columns(case: Case) -> dict[str, tuple[str, float]]:
+    """Each figure column of a screen (a name of :data:`SCREEN_FIGURES`, or with ``_field``) as the ranked
+    file names it in the case's unit system, with the factor its values are converted by.
 
     Per-area figures end in ``_per_ha`` (``_per_acre``); dry matter in US
     customary units is named ``short_ton_dm``; break-even prices end in the
@@ -183,36 +188,42 @@ def _rename_with_units(table, case: Case):
     """
     from tea.inputs import display
 
-    if not len(table.columns):
-        return table
     system = case.unit_system
     us = system == "us_customary"
-    renames = {}
+    columns = {}
     for name in SCREEN_FIGURES:
-        if name not in table:
-            continue
         unit = MODEL.figure(name).unit
         new = name
         if name.startswith("breakeven_price"):
             unit = "money/GJ" if case.price_basis == "gj" else "money/t DM"
             new = name + ("_per_gj" if case.price_basis == "gj" else "_per_short_ton_dm" if us else "_per_t_dm")
         factor, shown = display.convert(1.0, unit, system)
-        if factor != 1.0:
-            table[name] = table[name] * factor
         if "/ha" in unit and "per_ha" not in new:
             new = f"{new}_per_ha"
         if us:
             new = new.replace("per_ha", "per_acre")
-            if shown.startswith("short ton"):  # dry matter and carbon alike: converted above
+            if shown.startswith("short ton"):  # dry matter and carbon alike: converted
                 new = _in_short_tons(new)
-        renames[name] = new
+        columns[name] = (new, factor)
     for name in FIELD_FIGURES:
         col = f"{name}_field"
         factor, shown = display.convert(1.0, MODEL.figure(name).unit.replace("/ha", ""), system)
-        if col in table and factor != 1.0:
-            table[col] = table[col] * factor
-            if shown.startswith("short ton"):
-                renames[col] = _in_short_tons(col)
+        columns[col] = (_in_short_tons(col) if shown.startswith("short ton") else col, factor)
+    return columns
+
+
+def _rename_with_units(table, case: Case):
+    """Figures shown in the case's unit system, each column named by its unit where a name alone is unclear
+    (:func:`file_columns`)."""
+    if not len(table.columns):
+        return table
+    renames = {}
+    for name, (new, factor) in file_columns(case).items():
+        if name not in table:
+            continue
+        if factor != 1.0:
+            table[name] = table[name] * factor
+        renames[name] = new
     return table.rename(columns=renames)
 
 

@@ -181,7 +181,8 @@ def add_commands(sub) -> None:
     c.add_argument("--out", metavar="OUT", help="ranked table: .csv (default FIELDS.screened.csv), .xlsx or .parquet")
     c.add_argument("--errors", metavar="ERR.csv", help="where skipped rows are listed (default OUT.errors.csv)")
     c.add_argument("--rank-by", default="eav_vs_current_use", metavar="FIGURE",
-                   help="figure to rank by (default eav_vs_current_use; add _field for whole-field figures: "
+                   help="figure to rank by, as named in the ranked file or without its unit (default "
+                        "eav_vs_current_use; add _field for whole-field figures: "
                         + ", ".join(screen.FIELD_FIGURES) + ")")
     c.add_argument("--ascending", action="store_true", help="rank the smallest first")
     c.add_argument("--top", type=_positive_int, default=10, help="fields shown in the terminal (default 10)")
