@@ -84,16 +84,9 @@ def _toml(value: Any) -> str:
 def _shown(k: schema.Key, value: Any, system: str, given_in_system: bool = False) -> tuple[str, Any]:
     """The key spelled in ``system`` and the canonical value converted to it (``given_in_system``: already is),
     rounded to 3 significant digits as an example is."""
-    spelling = units.spell(k.template, system)
-    if given_in_system:
-        return spelling, value
-    factor = units.spellings(k.template)[spelling]
-    if isinstance(value, list) or isinstance(value, (str, bool)) or value is None:
-        return spelling, value
-    shown = value / factor
-    if isinstance(shown, float) and factor != 1.0:
-        shown = float(f"{shown:.3g}")
-    return spelling, shown
+    if given_in_system or isinstance(value, list):
+        return units.spell(k.template, system), value
+    return units.in_system(k.template, value, system, digits=3)
 
 
 #: ``tea new --from CASE``: whose each key is, pattern by pattern over the schema's key paths (``fnmatch``; the
@@ -189,13 +182,10 @@ def _exact(value: Any) -> str:
 
 def _spelled_as_given(k: schema.Key, value: Any, system: str, base) -> tuple[str, str]:
     """A carried key and value in the spelling the source case gave it (in its unit system), else ``system``'s."""
-    spellings = units.spellings(k.template)
     spelling = base.given_spelling.get(k.path)
-    if system != base.unit_system or spelling not in spellings:
+    if system != base.unit_system or spelling not in units.spellings(k.template):
         spelling = units.spell(k.template, system)
-    factor = spellings[spelling]
-    if isinstance(value, (int, float)) and not isinstance(value, bool) and factor != 1.0:
-        value = value / factor
+    value = value if isinstance(value, list) else units.in_spelling(k.template, spelling, value)
     return spelling, _exact(value)
 
 
@@ -213,8 +203,7 @@ def _operations_lines(ops: list[dict[str, Any]], system: str, active: bool) -> l
                 out.append(f"{mark}{key} = {_toml(op[key])}")
         for template in operations.AMOUNTS:
             if units.spell(template) in op:
-                spelling = units.spell(template, system)
-                value = op[units.spell(template)] / units.spellings(template)[spelling]
+                spelling, value = units.in_system(template, op[units.spell(template)], system)
                 out.append(f"{mark}{spelling} = {_exact(value)}")
         out.append("")
     return out

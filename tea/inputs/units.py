@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import itertools
 import re
+from typing import Any
 
 #: exact legal definitions [canonical unit per unit]
 HA_PER_ACRE = 0.40468564224
@@ -120,6 +121,51 @@ def spellings(template: str) -> dict[str, float]:
     if not names:
         out[template] = 1.0
     return out
+
+
+def in_spelling(template: str, spelling: str, value: Any) -> Any:
+    """A canonical value as the key spelled ``spelling`` (one of :func:`spellings`) takes it: a number, or
+    each number of a list, divided by the spelling's size; anything else (text, a flag, a table) as it is.
+
+    >>> round(in_spelling("rent_per_{ha}", "rent_per_acre", 247.1054), 6)
+    100.0
+    >>> [round(x, 4) for x in in_spelling("yield_{t}_dm_per_{ha}", "yield_short_ton_dm_per_acre", [0.0, 10.0])]
+    [0.0, 4.4609]
+    >>> in_spelling("rent_per_{ha}", "rent_per_acre", "your USD value")
+    'your USD value'
+    """
+    factor = spellings(template)[spelling]
+    if factor == 1.0:
+        return value
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return value / factor
+    if isinstance(value, list):
+        return [x / factor if isinstance(x, (int, float)) and not isinstance(x, bool) else x for x in value]
+    return value
+
+
+def in_system(template: str, value: Any, system: str, digits: int | None = None) -> tuple[str, Any]:
+    """A key's spelling in ``system`` and a canonical value as that key takes it (:func:`in_spelling`); with
+    ``digits``, a converted number (or each of a list) rounded to that many significant digits, as an
+    example value is shown.
+
+    >>> spelled, value = in_system("mature_{t}_dm_per_{ha}", 10.0, "us_customary")
+    >>> spelled, round(value, 4)
+    ('mature_short_ton_dm_per_acre', 4.4609)
+    >>> in_system("mature_{t}_dm_per_{ha}", [10.0, 20.0], "us_customary", digits=3)
+    ('mature_short_ton_dm_per_acre', [4.46, 8.92])
+    >>> in_system("mature_{t}_dm_per_{ha}", 10.0, "metric", digits=3)
+    ('mature_t_dm_per_ha', 10.0)
+    """
+    spelling = spell(template, system)
+    shown = in_spelling(template, spelling, value)
+    if digits is None or shown is value:
+        return spelling, shown
+
+    def rounded(x: Any) -> Any:
+        return float(f"{x:.{digits}g}") if isinstance(x, float) else x
+
+    return spelling, [rounded(x) for x in shown] if isinstance(shown, list) else rounded(shown)
 
 
 def display_factor(template: str, system: str) -> float:

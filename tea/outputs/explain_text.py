@@ -47,14 +47,10 @@ def _as_the_case_gives(path: str, value: Any, currency: str, system: str) -> str
     k = schema.BY_PATH.get(path)
     if system == "metric" or k is None:
         return ""
-    spelled, factor = units.spell(k.template, system), units.display_factor(k.template, system)
-    if spelled == k.name and factor == 1.0:
+    spelled, shown = units.in_system(k.template, value, system)
+    if spelled == k.name and shown is value:
         return ""
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
-        value = value * factor
-    elif isinstance(value, list):
-        value = [x * factor for x in value]
-    return f" ({k.section}.{spelled} = {_plain(value)} {k.unit_text(system, currency)})"
+    return f" ({k.section}.{spelled} = {_plain(shown)} {k.unit_text(system, currency)})"
 
 
 def _node(n: Node, currency: str, indent: str, out: list[str], system: str = "metric") -> None:

@@ -451,11 +451,9 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
         if verbose:
             for path, value in p.values_in(system).items():
                 key = schema.BY_PATH[path]
-                spelled = f"{key.section}.{units.spell(key.template, system)}"
-                factor = units.display_factor(key.template, system)
-                if isinstance(value, (int, float)) and not isinstance(value, bool) and factor != 1.0:
-                    value = float(f"{value * factor:.3g}")
-                out.append(f"    {spelled} = {toml_value(value, limit=10_000)}    # {p.sources[path]}")  # as a case writes it
+                spelling, shown = units.in_system(key.template, value, system, digits=3)
+                out.append(f"    {key.section}.{spelling} = {toml_value(shown, limit=10_000)}"
+                           f"    # {p.sources[path]}")  # as a case writes it
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
                     out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
