@@ -33,7 +33,8 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMOS = ("clay_corner_miscanthus", "sandy_slope_switchgrass", "flood_meadow_willow")
 M = expanded(MODEL)
 #: whole-number figures and the line (or lines) each is read from (the figures' own formulas say so)
-STEPPED = {"payback_year": "cumulative_cash_flow", "discounted_payback_year": "cumulative_discounted_cash_flow",
+STEPPED = {"payback_year": "cumulative_cash_flow", "payback_lost_year": "cumulative_cash_flow",
+           "discounted_payback_year": "cumulative_discounted_cash_flow",
            "peak_funding_year": "cumulative_cash_flow", "min_dscr_year": "dscr_tested",
            "years_below_covenant": "dscr_tested",
            "llcr_no_cover_years": ("llcr_pv_cfads", "loan_opening_balance")}

@@ -120,3 +120,51 @@ def test_a_stand_losing_money_against_a_paying_use_is_never_green(demo_mappings,
     head = headline.headline(case, res)
     assert head.situation == "earns_less" and head.tone == "bad"
     assert "loses money on its own" in head.sentence
+
+
+@pytest.mark.parametrize("demo, section, key, value, ends_behind", [
+    ("clay_corner_miscanthus", "costs", "removal_per_ha", 9000.0, True),  # a removal dearer than the cash made
+    ("flood_meadow_willow", "revenue", "price_per_gj", 5.0, False),  # a coppice between two cuts
+])
+def test_a_payback_the_running_total_falls_back_from_is_said(demo_mappings, demo, section, key, value, ends_behind):
+    """The payback year is the first year the running total of cash is back at zero (Brealey, Myers and Allen,
+    Principles of Corporate Finance, ch. 5); a removal that costs more than the cash made by then, or the
+    costs of a coppice's years between two cuts, take it below zero again. The year it does and the total at removal are read from numpy's running sum of the
+    ledger's own net cash flow, and the headline, the terminal's payback row and the page's payback tile say
+    both (the tile in the loss colour when the stand ends behind)."""
+    import numpy as np
+
+    data = copy_case(demo_mappings[demo])
+    data[section][key] = value
+    case = tea.load_text(to_toml(data), source="payback.toml")
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    running = np.cumsum(frame["net_cash_flow"].to_numpy())
+    pay = res["payback_year"]
+    again = next(t for t in range(int(pay) + 1, len(running)) if running[t] < 0)
+    assert res["payback_lost_year"] == again
+    assert res["cash_at_removal"] == pytest.approx(running[-1], rel=1e-12)
+    assert (running[-1] < 0) == ends_behind
+    total = f"{running[-1]:,.0f} {case.currency} per ha"
+    clause = (f"below zero again in year {again} and ends the stand life at {total}" if ends_behind
+              else f"below zero again in year {again} before ending at {total}")
+    head = headline.headline(case, res)
+    assert f"pays back in year {pay:.0f} but is {clause}." in _flat(head.sentence)
+    term, page = _shown(case, frame, res, head)
+    row = next(line for line in terminal.summary_text(case, frame, res).splitlines() if line.strip().startswith("Payback "))
+    assert _flat(row).startswith(f"Payback year {pay:.0f}") and clause in term.split("Payback year", 1)[1]
+    assert clause in page.split("Pays back in", 1)[1]
+    html = report.summary_html(case, frame, res, sensitivity=False)
+    tone = re.search(r'<div class="tile ?([a-z]*)">\s*<p class="label">Pays back in', html).group(1)
+    assert (tone == "bad") == ends_behind
+
+
+def test_a_payback_that_holds_has_no_caveat(demo_mappings):
+    """The demo stand's running total stays above zero from its payback year to removal (numpy's running sum
+    of the ledger's net cash flow): nothing is added to the payback."""
+    import numpy as np
+
+    case, frame, res = _case(demo_mappings)
+    running = np.cumsum(frame["net_cash_flow"].to_numpy())
+    assert (running[int(res["payback_year"]):] >= 0).all()
+    assert res["payback_lost_year"] is None and headline.payback_caveat(case, res) == ""

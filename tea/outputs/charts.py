@@ -403,6 +403,9 @@ def cash_words(years: Sequence[float], cumulative: Sequence[float], payback_year
     y = list(cumulative)
     pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
         "; it does not get back to zero within the stand life"
+    again = next((t for t, v in zip(years, y) if payback_year is not None and t > payback_year and v < 0), None)
+    if again is not None:
+        pay += f" but below zero again in year {again:.0f}"
     alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
            f"lowest {_num(min(y))}, last {_num(y[-1])}{pay}.")
     return "Running total of cash", alt

@@ -43,6 +43,26 @@ def margin_assumed(case: Case) -> bool:
     return case.origin.get("field.current_margin_per_ha") == "default"
 
 
+def payback_caveat(case: Case, res: Results) -> str:
+    """What the payback year alone hides, as a clause ("below zero again in year 15 and ends the stand life at
+    -1,548 EUR per ha"), or "" where the running total of cash stays at or above zero from the payback year on.
+
+    The payback year is the first year the running total is back at zero;
+    a stand whose removal (or a replanting, a bad harvest) costs more than
+    the cash it has made by then is below zero again afterwards, and may end
+    its life behind.
+    """
+    again, end = res["payback_lost_year"], res["cash_at_removal"]
+    if res["payback_year"] is None or again is None:
+        return ""
+    per = "acre" if case.unit_system == "us_customary" else "ha"
+    value, _ = display.convert(end or 0.0, "money/ha", case.unit_system)
+    total = f"{display.money(value, case.currency)} per {per}"
+    if value < 0:
+        return f"below zero again in year {again:.0f} and ends the stand life at {total}"
+    return f"below zero again in year {again:.0f} before ending at {total}"
+
+
 def headline(case: Case, res: Results) -> Headline:
     """The banner and sentence of a computed case."""
     per = "acre" if case.unit_system == "us_customary" else "ha"
@@ -56,8 +76,9 @@ def headline(case: Case, res: Results) -> Headline:
     today_loses = (res["current_use_net"] or 0.0) < 0
     opening = f"Over {case.stand_life} years at {display.percent(res.discount_rate_real, 1)} (real), "
     pay = res["payback_year"]
-    closing = (f", and its cash flow pays back in year {pay:.0f}." if pay is not None
-               else ", and its cash flow does not pay back within the stand life.")
+    caveat = payback_caveat(case, res)
+    closing = (f", and its cash flow pays back in year {pay:.0f}" + (f" but is {caveat}." if caveat else ".")
+               if pay is not None else ", and its cash flow does not pay back within the stand life.")
     if margin_assumed(case):
         key = "field." + units.spell("current_margin_per_{ha}", case.unit_system)
         own = ("loses " if stand_loses else "earns ") + money("eav")

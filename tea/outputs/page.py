@@ -24,7 +24,7 @@ from tea.inputs import display
 from tea.outputs import charts, pdf, terminal
 from tea.outputs.yield_text import page_line
 from tea.outputs.advice import crop_name, grower_warnings, non_native_caution, source_text
-from tea.outputs.headline import headline
+from tea.outputs.headline import headline, payback_caveat
 
 #: densest type size; a page with the tornado chart of NPV has one step more, BESIDE
 MAX_DENSITY = 4
@@ -165,8 +165,11 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
         Tile("Rate of return (IRR)", val("irr"), "", "",
              note("irr", f"real; against the current use: "
                   + (val("irr_vs_current_use") if value_of(res, "irr_vs_current_use") is not None else "not defined"))),
-        Tile("Pays back in", val("payback_year"), "" if value_of(res, "payback_year") is not None else "bad", "",
+        Tile("Pays back in", val("payback_year"),
+             "" if value_of(res, "payback_year") is not None and (value_of(res, "cash_at_removal") or 0) >= 0
+             else "bad", "",
              note("payback_year", "when the running total of cash is back above zero"
+                  + (f"; {caveat}" if (caveat := payback_caveat(case, res)) else "")
                   + (f"; counting interest, {val('discounted_payback_year')}"
                      if value_of(res, "discounted_payback_year") is not None else ""))),
         Tile("Peak funding need", val("peak_funding_need"), "", whole("peak_funding_need"),

@@ -22,7 +22,7 @@ from tea.outputs.advice import crop_name
 ROWS = (
     ("The case", ("crop", "field", "stand_life", "discount_rate")),
     ("Money", ("npv", "npv_vs_current_use", "eav_vs_current_use", "irr", "current_margin", "establishment_cost")),
-    ("Risk", ("payback_year", "discounted_payback_year", "peak_funding_need", "peak_funding_year",
+    ("Risk", ("payback_year", "cash_at_removal", "discounted_payback_year", "peak_funding_need", "peak_funding_year",
               "breakeven_price", "breakeven_mature_yield_t_dm_per_ha")),
     ("Loan", ("loan_principal", "loan_payment", "min_dscr", "min_dscr_year", "dscr_covenant",
               "years_below_covenant", "equity_peak_funding_need")),
@@ -32,7 +32,7 @@ FACTS = {"crop": "Crop", "field": "Field", "stand_life": "Stand life", "discount
 #: figures also shown for the whole field
 WHOLE = ("npv", "npv_vs_current_use", "peak_funding_need")
 #: figures coloured by their sign (gain or loss) on the page
-TONED = ("npv", "npv_vs_current_use", "eav_vs_current_use")
+TONED = ("npv", "npv_vs_current_use", "eav_vs_current_use", "cash_at_removal")
 #: widest line of the terminal table [characters]
 WIDTH = 100
 
@@ -68,8 +68,9 @@ def _text(case: Case, res: Results, name: str, whole: bool = False, short: bool 
             return "no loan", None
     if value is None:
         return "–", None
-    if short and name in ("payback_year", "discounted_payback_year"):
-        return f"year {value:.0f}", value  # the interpolated years are in each case's own summary
+    again = res.per_ha.get("payback_lost_year") if name == "payback_year" else None
+    if short and name in ("payback_year", "discounted_payback_year"):  # the interpolated years are in each case's
+        return f"year {value:.0f}" + (f", <0 again yr {again:.0f}" if again is not None else ""), value  # summary
     return terminal._fig(res, case, name, whole=whole), value
 
 

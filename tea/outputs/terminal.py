@@ -14,7 +14,7 @@ from tea.inputs import display
 from tea.inputs.case import Case, case_header, load_preset, preset_names
 from tea.analysis.lender import lender_cases
 from tea.outputs.advice import non_native_caution
-from tea.outputs.headline import headline
+from tea.outputs.headline import headline, payback_caveat
 from tea.outputs import yield_text
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
@@ -58,14 +58,16 @@ def _shown(res: Results, case: Case, name: str, value: float | None, unit: str, 
     if unit == "yr":
         if name in ("payback_year", "discounted_payback_year"):
             years = (res.whole_field if whole else res.per_ha)[name.removesuffix("_year") + "_years"]
-            return f"year {value:.0f}" + (f" (after {years:.2f} years, interpolated)" if years is not None else "")
+            text = f"year {value:.0f}" + (f" (after {years:.2f} years, interpolated)" if years is not None else "")
+            caveat = payback_caveat(case, res) if name == "payback_year" and not whole else ""
+            return text + (f"; {caveat}" if caveat else "")
         return f"year {value:.0f}" if name.endswith("_year") else f"{value:.1f} years"
     return f"{display.number(value)} {unit}"
 
 
 SUMMARY_ROWS = (
     ("Cash", ("npv", "npv_vs_current_use", "irr", "irr_vs_current_use", "mirr", "eav", "current_margin",
-              "current_use_net", "eav_vs_current_use", "payback_year", "discounted_payback_year",
+              "current_use_net", "eav_vs_current_use", "payback_year", "cash_at_removal", "discounted_payback_year",
               "peak_funding_need", "peak_funding_year", "establishment_cost")),
     ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_mature_yield_t_dm_per_ha",
                     "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
@@ -92,6 +94,8 @@ LABELS = {
     "eav_vs_current_use": "EAV vs current use",
     "payback_year": "Payback",
     "payback_years": "Payback (interpolated)",
+    "payback_lost_year": "Below zero again in",
+    "cash_at_removal": "Cash over the stand life",
     "discounted_payback_year": "Discounted payback",
     "peak_funding_need": "Peak funding need",
     "peak_funding_year": "Peak funding in",
