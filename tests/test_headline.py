@@ -16,6 +16,7 @@ data as input only; no check value comes from it).
 
 from __future__ import annotations
 
+import html as html_text
 import re
 
 import numpy_financial as npf
@@ -168,3 +169,17 @@ def test_a_payback_that_holds_has_no_caveat(demo_mappings):
     running = np.cumsum(frame["net_cash_flow"].to_numpy())
     assert (running[int(res["payback_year"]):] >= 0).all()
     assert res["payback_lost_year"] is None and headline.payback_caveat(case, res) == ""
+
+
+def test_the_gain_tile_names_what_todays_use_nets_not_its_margin(demo_mappings):
+    """The gain over the current use is against what today's use nets once its rent and overheads are paid
+    (common practice, the README's definition): the page's tile says that amount, not the gross margin, which
+    read as if giving up +120 a year had raised the gain."""
+    case, frame, res = _case(demo_mappings, field__current_margin_per_ha=120.0, costs__rent_per_ha=180.0,
+                             costs__overheads_per_ha=40.0)
+    nets = _today_nets(case)
+    assert nets == pytest.approx(-100.0)
+    html = report.summary_html(case, frame, res, sensitivity=False)
+    page = _flat(html_text.unescape(re.sub(r"<[^>]+>", " ", html)))
+    assert f"present value, vs today's use at {nets:,.0f} EUR/ha/yr net of rent and overheads" in page
+    assert "today's margin" not in page

@@ -311,3 +311,18 @@ def test_seed_is_counted_in_pounds_in_a_us_case(demo_mappings, tmp_path):
         case = tea.load_case(tmp_path / f"{name}.toml")
         cost[name] = case["establishment.planting_units_per_ha"] * case["establishment.planting_unit_price"]
     assert cost["to_us"] == pytest.approx(cost["metric"], rel=1e-12)
+
+
+def test_a_us_pages_credit_price_is_per_short_ton_beside_its_tonnages_in_short_tons():
+    """A credit is a metric tonne of CO2e wherever it is sold; a US case's page gives the credited tonnage in
+    short tons, so it gives the price per short ton too (price per t x 0.90718474 t per short ton, NIST HB44),
+    and the price per metric ton as given: the two multiply to the credits' worth as the page reads."""
+    from tea.outputs import report
+
+    case = tea.load_case(SANDY).replace(**{"carbon.credit_price_per_t_co2e": 30.0})
+    frame = tea.build_ledger(case)
+    page = " ".join(re.sub(r"<[^>]+>", " ", report.summary_html(case, frame, tea.summarise(case, frame))).split())
+    per_short_ton = 30.0 * T_PER_SHORT_TON
+    assert f"short ton CO2e/acre credited over the stand life at {per_short_ton:.2f} USD/short ton CO2e " \
+           f"(30.00 USD/metric ton)" in page
+    assert "USD/t CO2e" not in page

@@ -159,7 +159,8 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
              f"{display.percent(res.discount_rate_real, 1)} real"),
         Tile("Gain over the current use", val("npv_vs_current_use"), tone(value_of(res, "npv_vs_current_use")),
              whole("npv_vs_current_use"),
-             f"present value, after giving up today's margin of {fig_text(case, res, 'current_margin')}"),
+             f"present value, vs today's use at {fig_text(case, res, 'current_use_net')} net of rent and "
+             "overheads"),
         Tile("The same gain, per year", val("eav_vs_current_use"), tone(value_of(res, "eav_vs_current_use")),
              whole("eav_vs_current_use"), f"an even yearly amount over the {life}-year stand life"),
         Tile("Rate of return (IRR)", val("irr"), "", "",
@@ -191,8 +192,7 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
     credits = value_of(res, "carbon_credit_revenue") or 0.0
     if credits > 0:
         tiles.append(Tile("Carbon credits, present value", val("carbon_credit_pv"), "", whole("carbon_credit_pv"),
-                          f"{val('credited_t_co2e')} credited over the stand life at "
-                          f"{_money(case, case['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e, "
+                          f"{val('credited_t_co2e')} credited over the stand life at {_credit_price(case)}, "
                           f"{val('credit_payback_t_co2e')} paid back at removal; net of fees"))
     grant = case.values.get("establishment.grant_per_ha") or 0.0
     tiles.append(Tile("Establishment cost", val("establishment_cost"), "", whole("establishment_cost"),
@@ -202,6 +202,17 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
         tiles.append(Tile("Current use earns", val("current_margin"), "", whole("current_margin"),
                           f"{_words(case['field.current_use'])}, a year, after variable costs"))
     return [Tile(t.label, t.value, t.tone, t.whole, print_minus(t.hint)) for t in tiles]
+
+
+def _credit_price(case: Case) -> str:
+    """The credit price as the case gives it, per tonne of CO2e (a credit is a metric tonne wherever it is
+    sold); in a US customary case also per short ton, the unit its tonnages are shown in."""
+    price = case["carbon.credit_price_per_t_co2e"]
+    if case.unit_system != "us_customary":
+        return f"{_money(case, price, 'money', 2)}/t CO2e"
+    per_short_ton, _ = display.convert(price, "money/t CO2e", case.unit_system)
+    return (f"{_money(case, per_short_ton, 'money', 2)}/short ton CO2e "
+            f"({_money(case, price, 'money', 2)}/metric ton)")
 
 
 def _soc_hint(case: Case, res: Results) -> str:
@@ -316,7 +327,7 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
                       f"{fig_text(case, res, 'npv_after_tax')}, IRR after tax {fig_text(case, res, 'irr_after_tax')} "
                       "(the other figures are before tax)", _source(case, "tax.rate")))
     if (v.get("carbon.credit_price_per_t_co2e") or 0) > 0:
-        items.append(("Carbon credits", f"{_money(case, v['carbon.credit_price_per_t_co2e'], 'money', 2)}/t CO2e "
+        items.append(("Carbon credits", f"{_credit_price(case)} "
                       f"first verified in year {v.get('carbon.credit_first_year', 1)}, "
                       f"{display.percent(v.get('carbon.credit_buffer_share') or 0.0, 0)} held back as a buffer",
                       _source(case, "carbon.credit_price_per_t_co2e")))
