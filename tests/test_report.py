@@ -50,7 +50,7 @@ HA_PER_ACRE = 0.40468564224  # NIST Handbook 44 (2024), Appendix C
 
 #: the figures shown on the grower's page as key figures (per ha / per acre)
 KEY_FIGURES = ("npv", "npv_vs_current_use", "eav_vs_current_use", "irr", "payback_year", "peak_funding_need",
-               "peak_funding_year", "breakeven_price", "breakeven_mature_yield_t_dm_per_ha", "soc_gain_t_c",
+               "peak_funding_year", "breakeven_price", "breakeven_sold_t_dm_per_ha_per_year", "soc_gain_t_c",
                "ghg_net_t_co2e", "establishment_cost")
 WHOLE_FIELD = ("npv", "npv_vs_current_use", "peak_funding_need", "soc_gain_t_c", "ghg_net_t_co2e")
 
@@ -194,6 +194,14 @@ def test_key_figures_on_the_page_are_the_engines_as_formatted(demo):
             assert want in text and want in html_text, f"{name}: {want} not on the page"
     if (res["carbon_credit_revenue"] or 0) > 0:
         assert _squash(terminal._fig(res, case, "carbon_credit_pv")) in text
+    # the break-even yield in what is sold, then as the mature yield the case gives, each beside the case's own
+    mature = display.convert(res["breakeven_mature_yield_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)[0]
+    given = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)[0]
+    sold = display.convert(res["mean_sold_t_dm_per_year"], "t DM/ha/yr", case.unit_system)[0]
+    factor = case["yield.site_factor"]
+    hint = _squash(f"sold a year on average (case {sold:,.2f}); as mature yield"
+                   + (f" before site factor {factor:g}" if factor != 1 else "") + f": {mature:,.2f} (case {given:,.2f})")
+    assert hint in text and hint in html_text
 
 
 def test_npv_irr_and_payback_on_the_page_match_numpy_financial(demo):

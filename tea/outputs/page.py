@@ -178,10 +178,8 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
              if value_of(res, "peak_funding_year") is not None else "the cash never runs below zero"),
         Tile("Break-even price", val("breakeven_price"), "", "",
              f"price assumed {_price(case)}; to match the current use {val('breakeven_price_vs_current_use')}"),
-        Tile("Break-even yield", val("breakeven_mature_yield_t_dm_per_ha"), "", "",
-             note("breakeven_mature_yield_t_dm_per_ha",
-                  f"mature yield assumed {_quantity(case, case['yield.mature_t_dm_per_ha'], 't DM/ha/yr')}; "
-                  f"to match the current use {val('breakeven_mature_yield_vs_current_use_t_dm_per_ha')}")),
+        Tile("Break-even yield", val("breakeven_sold_t_dm_per_ha_per_year"), "", "",
+             note("breakeven_mature_yield_t_dm_per_ha", _breakeven_yield_hint(case, res))),
         Tile("Soil carbon gained", val("soc_gain_t_c"), tone(value_of(res, "soc_gain_t_c")),
              whole("soc_gain_t_c"), _soc_hint(case, res)),
         Tile("Net greenhouse-gas balance", val("ghg_net_t_co2e"), tone(value_of(res, "ghg_net_t_co2e"), True),
@@ -202,6 +200,19 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
         tiles.append(Tile("Current use earns", val("current_margin"), "", whole("current_margin"),
                           f"{_words(case['field.current_use'])}, a year, after variable costs"))
     return [Tile(t.label, t.value, t.tone, t.whole, print_minus(t.hint)) for t in tiles]
+
+
+def _breakeven_yield_hint(case: Case, res: Results) -> str:
+    """Beside the break-even in dry matter sold: the case's own, and the break-even as the mature yield the case
+    gives (before its site factor and losses), the case's beside it; numbers in the tile's unit."""
+    def number(value: float | None) -> str:
+        return "–" if value is None else f"{display.convert(value, 't DM/ha/yr', case.unit_system)[0]:,.2f}"
+
+    factor = case["yield.site_factor"]
+    return (f"sold a year on average (case {number(value_of(res, 'mean_sold_t_dm_per_year'))}); as mature yield"
+            + (f" before site factor {factor:g}" if factor != 1 else "")
+            + f": {number(value_of(res, 'breakeven_mature_yield_t_dm_per_ha'))} "
+            f"(case {number(case['yield.mature_t_dm_per_ha'])})")
 
 
 def _credit_price(case: Case) -> str:

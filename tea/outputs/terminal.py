@@ -69,7 +69,8 @@ SUMMARY_ROWS = (
     ("Cash", ("npv", "npv_vs_current_use", "irr", "irr_vs_current_use", "mirr", "eav", "current_margin",
               "current_use_net", "eav_vs_current_use", "payback_year", "cash_at_removal", "discounted_payback_year",
               "peak_funding_need", "peak_funding_year", "establishment_cost")),
-    ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_mature_yield_t_dm_per_ha",
+    ("Break-even", ("breakeven_price", "breakeven_price_vs_current_use", "breakeven_sold_t_dm_per_ha_per_year",
+                    "breakeven_mature_yield_t_dm_per_ha",
                     "breakeven_mature_yield_vs_current_use_t_dm_per_ha")),
     ("Output", ("sold_t_dm", "mean_sold_t_dm_per_year", "sold_gj")),
     ("Carbon", ("soc_start_t_c_per_ha", "soc_end_t_c_per_ha", "soc_gain_t_c", "soc_gain_t_co2e",
@@ -106,6 +107,7 @@ LABELS = {
     "breakeven_mature_yield_vs_current_use_t_dm_per_ha": "Break-even yield vs current use",
     "sold_t_dm": "Dry matter sold (life)",
     "mean_sold_t_dm_per_year": "Dry matter sold per year",
+    "breakeven_sold_t_dm_per_ha_per_year": "Break-even dry matter sold",
     "sold_gj": "Energy sold (life)",
     "soc_start_t_c_per_ha": "SOC at planting",
     "soc_end_t_c_per_ha": "SOC at removal",
@@ -218,9 +220,13 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
             if name == "money_short_of_debt_service" and not res[name]:
                 continue
             per_ha = _fig(res, case, name)
+            if name == "breakeven_sold_t_dm_per_ha_per_year" and res[name] is not None:  # beside the case's own
+                sold, _ = display.convert(res["mean_sold_t_dm_per_year"], "t DM/ha/yr", case.unit_system)
+                per_ha += f" on average (case: {sold:,.2f})"
             if name.startswith("breakeven_mature") and res[name] is not None:  # beside the case's own value
                 given, _ = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)
-                per_ha += f" (case: {given:,.2f})"
+                factor = case["yield.site_factor"]
+                per_ha += f" (case: {given:,.2f}" + (f", before site factor {factor:g})" if factor != 1 else ")")
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             row = f"  {label(name, case):<{width}}{per_ha:<34}{whole}".rstrip()
             # a long figure (a reason it is undefined) continues under the figures, not under the labels
