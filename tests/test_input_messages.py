@@ -56,6 +56,21 @@ def test_a_whole_number_at_an_open_bound_is_read_as_a_percentage():
     assert message.endswith("it looks like a percentage: write fractions, 0.01 for 1"), message
 
 
+@pytest.mark.parametrize("section, key", [("finance", "discount_rate"), ("finance", "inflation"),
+                                          ("loan", "rate"), ("costs", "change_per_year")])
+def test_a_yearly_rate_of_1_is_refused_as_a_percentage(section, key):
+    """A yearly rate or change of 1 is 100 % a year: never meant in a stand's economics (common practice: real
+    discount rates of a few percent), and what a percentage typed as a whole number gives (1 for 1 %). It is
+    refused with the hint; the fraction it offers (1 % = 0.01) is accepted."""
+    head, rest = BASE.split(f"[{section}]\n", 1)
+    body, tail = rest.split("\n[", 1)
+    body = "\n".join(line for line in body.split("\n") if not line.startswith(f"{key} ="))  # the demo's own
+    text = f"{head}[{section}]\n{key} = 1\n{body}\n[{tail}"
+    [(_, message)] = [p for p in _problems(text) if p[0] == f"{section}.{key}"]
+    assert message == "must be < 1, got 1; it looks like a percentage: write fractions, 0.01 for 1"
+    load_text(text.replace(f"{key} = 1\n", f"{key} = 0.01\n", 1), source="c.toml")
+
+
 # ----------------------------------------------------------------------------- a file that is not UTF-8
 def test_a_file_not_in_utf8_names_the_line_and_column_of_its_first_bad_byte(tmp_path):
     # the case name holds a UTF-8 "Ü" (two bytes, one character) and then a Latin-1 "é" (one byte, 0xe9)
