@@ -90,7 +90,7 @@ def test_the_screen_terminal_says_irr_in_percent_as_it_shows_it(tmp_path):
     assert result.code == 0, result.err
     head = result.out.split("Top ")[0].replace("\n", " ")
     assert "IRR in percent" in head and "as fractions" not in head
-    rows = result.out.split("Top ")[1].splitlines()[2:5]
+    rows = result.out.split("Top ")[1].splitlines()[3:6]  # below the title line and the two heading lines
     assert all(" %" in r for r in rows)  # the table's IRR cells
     # the ranked file keeps fractions, and its note says so
     text = (tmp_path / "ranked.csv").read_text(encoding="utf-8")

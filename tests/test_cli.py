@@ -492,3 +492,26 @@ def test_the_short_list_of_sources_names_references_not_fragments_of_findings():
     for named in ("Szczukowski et al. 2002", "Biomass and Bioenergy 25(6):571-580", "Guénon et al. 2016",
                   "Warncke et al. 2010", "iForest 5:224-229"):
         assert named in listed, named
+
+
+def test_a_warning_is_one_line_in_a_log_and_wrapped_on_a_terminal():
+    """A warning is one line where stderr is a file or pipe (a log, grep), and within the README's
+    100 characters on a terminal, its further lines indented; the words are the same either way."""
+    import io
+
+    from tea.cli.common import warn
+    from tea.outputs.terminal import WIDTH
+
+    class Terminal(io.StringIO):
+        def isatty(self) -> bool:
+            return True
+
+    message = "case.toml: loan.profile: " + "repayments fall due in the years with no harvest " * 6
+    log, screen = io.StringIO(), Terminal()
+    warn(message, log)
+    warn(message, screen)
+    assert log.getvalue() == f"warning: {message}\n"
+    lines = screen.getvalue().splitlines()
+    assert len(lines) > 1 and all(len(line) <= WIDTH for line in lines)
+    assert all(line.startswith("  ") for line in lines[1:])
+    assert " ".join(line.strip() for line in lines) == f"warning: {message}".strip()

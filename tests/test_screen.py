@@ -456,3 +456,25 @@ class TestCommand:
         assert "none.csv: file not found" in capsys.readouterr().err
         code = main(["screen", str(FIELDS), "--case", str(tmp_path / "none.toml"), "--out", str(tmp_path / "r.csv")])
         assert code == 2
+
+
+def test_a_us_screens_terminal_view_stays_within_the_terminal_width(cases, tmp_path):
+    """The README promises terminal lines of at most 100 characters: a US screen's view (per-acre and
+    short-ton headings, each on two lines) and a title with a long path and case name keep to it, and the
+    table's columns still line up under their headings."""
+    from tea.outputs.terminal import WIDTH
+
+    base = cases["sandy_slope_switchgrass"]
+    folder = tmp_path / ("a-rather-long-folder-name-for-the-fields-of-this-farm" * 2)
+    folder.mkdir()
+    path = folder / "fields.csv"
+    path.write_text("field_id,area_acre,haul_distance_mile,site_factor\nNorth-forty-by-the-creek,10,5,0.7\n"
+                    "B,20,30,1.0\n")
+    text = screen_files.summary_text(screen.screen(path, base, progress=False))
+    assert max(len(line) for line in text.splitlines()) <= WIDTH, text
+    lines = text.splitlines()
+    heads = next(i for i, line in enumerate(lines) if line.lstrip().startswith("rank"))
+    assert "short ton CO2e/acre" in lines[heads] and "SOC gain" in lines[heads - 1]
+    assert len(lines[heads]) == len(lines[heads + 1])  # right-aligned: the first row ends where the headings do
+    assert "[DEMO DATA]" in text
+    assert "North-forty-by-\u2026" in text  # a long id cut short in the terminal (the ranked file has it whole)

@@ -15,7 +15,7 @@ import json
 import sys
 from pathlib import Path
 
-from tea.cli.common import say
+from tea.cli.common import say, warn
 from tea.core.errors import CaseError, Problem
 
 
@@ -42,7 +42,7 @@ def _progress(args: argparse.Namespace) -> bool | None:
 
 def _warn(case) -> None:
     for w in case.warnings:
-        print(f"warning: {w}", file=sys.stderr)
+        warn(w)
 
 
 #: chart files a command writes
@@ -99,7 +99,7 @@ def _cmd_risk(args: argparse.Namespace) -> int:
     if args.plot:  # files first
         _save_figure(analysis_charts.histogram_chart(res), args.plot, args.force)
     for w in res.warnings:
-        print(f"warning: {w}", file=sys.stderr)
+        warn(w)
     if args.json:
         say(json.dumps(risk.to_dict(res), indent=2, allow_nan=False))
     else:
@@ -127,7 +127,7 @@ def _cmd_screen(args: argparse.Namespace) -> int:
     result = screen.screen(args.fields, case, rank_by=args.rank_by, ascending=args.ascending,
                            chunk_rows=args.chunk_rows, progress=_progress(args))
     for w in result.warnings:
-        print(f"warning: {w}", file=sys.stderr)
+        warn(w)
     if result.bad:  # files first, then the printing
         screen_files.write_errors(result, errors, force=args.force)
     if not result.rows_evaluated:

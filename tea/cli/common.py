@@ -10,6 +10,24 @@ from typing import Sequence
 from tea.core.errors import CaseError, OutputError
 
 
+def warn(message: object, file=None) -> None:
+    """Say a warning on stderr (or ``file``): ``warning: MESSAGE``, one line per warning where stderr goes to
+    a file or a pipe (a log, grep); on a terminal wrapped within the terminal summary's width
+    (:data:`tea.outputs.terminal.WIDTH`), each further line indented."""
+    stream = file if file is not None else sys.stderr
+    line = f"warning: {message}"
+    try:
+        if getattr(stream, "raw", stream).isatty():
+            import textwrap
+
+            from tea.outputs.terminal import WIDTH
+
+            line = "\n".join(textwrap.wrap(line, WIDTH, subsequent_indent="  ", break_on_hyphens=False)) or line
+        print(line, file=stream)
+    except (OSError, ValueError):  # stderr gone: nothing to tell
+        pass
+
+
 def check_outputs(targets: Sequence[tuple[str | None, Sequence[str]]], force: bool,
                   inputs: Sequence[str] = ()) -> None:
     """Refuse, before any work, output files that cannot be written as asked.

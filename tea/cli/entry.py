@@ -83,11 +83,11 @@ def watch_interrupts() -> bool:
 
 def _one_line(message, category, filename, lineno, file=None, line=None) -> None:
     """A warning raised while the command runs (by tea or a library), said as every warning of the command
-    is: one line, with no source location (the workers, forked from this process, say theirs so too)."""
-    try:
-        print(f"warning: {message}", file=file if file is not None else sys.stderr)
-    except (OSError, ValueError):  # stderr gone: nothing to tell
-        pass
+    is (:func:`tea.cli.common.warn`), with no source location (the workers, forked from this process, say
+    theirs so too)."""
+    from tea.cli.common import warn
+
+    warn(message, file)
 
 
 def main() -> int:

@@ -23,7 +23,7 @@ from tea.cli import analysis as analysis_cli
 from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
-from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say
+from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say, warn
 from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, TeaError, WriteError
 
 #: each exception class the command line expects, and its exit status (the first match wins)
@@ -47,8 +47,7 @@ def _unused_options(args: argparse.Namespace) -> None:
              "--page-size": (args.page_size, (args.pdf, args.html), "--pdf or --html", "")}
     for option, (given, outputs, wanted, hint) in files.items():
         if given and not any(outputs):
-            print(f"warning: {option} shapes only the files {wanted} write, and none is asked for{hint}",
-                  file=sys.stderr)
+            warn(f"{option} shapes only the files {wanted} write, and none is asked for{hint}")
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
@@ -64,7 +63,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     _unused_options(args)
     for case in cases:
         for w in case.warnings:
-            print(f"warning: {w}", file=sys.stderr)
+            warn(w)
         frame = build_ledger(case)
         ledgers.append(frame)
         results.append(summarise(case, frame))
@@ -105,7 +104,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
 def _cmd_check(args: argparse.Namespace) -> int:
     def report(path: str, case) -> None:
         for w in case.warnings:
-            print(f"warning: {w}", file=sys.stderr)
+            warn(w)
         _say(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
 
     _load_all(args.cases, report)

@@ -9,6 +9,7 @@ bytes: no file carries a time.
 
 from __future__ import annotations
 
+import textwrap
 from pathlib import Path
 
 from tea import __version__
@@ -18,7 +19,7 @@ from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.core.safe_text import csv_cell, csv_comment, csv_row
 from tea.core.texts import CAUTIONS
-from tea.outputs.terminal import wrapped
+from tea.outputs.terminal import WIDTH, wrapped
 
 #: what the ranked table may be written as
 TABLE_SUFFIXES = (".csv", ".xlsx", ".parquet")
@@ -159,13 +160,19 @@ def metadata_lines(result: ScreenResult) -> list[str]:
     return lines
 
 
+#: the widest a field's id or name is shown in the terminal's table (cut short with an ellipsis beyond it)
+FIELD_NAME_WIDTH = 16
+
+
 def summary_text(result: ScreenResult, top: int = 10) -> str:
     """The terminal view: counts, the best-ranked fields, the cautions."""
     from tea.inputs import display
 
     case = result.case
-    out = [f"Screen of {result.source} over {case.name}" + ("   [DEMO DATA]" if case["case.demo"] else "")]
-    out.append("=" * len(out[0]))
+    tag = "   [DEMO DATA]" if case["case.demo"] else ""
+    title = textwrap.wrap(f"Screen of {result.source} over {case.name}", WIDTH - len(tag), break_on_hyphens=False)
+    title[-1] += tag
+    out = [*title, "=" * max(len(line) for line in title)]
     out.append(f"{_count(result.rows_read, 'row')} read; {_count(result.rows_evaluated, 'field')} evaluated; "
                f"{_count(result.rows_skipped, 'row')} skipped" + (" (see the error file)" if result.rows_skipped else ""))
     out.append(wrapped(terminal_units_note(case)))  # the file's note says fractions; this table shows percent
@@ -174,9 +181,11 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
         per = "acre" if case.unit_system == "us_customary" else "ha"
         tons = "short_ton" if case.unit_system == "us_customary" else "t"
         label = next((c for c in (ID_COLUMN, "field.name", "name") if c in table), "line")
-        cols = [("rank", "rank"), (label, "field"), (f"eav_vs_current_use_per_{per}", f"EAV vs now /{per}/yr"),
-                (f"npv_vs_current_use_per_{per}", f"NPV vs now /{per}"), ("npv_vs_current_use_field", "NPV vs now, field"),
-                ("irr", "IRR"), ("payback_year", "payback yr"), (f"soc_gain_{tons}_co2e_per_{per}", f"SOC {tons.replace('_', ' ')} CO2e/{per}")]
+        # each heading on two lines, so that the table stays within the terminal's width
+        cols = [("rank", ("", "rank")), (label, ("", "field")), (f"eav_vs_current_use_per_{per}", ("EAV vs now", f"/{per}/yr")),
+                (f"npv_vs_current_use_per_{per}", ("NPV vs now", f"/{per}")), ("npv_vs_current_use_field", ("NPV vs now", "field")),
+                ("irr", ("", "IRR")), ("payback_year", ("payback", "year")),
+                (f"soc_gain_{tons}_co2e_per_{per}", ("SOC gain", f"{tons.replace('_', ' ')} CO2e/{per}"))]
         cols = [(c, h) for c, h in cols if c in table]
         head = table.head(top)
         cells = []
@@ -189,13 +198,16 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
                     vals.append(f"{v:.0f}" if v == v else "none")
                 elif isinstance(v, float):
                     vals.append(display.number(v) if v == v else "–")
+                elif c == label and len(str(v)) > FIELD_NAME_WIDTH:  # the file has it whole
+                    vals.append(str(v)[:FIELD_NAME_WIDTH - 1] + "\u2026")
                 else:
                     vals.append(str(v))
             cells.append((h, vals))
-        widths = [max(len(h), *(len(v) for v in vals)) for h, vals in cells]
+        widths = [max(*(len(line) for line in h), *(len(v) for v in vals)) for h, vals in cells]
         out.append("")
         out.append(f"Top {len(head)} by {result.rank_by} ({case.currency}):")
-        out.append("  ".join(h.rjust(w) for (h, _), w in zip(cells, widths)))
+        for row in (0, 1):
+            out.append("  ".join(h[row].rjust(w) for (h, _), w in zip(cells, widths)).rstrip())
         for i in range(len(head)):
             out.append("  ".join(vals[i].rjust(w) for (_, vals), w in zip(cells, widths)))
     out.append("Cautions:")

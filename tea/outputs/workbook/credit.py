@@ -67,7 +67,7 @@ class CreditWriter(SheetWriter):
                        f"{case.currency} · "
                        f"{case.stand_life}-year stand · tea {__version__} · case {case.hash}", st("subtitle"))
         if case["case.demo"]:
-            text(ws, 2, 0, "DEMO DATA: invented farm, field, prices and climate.", st("flag"))
+            text(ws, 2, 0, "DEMO DATA: the case marks its farm, field and prices as invented (case.demo).", st("flag"))
         if self.headline is not None:
             ws.merge_range(3, 0, 3, 13, "", st("wrap"))
             text(ws, 3, 0, f"{self.headline.verdict}. {self.headline.sentence}", st("wrap"))

@@ -106,7 +106,7 @@ class SheetWriter:
                        "follows (and `tea run` reads this sheet back). The source of each value is its cell's "
                        "comment. Every other cell of the workbook is a formula.", st("subtitle"))
         if case["case.demo"]:
-            text(ws, 2, 0, "DEMO DATA: invented farm, field, prices and climate.", st("flag"))
+            text(ws, 2, 0, "DEMO DATA: the case marks its farm, field and prices as invented (case.demo).", st("flag"))
         head = st("head")
         for c, label in enumerate(INPUT_COLUMNS):
             text(ws, INPUT_HEAD_ROW - 1, c, label, head)
