@@ -175,3 +175,17 @@ def test_a_nominal_rate_is_made_real_on_the_page_by_division_not_subtraction(dem
     text = _page_text(case)
     assert "7.0 % nominal with 2.5 % inflation = 4.39 % real (1.07 / 1.025 \u2212 1, Fisher)" in text
     assert "less" not in text[text.index("nominal") - 20:text.index("nominal") + 40]
+
+
+def test_the_establishment_cost_credits_its_costs_and_its_planting_rate_each_to_their_source():
+    """The clay demo gives every establishment cost in its case file and takes the planting rate from its crop
+    preset, whose source is a published planting guide: the page's assumptions say both, never the guide as
+    the source of the costs."""
+    from tea.outputs.page import _assumptions
+
+    case = tea.load_case(CASES_DIR / "clay_corner_miscanthus.toml")
+    assert case.origin["establishment.site_preparation_per_ha"] == "case"
+    assert case.origin["establishment.planting_units_per_ha"] == "preset"
+    [row] = [a for a in _assumptions(case, tea.summarise(case)) if a["label"] == "Establishment"]
+    guide = case.notes["establishment.planting_units_per_ha"].partition(": ")[2]
+    assert row["source"] == f"case file; planting rate: {guide}"

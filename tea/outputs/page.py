@@ -112,6 +112,17 @@ def _source(case: Case, path: str) -> str:
     return source_text(case, path)
 
 
+def _establishment_source(case: Case) -> str:
+    """Where the establishment cost's inputs came from: its costs (each money input of the establishment that
+    is not 0, the grant included) and the planting rate, each named where they differ; each source once."""
+    from tea.inputs import schema
+
+    costs = list(dict.fromkeys(_source(case, k.path) for k in schema.KEYS
+                               if k.section == "establishment" and k.money and case.values.get(k.path)))
+    rate = _source(case, "establishment.planting_units_per_ha")
+    return rate if costs in ([], [rate]) else f"{'; '.join(costs)}; planting rate: {rate}"
+
+
 # ----------------------------------------------------------------------------- a case page
 @dataclass(frozen=True)
 class Tile:
@@ -327,7 +338,7 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
         ("Establishment", f"{fig_text(case, res, 'establishment_cost')} with expected replanting"
          + (f"; grant {_money(case, v.get('establishment.grant_per_ha'), 'money/ha')}"
             if v.get("establishment.grant_per_ha") else ""),
-         _source(case, "establishment.planting_units_per_ha")),
+         _establishment_source(case)),
         ("Discount rate", rate_text(res), _source(case, "finance.discount_rate")),
         ("Soil carbon", f"{_quantity(case, res['soc_start_t_c_per_ha'], 't C/ha')} at planting, "
                         f"moving towards {_quantity(case, _soc_target(case), 't C/ha')} "
