@@ -515,3 +515,38 @@ def test_a_warning_is_one_line_in_a_log_and_wrapped_on_a_terminal():
     assert len(lines) > 1 and all(len(line) <= WIDTH for line in lines)
     assert all(line.startswith("  ") for line in lines[1:])
     assert " ".join(line.strip() for line in lines) == f"warning: {message}".strip()
+
+
+@pytest.mark.parametrize("what", ["case", "workbook", "field table"])
+def test_an_input_the_machine_will_not_let_be_read_is_status_1(tmp_path, monkeypatch, what):
+    """The README's exit statuses: 1 where the machine refused (no permission), as for an output; 2 for bad
+    input. The refusal is made by the operating system's own error (PermissionError, errno 13), raised where
+    the file is opened, since the tests may run with the rights to read anything."""
+    import errno
+    import pathlib
+    import shutil
+    import zipfile
+
+    case = tmp_path / "case.toml"
+    shutil.copy(CLAY, case)
+    refused = PermissionError(errno.EACCES, "Permission denied")
+    if what == "case":
+        target, argv = case, ["check", case]
+        read_bytes = pathlib.Path.read_bytes
+        monkeypatch.setattr(pathlib.Path, "read_bytes",
+                            lambda self: (_ for _ in ()).throw(refused) if self == target else read_bytes(self))
+    elif what == "workbook":
+        assert run_cli(["run", case, "--xlsx", tmp_path / "book.xlsx", "--brief"]).code == 0
+        target, argv = tmp_path / "book.xlsx", ["check", tmp_path / "book.xlsx"]
+        monkeypatch.setattr(zipfile, "ZipFile", lambda *a, **k: (_ for _ in ()).throw(refused))
+    else:
+        target = tmp_path / "fields.csv"
+        target.write_text("field_id,area_ha\nA,3\n")
+        argv = ["screen", target, "--case", case, "--out", tmp_path / "r.csv"]
+        open_ = pathlib.Path.open
+        monkeypatch.setattr(pathlib.Path, "open",
+                            lambda self, *a, **k: (_ for _ in ()).throw(refused) if self == target else open_(self, *a, **k))
+    res = run_cli(argv)
+    assert res.code == 1, res.err
+    assert res.err_lines == [f"error: {target}: cannot read the file: permission denied"], res.err
+    assert not (tmp_path / "r.csv").exists()

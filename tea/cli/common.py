@@ -7,7 +7,7 @@ import sys
 from pathlib import Path
 from typing import Sequence
 
-from tea.core.errors import CaseError, OutputError
+from tea.core.errors import CaseError, OutputError, ReadRefused
 
 
 def warn(message: object, file=None) -> None:
@@ -102,21 +102,22 @@ def quiet_stdout() -> None:
 
 def load_all(paths: Sequence[str], on_loaded=None) -> list:
     """Load every case file (calling ``on_loaded(path, case)`` for each good one); then raise one
-    CaseError listing the problems of all the bad ones."""
+    CaseError listing the problems of all the bad ones (a ReadRefused where the machine refused each)."""
     from tea.inputs.case import load_case
 
-    cases, problems = [], []
+    cases, problems, refused = [], [], True
     for path in paths:
         try:
             case = load_case(path)
         except CaseError as exc:
             problems.extend(exc.problems)
+            refused = refused and isinstance(exc, ReadRefused)
             continue
         cases.append(case)
         if on_loaded:
             on_loaded(path, case)
-    if problems:
-        raise CaseError(problems)
+    if problems:  # the machine's refusal only where every bad file was refused (else: bad input, status 2)
+        raise ReadRefused(problems) if refused else CaseError(problems)
     return cases
 
 

@@ -24,10 +24,12 @@ from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
 from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say, warn
-from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, TeaError, WriteError
+from tea.core.errors import (INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, ReadRefused, TeaError,
+                             WriteError)
 
 #: each exception class the command line expects, and its exit status (the first match wins)
 EXIT_STATUS: tuple[tuple[type[BaseException], int], ...] = (
+    (ReadRefused, 1),  # the machine refused an input: permission, an input/output error
     (CaseError, 2),  # bad input: a case, a field table, a workbook read back
     (OutputError, 2),  # an output asked for wrongly: exists, unknown type, two outputs in one file
     (WriteError, 1),  # the machine refused an output: permission, disk full, a folder in the way

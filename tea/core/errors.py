@@ -127,6 +127,18 @@ class CaseError(TeaError):
         super().__init__("\n".join(str(p) for p in self.problems))
 
 
+class ReadRefused(CaseError):
+    """An input the machine would not let `tea` read (no permission, an input/output error): exit status 1,
+    as for an output it would not let `tea` write. A file not found or a folder given is bad input (2)."""
+
+
+def unreadable(source: str, exc: OSError, expected: str = "a case file (.toml)") -> CaseError:
+    """The error of an input that could not be read (:func:`read_refused` says why): :class:`ReadRefused`
+    where the machine refused it, a :class:`CaseError` where the path names no file."""
+    problems = [Problem(source, "", read_refused(exc, expected))]
+    return CaseError(problems) if isinstance(exc, (FileNotFoundError, IsADirectoryError)) else ReadRefused(problems)
+
+
 class OutputError(TeaError):
     """An output file that cannot be written as asked."""
 

@@ -26,7 +26,7 @@ from tea.methods import finance
 from tea.inputs import published
 from tea.inputs import rules, schema, site, units
 from tea.inputs.rules import COMMON_CURRENCIES, currency_problem, harvest_energy_problem  # noqa: F401
-from tea.core.errors import NOT_GIVEN, UNUSUAL, CaseError, Notice, Problem, read_refused
+from tea.core.errors import NOT_GIVEN, UNUSUAL, CaseError, Notice, Problem, read_refused, unreadable
 from tea.core.safe_text import SHOWN_LIMIT, clip, toml_value
 
 YIELD_CEILING_T_DM_PER_HA = schema.YIELD_CEILING_T_DM_PER_HA
@@ -266,7 +266,7 @@ def load_case(path: str | Path) -> Case:
     try:
         data = path.read_bytes()
     except OSError as exc:
-        raise CaseError([Problem(source, "", read_refused(exc))]) from None
+        raise unreadable(source, exc) from None
     kind = next((what for magic, what in _NOT_CASES.items() if data.startswith(magic)), None)
     if kind is not None:
         raise CaseError([Problem(source, "", f"not a case file: it is {kind}; expected a case file (TOML text, "

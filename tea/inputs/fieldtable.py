@@ -29,7 +29,7 @@ from typing import Any, BinaryIO, Iterator
 
 import numpy as np
 
-from tea.core.errors import CaseError, Problem
+from tea.core.errors import CaseError, Problem, unreadable
 from tea.core.safe_text import brief, clip
 from tea.inputs import published, schema
 from tea.inputs.case import MAGNITUDE_LIMIT, Case
@@ -268,7 +268,7 @@ class FieldTable:
         except IsADirectoryError:
             raise CaseError([Problem(self.source, "", "is a folder, not a field table")]) from None
         except OSError as exc:
-            raise CaseError([Problem(self.source, "", f"cannot read the file ({exc.strerror or exc})")]) from None
+            raise unreadable(self.source, exc, "a field table (.csv)") from None
         self._lines = _physical_lines(self._handle)
         self.header_line, header = self._header()
         self.delimiter = sniff_delimiter(header)

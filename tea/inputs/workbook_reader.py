@@ -27,7 +27,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any, Sequence
 
-from tea.core.errors import CaseError, Problem, read_refused
+from tea.core.errors import CaseError, Problem, unreadable
 from tea.core.safe_text import SHOWN_LIMIT, brief, clip, xlsx_unescape
 from tea.inputs import schema, units
 
@@ -128,12 +128,14 @@ class _Book:
         try:
             size = path.stat().st_size
         except OSError as exc:
-            raise self.error(read_refused(exc, "a workbook written by tea (.xlsx)")) from None
+            raise unreadable(source, exc, "a workbook written by tea (.xlsx)") from None
         if size > MAX_FILE_BYTES:
             raise self.error(f"{size:,} bytes: larger than a workbook written by tea can be "
                              f"({MAX_FILE_BYTES:,} bytes at most)")
         try:
             self.zip = zipfile.ZipFile(path)
+        except (PermissionError, IsADirectoryError) as exc:
+            raise unreadable(source, exc, "a workbook written by tea (.xlsx)") from None
         except (zipfile.BadZipFile, OSError, ValueError, EOFError) as exc:
             raise self.error(f"cannot read the workbook: not an xlsx file ({exc.__class__.__name__}: "
                              f"{brief(str(exc))})") from None
