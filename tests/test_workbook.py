@@ -302,3 +302,21 @@ def test_a_us_summary_is_per_acre_and_per_short_ton_throughout(recalculated):
     assert "Figure (per acre)" in rows
     npv = rows["NPV [USD/acre]"]
     assert npv[1] == pytest.approx(res["npv"] * 0.40468564224, rel=1e-9)
+
+
+def test_a_key_figure_with_no_value_says_why_on_the_summary(tmp_path):
+    """A stand whose cash never pays back at any rate has no IRR (numpy-financial's irr gives NaN for the same
+    flows): the summary's IRR cell is blank, and beside it the reason the engine gives, marked as found when
+    the file was written."""
+    import numpy_financial as npf
+
+    case = tea.load_case(DEMOS["clay_corner_miscanthus"]).replace(**{"revenue.price_per_t_dm": 20.0})
+    frame = tea.build_ledger(case)
+    res = tea.summarise(case, frame)
+    assert res["irr"] is None and math.isnan(npf.irr(frame["net_cash_flow"].to_numpy()))
+    out = tea.write_workbook(case, frame, res, tmp_path / "book.xlsx")
+    ws = load_workbook(out)["Summary"]
+    row = next(r for r in ws.iter_rows(values_only=True) if r[0] == "IRR")  # the key figures come first
+    assert row[5] == f"no value when tea wrote the file: {res.notes['irr']}"
+    npv = next(r for r in ws.iter_rows(values_only=True) if r[0] == "NPV")
+    assert npv[5] is None  # a figure with a value has no note

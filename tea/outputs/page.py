@@ -209,7 +209,7 @@ def _tiles(case: Case, res: Results) -> list[Tile]:
                       + "with the expected replanting"))
     if len(tiles) % 4:  # fill the last row with the current use's margin, the yardstick of the page
         tiles.append(Tile("Current use earns", val("current_margin"), "", whole("current_margin"),
-                          f"{_words(case['field.current_use'])}, a year, after variable costs"))
+                          f"{_words(case['field.current_use'])}: its gross margin, before rent and overheads"))
     return [Tile(t.label, t.value, t.tone, t.whole, print_minus(t.hint)) for t in tiles]
 
 

@@ -80,8 +80,8 @@ def _case_sheets(wb, st: Styles, case: Case, layout: CaseLayout, sensitivity: bo
         from tea.analysis import risk as risk_mod
 
         risk_res = risk_mod.run(case, progress=False)
-    w = CreditWriter(wb, st, case, layout, values, renderer, headline=headline(case, results if results is not None and results.case_hash == case.hash
-                                          else summarise(case)),
+    res = results if results is not None and results.case_hash == case.hash else summarise(case)
+    w = CreditWriter(wb, st, case, layout, values, renderer, headline=headline(case, res), notes=res.notes,
                      lender=lender_cases(case), sensitivity=sens, risk=risk_res)
     # the checks are built first (the summary counts their failures) but shown after the model sheets
     summary_first = wb.add_worksheet(layout.title("Summary"))

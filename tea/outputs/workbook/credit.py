@@ -42,14 +42,18 @@ CHECK_TOLERANCE = 1e-9
 STATUS_COL = 4
 #: summary columns holding the factors to the case's unit system (beside the printed page)
 FACTOR_COL = 15
+#: the summary column saying why a key figure has no value (after the unit column and a narrow gap)
+NOTE_COL = 5
 
 
 class CreditWriter(SheetWriter):
     """The summary, checks, analysis values and notes of one case."""
 
-    def __init__(self, *args, headline=None, lender=None, sensitivity=None, risk=None):
+    def __init__(self, *args, headline=None, notes=None, lender=None, sensitivity=None, risk=None):
         super().__init__(*args)
         self.headline, self.lender, self.sens, self.risk = headline, lender, sensitivity, risk
+        #: why a figure has no value, by name, as tea found it when it wrote the file (Results.notes)
+        self.why_blank: dict[str, str] = dict(notes or {})
         self.checks_count_cell: str | None = None
         self.tolerance_cell: str | None = None  # the Checks sheet's tolerance, read by other sheets
 
@@ -146,6 +150,8 @@ class CreditWriter(SheetWriter):
                              v * f_per if isinstance(v, float) else v)
         unit = self.unit(unit)
         text(ws, r, 3, unit if not d.scales else f"{self.unit(whole_shown)} | {unit}", st("keyname"))
+        if not isinstance(v, float) and d.name in self.why_blank and d.name not in NO_COVER:  # says why it is blank
+            text(ws, r, NOTE_COL, f"no value when tea wrote the file: {self.why_blank[d.name]}", st("keyname"))
         return r + 1
 
     def _priced(self, unit: str) -> str:
