@@ -182,12 +182,12 @@ def test_dollar_signs_in_a_name_are_text_not_math_markup():
 _DRAW_IN_A_FRESH_PROCESS = """
 import hashlib, sys
 import tea
-from tea.outputs import charts
+from tea.outputs import chart_library, charts
 from tea.outputs.page import page_chart_specs
 from tea.outputs.whatmoves import SensitivityViews
 
-charts.QUICK_IMPORT = sys.argv[1] == "quick"
-charts.load()
+chart_library.QUICK_IMPORT = sys.argv[1] == "quick"
+chart_library.load()
 from matplotlib import artist
 from matplotlib.lines import Line2D
 
@@ -209,7 +209,7 @@ print("generated docs:", "linewidth" in (Line2D.set.__doc__ or ""))
 
 
 def test_the_quick_import_draws_the_same_charts_and_matplotlib_works_as_before():
-    """With :data:`charts.QUICK_IMPORT` (tea's command line) matplotlib's artists are made without their
+    """With :data:`chart_library.QUICK_IMPORT` (tea's command line) matplotlib's artists are made without their
     generated ``set`` docstrings: each in a fresh interpreter, every kind of page chart is the same SVG bytes,
     ``set`` sets properties and refuses a misspelt one with matplotlib's own error, and matplotlib's functions
     are its own again after the import. Without it, the docstrings are matplotlib's (the check can fail)."""

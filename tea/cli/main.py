@@ -275,9 +275,9 @@ def _one_page(argv: Sequence[str]) -> bool:
 
 
 def _main(argv: Sequence[str] | None) -> int:
-    from tea.outputs import charts, workers
+    from tea.outputs import chart_library, workers
 
-    charts.QUICK_IMPORT = True  # a command's process never shows matplotlib's help
+    chart_library.QUICK_IMPORT = True  # a command's process never shows matplotlib's help
     if _one_page(sys.argv[1:] if argv is None else list(argv)):
         # one page: one worker loads the chart library and another the PDF engine now, while this process
         # builds the options, loads the model and computes the case; then the one draws the page's charts
@@ -293,7 +293,7 @@ def _main(argv: Sequence[str] | None) -> int:
             # loaded once, not once in each
             import numpy  # noqa: F401
 
-            workers.stand_by("tea.outputs.charts:load", role="charts")
+            workers.stand_by("tea.outputs.chart_library:load", role="charts")
         except TeaError:  # a bad TEA_JOBS: said, as every other error, once the run asks for workers
             pass
     try:

@@ -50,7 +50,7 @@ from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.inputs.case import Case
 from tea.model.results import Results
-from tea.outputs import charts, compare, pdf, pdf_page, workers
+from tea.outputs import chart_library, charts, compare, pdf, pdf_page, workers
 from tea.outputs.page import BESIDE, CHART_SCALE, MAX_DENSITY, TYPE_PT, CasePage, page_charts, print_minus  # noqa: F401
 from tea.outputs.page import page_chart_specs
 from tea.outputs.whatmoves import SensitivityViews, shows_block
@@ -267,7 +267,7 @@ def render_comparison(
         docs = [doc for _, doc in made]
         return [d for d, _ in made], pdf.write_pdf(docs[0].copy([p for doc in docs for p in doc.pages]))
 
-    charts.load()  # the chart library and the engine's start-up paid once, before the pieces go to workers
+    chart_library.load()  # the chart library and the engine's start-up paid once, before the pieces go to workers
     pdf.prepare()
     densities: list[int] = []
 
