@@ -15,6 +15,7 @@ SVG output :func:`inline` and :func:`titled` make ready for the page:
 from __future__ import annotations
 
 import base64
+import itertools
 import math
 import re
 from dataclasses import dataclass
@@ -63,7 +64,7 @@ class Chart:
         w, h = self.size_pt
         return f'<svg xmlns="http://www.w3.org/2000/svg" width="{w}pt" height="{h}pt" viewBox="0 0 {w} {h}"/>'
 
-    @cached_property  # made once, where the chart is drawn (tea.outputs.charts.draw_all), and pickled with it
+    @cached_property  # made once, where the chart is drawn (tea.outputs.charts.draw_for_engine), pickled with it
     def engine_svg(self) -> str:
         """The SVG as the PDF engine is given it: the same picture, drawn faster (:func:`for_engine`)."""
         return for_engine(self.svg)
@@ -188,8 +189,9 @@ def styles_as_attributes(svg: str) -> str:
 _SVG_NS = "http://www.w3.org/2000/svg"
 _HREFS = ("{http://www.w3.org/1999/xlink}href", "href")
 #: path data of absolute commands whose arguments are all points (what matplotlib writes), and their numbers
-_POINTS_ONLY = re.compile(r"(?:\s*[MLCQZz]|\s*,?\s*-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)*\s*")
 _NUMBER = re.compile(r"-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
+_POINTS_ONLY = re.compile(rf"(?:\s*[MLCQZz]|\s*,?\s*{_NUMBER.pattern})*\s*")
+_LENGTH = re.compile(rf"\s*({_NUMBER.pattern})(?:px|pt)?\s*")
 #: an id an attribute refers to (``#id`` in ``href``, ``url(#id)`` in ``clip-path``)
 _REFERRED = re.compile(r"#([^)\s\"']+)")
 #: opacity attributes: a mark painted with any of them below 1 is never joined (overlaps would show)
@@ -214,7 +216,7 @@ def _points(d: str) -> list[float] | None:
 
 def _moved(d: str, dx: float, dy: float) -> str:
     """Path data of point commands moved by (dx, dy)."""
-    count = iter(range(1 << 30))
+    count = itertools.count()
 
     def one(m: re.Match) -> str:
         value = float(m.group(0)) + (dx if next(count) % 2 == 0 else dy)
@@ -224,9 +226,8 @@ def _moved(d: str, dx: float, dy: float) -> str:
 
 
 def _number(text: str | None) -> float | None:
-    if text is None:
-        return None
-    m = re.fullmatch(r"\s*(-?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)(?:px|pt)?\s*", text)
+    """An attribute's number (a length in px or pt is its number), or None."""
+    m = _LENGTH.fullmatch(text) if text is not None else None
     return float(m.group(1)) if m else None
 
 
@@ -302,10 +303,20 @@ def marks_joined(svg: str) -> str:
     for el in root.iter():  # local names: the markup is written back with SVG as its default namespace
         if isinstance(el.tag, str) and el.tag.startswith("{" + _SVG_NS + "}"):
             el.tag = el.tag[len(_SVG_NS) + 2:]
-    defined = {el.get("id"): el for defs in root.iter("defs") for el in defs
-               if el.tag == "path" and el.get("id")}
-    widths = [w for w in (_number(el.get("stroke-width")) for el in root.iter()) if w is not None]
-    widest = max(widths, default=1.0)
+    placed = _placed_marks_drawn(root)
+    joined = _like_paths_joined(root)
+    if not (placed or joined):
+        return svg
+    root.set("xmlns", _SVG_NS)
+    return ElementTree.tostring(root, encoding="unicode")
+
+
+def _placed_marks_drawn(root) -> bool:
+    """Each ``<use>`` of a path in ``<defs>`` made that path, moved to its place (the path's own attributes win
+    over the use's, as inherited ones do), and the definitions no longer referred to dropped; whether any."""
+    from xml.etree import ElementTree
+
+    defined = {el.get("id"): el for defs in root.iter("defs") for el in defs if el.tag == "path" and el.get("id")}
     changed = False
     for parent in list(root.iter()):
         for i, el in enumerate(list(parent)):
@@ -320,7 +331,7 @@ def marks_joined(svg: str) -> str:
             if dx is None or dy is None:
                 continue
             attrs = {k: v for k, v in el.attrib.items() if k not in (*_HREFS, "x", "y")}
-            attrs.update({k: v for k, v in mark.attrib.items() if k not in ("id", "d")})  # its own win
+            attrs.update({k: v for k, v in mark.attrib.items() if k not in ("id", "d")})
             attrs["d"] = _moved(mark.get("d"), dx, dy)
             path = ElementTree.Element("path", attrs)
             path.tail = el.tail
@@ -334,6 +345,14 @@ def marks_joined(svg: str) -> str:
         for parent in list(root.iter()):
             for el in [e for e in parent if e.tag == "defs" and len(e) == 0]:
                 parent.remove(el)
+    return changed
+
+
+def _like_paths_joined(root) -> bool:
+    """Paths with the same attributes in one group joined into the first of their kind where nothing changes
+    in what covers what (see :func:`marks_joined`); whether any."""
+    widest = max((w for w in (_number(el.get("stroke-width")) for el in root.iter()) if w is not None), default=1.0)
+    changed = False
     for parent in list(root.iter()):
         drawn: list[tuple[object, Box | None]] = []  # the elements kept, in order, with their boxes
         heads: dict[tuple, tuple[int, list[Box]]] = {}  # attributes -> (index in drawn, outlines joined)
@@ -352,7 +371,4 @@ def marks_joined(svg: str) -> str:
                     continue
                 heads[key] = (len(drawn), [box])
             drawn.append((el, box))
-    if not changed:
-        return svg
-    root.set("xmlns", _SVG_NS)
-    return ElementTree.tostring(root, encoding="unicode")
+    return changed

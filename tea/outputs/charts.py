@@ -125,18 +125,23 @@ class Spec:
 
 def draw_all_and_sent(specs: Sequence[Spec]) -> list[Chart]:
     """The charts of the specs, then of the specs sent to the work after it was handed over (one list, sent
-    once: :meth:`tea.outputs.workers.Later.send`), in that order: the first are drawn while the rest are
-    still being described."""
+    once: :meth:`tea.outputs.workers.Later.send`), in that order, ready for the PDF engine
+    (:func:`draw_for_engine`): the first are drawn while the rest are still being described."""
     from tea.outputs import workers
 
-    drawn = draw_all(specs)
-    return drawn + draw_all(workers.received())
+    drawn = draw_for_engine(specs)
+    return drawn + draw_for_engine(workers.received())
 
 
 def draw_all(specs: Sequence[Spec]) -> list[Chart]:
+    """The charts of the specs, in order."""
+    return [spec.draw() for spec in specs]
+
+
+def draw_for_engine(specs: Sequence[Spec]) -> list[Chart]:
     """The charts of the specs, in order, each with its SVG for the PDF engine made (:attr:`Chart.engine_svg`):
     in the process that draws them, not in the one that lays the page out."""
-    drawn = [spec.draw() for spec in specs]
+    drawn = draw_all(specs)
     for chart in drawn:
         _ = chart.engine_svg
     return drawn
@@ -321,6 +326,7 @@ def cumulative_cash(
     payback_year: float | None,
     unit_label: str,
     *,
+    lost_year: float | None = None,
     name: str = "cash",
     height_in: float = HEIGHT_IN,
     width_in: float = WIDTH_IN,
@@ -337,20 +343,22 @@ def cumulative_cash(
         First year the running total is back to zero [yr]; None if it never is.
     unit_label : str
         Axis unit, e.g. ``"EUR per ha"``.
+    lost_year : float, optional
+        First year after the payback year that the running total is below zero again (the model's
+        ``payback_lost_year``), said in the alternative text.
     """
     fig = cash_figure(years, list(cumulative), payback_year, unit_label, width_in, height_in)
-    return _finish(fig, name, *cash_words(years, cumulative, payback_year, unit_label))
+    return _finish(fig, name, *cash_words(years, cumulative, payback_year, unit_label, lost_year))
 
 
 def cash_words(years: Sequence[float], cumulative: Sequence[float], payback_year: float | None, unit_label: str,
-               **_drawing: Any) -> tuple[str, str]:
+               lost_year: float | None = None, **_drawing: Any) -> tuple[str, str]:
     """The title and the alternative text of :func:`cumulative_cash` (its arguments)."""
     y = list(cumulative)
     pay = f"; it is back above zero in year {payback_year:.0f}" if payback_year is not None else \
         "; it does not get back to zero within the stand life"
-    again = next((t for t, v in zip(years, y) if payback_year is not None and t > payback_year and v < 0), None)
-    if again is not None:
-        pay += f" but below zero again in year {again:.0f}"
+    if payback_year is not None and lost_year is not None:
+        pay += f" but below zero again in year {lost_year:.0f}"
     alt = (f"Running total of the cash flow from planting to year {max(years):.0f} [{unit_label}], "
            f"lowest {_num(min(y))}, last {_num(y[-1])}{pay}.")
     return "Running total of cash", alt

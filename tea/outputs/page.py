@@ -446,7 +446,7 @@ def page_chart_specs(case: Case, frame: pd.DataFrame, res: Results, anchor: str)
     return [
         charts.Spec("cumulative_cash", dict(
             years=years, cumulative=conv("cumulative_cash_flow", "money/ha"), payback_year=value_of(res, "payback_year"),
-            unit_label=f"{case.currency} per {per}", name=f"{anchor}-cash")),
+            lost_year=value_of(res, "payback_lost_year"), unit_label=f"{case.currency} per {per}", name=f"{anchor}-cash")),
         charts.Spec("yield_by_age", dict(
             years=years, grown=conv("growth_t_dm", "t DM/ha"), sold=conv("sold_t_dm", "t DM/ha"),
             harvest=[float(h) for h in frame["harvest"]], unit_label=dm_unit.replace("/", " per "),

@@ -120,7 +120,7 @@ def render_summary(
     if drawing is not None:
         drawing.send(more)
     else:
-        drawing = workers.elsewhere(charts.draw_all, first + more, role="charts")
+        drawing = workers.elsewhere(charts.draw_for_engine, first + more, role="charts")
     specs = first + more
 
     def page_with(shown: list[charts.Chart]) -> CasePage:
