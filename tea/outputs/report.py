@@ -253,13 +253,15 @@ def render_comparison(
                                generator=f"tea {__version__}", **footer)
 
             # laid out apart from the case pages, so a page number counts the overview's own pages: a longer
-            # overview numbers its pages as its own; one page (a few cases, quick to lay out again) says what it
-            # is and what follows instead of "page 1 of 1"
-            doc = pdf.layout(overview_html(page_label="", page_scope=f"overview of {len(cases)} cases"),
-                             _stylesheets())
-            if len(doc.pages) == 1:
-                doc = pdf.layout(overview_html(page_label=f"overview of {len(cases)} cases; one page per case "
-                                                          "follows"), _stylesheets())
+            # overview numbers its pages as its own; one page says what it is and what follows instead of
+            # "page 1 of 1". The footer (a page margin box) cannot change the number of pages: the overview is
+            # laid out with the footer its number of cases suggests, and again only if that proves wrong
+            one_page = dict(page_label=f"overview of {len(cases)} cases; one page per case follows")
+            numbered = dict(page_label="", page_scope=f"overview of {len(cases)} cases")
+            guess = len(cases) <= OVERVIEW_ON_ONE_PAGE
+            doc = pdf.layout(overview_html(**(one_page if guess else numbered)), _stylesheets())
+            if (len(doc.pages) == 1) != guess:
+                doc = pdf.layout(overview_html(**(numbered if guess else one_page)), _stylesheets())
             return [], (pdf.write_pdf(doc) if kind == "pdf" else None)
         made = [fitted(i) for i in batches[k - 1]]
         if kind != "pdf":
@@ -284,6 +286,11 @@ def render_comparison(
         return atomic_write_text(path, whole(densities), force=True)
     return atomic_write(path, lambda tmp: pdf.join(parts(), tmp), force=True)
 
+
+#: a comparison of at most this many cases (two or three crops for one field) is expected to have a one-page
+#: overview, and its footer is chosen so first; a wrong guess costs the overview one more layout, never a
+#: wrong footer
+OVERVIEW_ON_ONE_PAGE = 3
 
 #: case pages written together as one piece of a comparison, at most: one write and one join for several
 #: pages (fewer font subsets, less joining), still a few laid-out pages in memory at a time
