@@ -500,7 +500,7 @@ def test_a_warning_is_one_line_in_a_log_and_wrapped_on_a_terminal():
     import io
 
     from tea.cli.common import warn
-    from tea.outputs.terminal import WIDTH
+    from tea.core.texts import WIDTH
 
     class Terminal(io.StringIO):
         def isatty(self) -> bool:

@@ -462,7 +462,7 @@ def test_a_us_screens_terminal_view_stays_within_the_terminal_width(cases, tmp_p
     """The README promises terminal lines of at most 100 characters: a US screen's view (per-acre and
     short-ton headings, each on two lines) and a title with a long path and case name keep to it, and the
     table's columns still line up under their headings."""
-    from tea.outputs.terminal import WIDTH
+    from tea.core.texts import WIDTH
 
     base = cases["sandy_slope_switchgrass"]
     folder = tmp_path / ("a-rather-long-folder-name-for-the-fields-of-this-farm" * 2)

@@ -85,10 +85,10 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
     source = str(fields)
     figure_names = SCREEN_FIGURES
     # a figure is named as the model names it or as the ranked file's column does (per acre, short tons)
-    named = {shown: name for name, (shown, _factor) in file_columns(case).items()}
-    valid_rank = set(figure_names) | {f"{n}_field" for n in FIELD_FIGURES}
+    columns = file_columns(case)
+    named = {shown: name for name, (shown, _factor) in columns.items()}
     rank_by = named.get(rank_by, rank_by)
-    if rank_by not in valid_rank:
+    if rank_by not in columns:
         raise CaseError([Problem(source, "--rank-by", f"unknown figure {brief(rank_by)}; expected a column "
                                  "of the ranked file: " + ", ".join(sorted(named)))])
     pieces = []
@@ -110,9 +110,9 @@ def screen(fields: str | Path, case: Case, rank_by: str = "eav_vs_current_use", 
         table = table.iloc[order].reset_index(drop=True)
         table.insert(0, "rank", np.arange(1, len(table) + 1))
     skipped = len({b.line for b in bad})
-    table = _rename_with_units(table, case)
+    table = _rename_with_units(table, columns)
     return ScreenResult(table, sorted(bad, key=lambda b: (b.line, b.column)), read, skipped, warnings,
-                        file_columns(case)[rank_by][0], case, source, _units_note(case), ascending)
+                        columns[rank_by][0], case, source, _units_note(case), ascending)
 
 
 #: the figures a screen reports per field (per ha), in output order
@@ -212,13 +212,13 @@ def file_columns(case: Case) -> dict[str, tuple[str, float]]:
     return columns
 
 
-def _rename_with_units(table, case: Case):
+def _rename_with_units(table, columns: dict[str, tuple[str, float]]):
     """Figures shown in the case's unit system, each column named by its unit where a name alone is unclear
-    (:func:`file_columns`)."""
+    (``columns``: :func:`file_columns` of the case)."""
     if not len(table.columns):
         return table
     renames = {}
-    for name, (new, factor) in file_columns(case).items():
+    for name, (new, factor) in columns.items():
         if name not in table:
             continue
         if factor != 1.0:

@@ -13,16 +13,16 @@ from tea.core.errors import CaseError, OutputError, ReadRefused
 def warn(message: object, file=None) -> None:
     """Say a warning on stderr (or ``file``): ``warning: MESSAGE``, one line per warning where stderr goes to
     a file or a pipe (a log, grep); on a terminal wrapped within the terminal summary's width
-    (:data:`tea.outputs.terminal.WIDTH`), each further line indented."""
+    (:data:`tea.core.texts.WIDTH`), each further line indented."""
     stream = file if file is not None else sys.stderr
     line = f"warning: {message}"
     try:
         if getattr(stream, "raw", stream).isatty():
             import textwrap
 
-            from tea.outputs.terminal import WIDTH
+            from tea.core.texts import WIDTH
 
-            line = "\n".join(textwrap.wrap(line, WIDTH, subsequent_indent="  ", break_on_hyphens=False)) or line
+            line = "\n".join(textwrap.wrap(line, WIDTH, subsequent_indent="  ", break_on_hyphens=False))
         print(line, file=stream)
     except (OSError, ValueError):  # stderr gone: nothing to tell
         pass

@@ -1,6 +1,9 @@
-"""Fixed texts every output carries: the cautions."""
+"""Fixed texts every output carries (the cautions), and the width of the terminal's lines."""
 
 from __future__ import annotations
+
+#: widest line the command line prints [characters] (the README promises it)
+WIDTH = 100
 
 CAUTIONS: tuple[str, ...] = (
     "Planning estimates only: these figures are not financial, tax or agronomic advice.",

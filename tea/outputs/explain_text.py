@@ -7,9 +7,8 @@ from typing import Any
 import numpy as np
 
 from tea.model.explain import Explanation, Node
+from tea.core.texts import WIDTH
 from tea.inputs import display, schema, units
-
-WIDTH = 100
 
 
 def _value(v: Any, unit: str, currency: str) -> str:

@@ -13,13 +13,14 @@ import textwrap
 from pathlib import Path
 
 from tea import __version__
-from tea.analysis.screen import ScreenResult, terminal_units_note
+from tea.analysis.screen import ScreenResult, file_columns, terminal_units_note
 from tea.inputs.fieldtable import ID_COLUMN
 from tea.core.errors import OutputError
 from tea.core.files import atomic_write, atomic_write_text, check_target
 from tea.core.safe_text import csv_cell, csv_comment, csv_row
 from tea.core.texts import CAUTIONS
-from tea.outputs.terminal import WIDTH, wrapped
+from tea.core.texts import WIDTH
+from tea.outputs.terminal import wrapped
 
 #: what the ranked table may be written as
 TABLE_SUFFIXES = (".csv", ".xlsx", ".parquet")
@@ -181,11 +182,14 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
         per = "acre" if case.unit_system == "us_customary" else "ha"
         tons = "short_ton" if case.unit_system == "us_customary" else "t"
         label = next((c for c in (ID_COLUMN, "field.name", "name") if c in table), "line")
+        column = {name: shown for name, (shown, _factor) in file_columns(case).items()}  # as the file names them
         # each heading on two lines, so that the table stays within the terminal's width
-        cols = [("rank", ("", "rank")), (label, ("", "field")), (f"eav_vs_current_use_per_{per}", ("EAV vs now", f"/{per}/yr")),
-                (f"npv_vs_current_use_per_{per}", ("NPV vs now", f"/{per}")), ("npv_vs_current_use_field", ("NPV vs now", "field")),
-                ("irr", ("", "IRR")), ("payback_year", ("payback", "year")),
-                (f"soc_gain_{tons}_co2e_per_{per}", ("SOC gain", f"{tons.replace('_', ' ')} CO2e/{per}"))]
+        cols = [("rank", ("", "rank")), (label, ("", "field")),
+                (column["eav_vs_current_use"], ("EAV vs now", f"/{per}/yr")),
+                (column["npv_vs_current_use"], ("NPV vs now", f"/{per}")),
+                (column["npv_vs_current_use_field"], ("NPV vs now", "field")), (column["irr"], ("", "IRR")),
+                (column["payback_year"], ("payback", "year")),
+                (column["soc_gain_t_co2e"], ("SOC gain", f"{tons.replace('_', ' ')} CO2e/{per}"))]
         cols = [(c, h) for c, h in cols if c in table]
         head = table.head(top)
         cells = []

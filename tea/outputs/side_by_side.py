@@ -12,6 +12,7 @@ import textwrap
 from dataclasses import dataclass
 from typing import Sequence
 
+from tea.core.texts import WIDTH
 from tea.inputs.case import Case
 from tea.model.results import Results
 from tea.inputs import display
@@ -33,8 +34,6 @@ FACTS = {"crop": "Crop", "field": "Field", "stand_life": "Stand life", "discount
 WHOLE = ("npv", "npv_vs_current_use", "peak_funding_need")
 #: figures coloured by their sign (gain or loss) on the page
 TONED = ("npv", "npv_vs_current_use", "eav_vs_current_use", "cash_at_removal")
-#: widest line of the terminal table [characters]
-WIDTH = 100
 
 
 @dataclass(frozen=True)

@@ -18,7 +18,7 @@ from tea.outputs.headline import headline, payback_caveat
 from tea.outputs import yield_text
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
-from tea.core.texts import CAUTIONS
+from tea.core.texts import CAUTIONS, WIDTH
 
 
 def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
@@ -262,9 +262,6 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
     out.extend(f"  - {c}" for c in CAUTIONS)
     return "\n".join(wrapped(line) for line in out)
 
-
-#: widest line of the terminal summary [characters]
-WIDTH = 100
 
 
 def wrapped(line: str) -> str:

@@ -19,7 +19,7 @@ from tea.model.declare import Def
 from tea.outputs.analysis_text import probability_note
 from tea.outputs.workbook.layout import (CHECKS, CLIMATE, FIG_FIELD_COL, FIG_VALUE_COL, FIGURES, NOTES, RISK, SENSITIVITY,
                                          SUMMARY, CaseLayout)
-from tea.outputs.workbook.sheets import SheetWriter, cached, text, xl
+from tea.outputs.workbook.sheets import DEMO_FLAG, SheetWriter, cached, text, xl
 from tea.outputs.workbook.style import PALETTE, number_format, unit_shown, whole_field_unit
 
 #: figures on the summary, whole field first where they scale with the area
@@ -71,7 +71,7 @@ class CreditWriter(SheetWriter):
                        f"{case.currency} · "
                        f"{case.stand_life}-year stand · tea {__version__} · case {case.hash}", st("subtitle"))
         if case["case.demo"]:
-            text(ws, 2, 0, "DEMO DATA: the case marks its farm, field and prices as invented (case.demo).", st("flag"))
+            text(ws, 2, 0, DEMO_FLAG, st("flag"))
         if self.headline is not None:
             ws.merge_range(3, 0, 3, 13, "", st("wrap"))
             text(ws, 3, 0, f"{self.headline.verdict}. {self.headline.sentence}", st("wrap"))

@@ -68,6 +68,10 @@ def text(ws, row: int, col: int, value: Any, fmt=None) -> None:
     ws.write_string(row, col, xlsx_literal("" if value is None else str(value)), fmt)
 
 
+#: the flag a demo case's sheets carry at their top
+DEMO_FLAG = "DEMO DATA: the case marks its farm, field and prices as invented (case.demo)."
+
+
 class SheetWriter:
     """Writes one case's model sheets into an XlsxWriter workbook."""
 
@@ -106,7 +110,7 @@ class SheetWriter:
                        "follows (and `tea run` reads this sheet back). The source of each value is its cell's "
                        "comment. Every other cell of the workbook is a formula.", st("subtitle"))
         if case["case.demo"]:
-            text(ws, 2, 0, "DEMO DATA: the case marks its farm, field and prices as invented (case.demo).", st("flag"))
+            text(ws, 2, 0, DEMO_FLAG, st("flag"))
         head = st("head")
         for c, label in enumerate(INPUT_COLUMNS):
             text(ws, INPUT_HEAD_ROW - 1, c, label, head)
