@@ -124,9 +124,8 @@ class Spec:
 
 
 def draw_all_and_sent(specs: Sequence[Spec]) -> list[Chart]:
-    """The charts of the specs, then of the specs sent to the work after it was handed over (one list, sent
-    once: :meth:`tea.outputs.workers.Later.send`), in that order, ready for the PDF engine
-    (:func:`draw_for_engine`): the first are drawn while the rest are still being described."""
+    """The charts of the specs, then of those sent once after (:meth:`tea.outputs.workers.Later.send`), ready
+    for the PDF engine (:func:`draw_for_engine`): the first are drawn while the rest are being described."""
     from tea.outputs import workers
 
     drawn = draw_for_engine(specs)
@@ -344,8 +343,7 @@ def cumulative_cash(
     unit_label : str
         Axis unit, e.g. ``"EUR per ha"``.
     lost_year : float, optional
-        First year after the payback year that the running total is below zero again (the model's
-        ``payback_lost_year``), said in the alternative text.
+        The model's ``payback_lost_year`` (below zero again after payback), said in the alternative text.
     """
     fig = cash_figure(years, list(cumulative), payback_year, unit_label, width_in, height_in)
     return _finish(fig, name, *cash_words(years, cumulative, payback_year, unit_label, lost_year))
