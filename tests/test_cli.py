@@ -420,6 +420,14 @@ def test_version_in_process():
     assert res.out.strip() == f"tea {tea.__version__}"
 
 
+def test_version_is_the_installed_distributions():
+    # the package's metadata (what pip and `pip show tea` report) takes its version from tea.__version__
+    # (pyproject.toml, dynamic version): the two cannot drift apart
+    from importlib.metadata import version
+
+    assert version("tea") == tea.__version__
+
+
 def test_version_as_a_subprocess(cli_subprocess):
     res = cli_subprocess(["--version"])
     assert res.code == 0, res.err

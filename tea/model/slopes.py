@@ -67,6 +67,7 @@ class _Deriver:
         self.wrt = wrt
         self.made: dict[tuple[str, str], E.Node] = {}  # key of a def -> Ref to its slope, or ZERO
         self.new: list[Def] = []
+        self.named: set[str] = set()  # the names the formulas in self.new refer to
 
     def ref(self, ref: E.Ref) -> E.Node:
         d = self.model.get(ref)
@@ -79,11 +80,15 @@ class _Deriver:
         if _is(dexpr, 0.0) and not self._refers_to(dexpr, name):
             self.made[d.key] = ZERO
             # a recursive reference made earlier stays valid: declare the slope as 0
-            if any(self._refers_to(n.expr, name) for n in self.new):
-                self.new.append(self._def(d, name, ZERO))
+            if name in self.named:
+                self._add(self._def(d, name, ZERO))
             return self.made[d.key]
-        self.new.append(self._def(d, name, dexpr))
+        self._add(self._def(d, name, dexpr))
         return out
+
+    def _add(self, d: Def) -> None:
+        self.new.append(d)
+        self.named.update(n.name for n in E.walk(d.expr) if isinstance(n, E.Ref))
 
     def _def(self, d: Def, name: str, dexpr: E.Node) -> Def:
         unit = f"({d.unit}) per unit of {self.wrt}"
