@@ -189,3 +189,68 @@ def test_the_establishment_cost_credits_its_costs_and_its_planting_rate_each_to_
     [row] = [a for a in _assumptions(case, tea.summarise(case)) if a["label"] == "Establishment"]
     guide = case.notes["establishment.planting_units_per_ha"].partition(": ")[2]
     assert row["source"] == f"case file; planting rate: {guide}"
+
+
+# --------------------------------------------------------------------------- units kept whole on a line
+# common practice (typesetting): a unit is not split over two lines; the PDF engine (WeasyPrint, with Pango's
+# line breaking after UAX #14) would break after the slash of "USD/short"
+
+UNIT_TEXT = ("to match the current use 78.58 USD/short ton DM on average; own funding peaks at 932 EUR/ha/yr "
+             "and the soil holds 11.3 short ton CO2e at 5.5 % a year, 4.39 % real (1.07 / 1.025 - 1)")
+WHOLE = ["USD/short ton DM", "EUR/ha/yr", "short ton CO2e", "5.5 %", "1.07 / 1.025"]
+
+
+def _lines_at(width_cm: float, html_text: str) -> list[str]:
+    import shutil
+    import subprocess
+    import tempfile
+
+    from tea.outputs import pdf
+
+    if not shutil.which("pdftotext"):
+        pytest.skip("poppler-utils (pdftotext) not installed")
+    doc = pdf.layout(f'<html><body style="width:{width_cm}cm; font: 11pt sans-serif; margin: 0">'
+                     f"<p>{html_text}</p></body></html>")
+    with tempfile.TemporaryDirectory() as folder:
+        out = f"{folder}/p.pdf"
+        pdf.write_pdf(doc, out)
+        text = subprocess.run(["pdftotext", "-raw", out, "-"], capture_output=True, text=True, check=True).stdout
+    return [line for line in text.replace("\f", "").splitlines() if line.strip()]
+
+
+def test_units_are_never_broken_over_two_lines_in_the_pdf():
+    from tea.outputs import pdf
+
+    kept = pdf.units_kept_together(UNIT_TEXT)
+    broke_before = False
+    for tenth in range(30, 90, 3):  # 3.0 to 8.7 cm wide: every unit meets a line's end somewhere
+        lines = _lines_at(tenth / 10, kept)
+        assert " ".join(lines) == UNIT_TEXT  # pdftotext reads the joiner as nothing, a no-break space as a space
+        for unit in WHOLE:
+            assert any(unit in line for line in lines), (tenth, unit, lines)
+        broke_before |= any(line.rstrip().endswith("/") for line in _lines_at(tenth / 10, UNIT_TEXT))
+    assert broke_before  # the same text as written breaks after a slash at one of these widths
+
+
+def test_units_kept_together_changes_text_only_never_markup():
+    from tea.outputs import pdf
+
+    html = ('<style>p { font: 10pt/1.2 sans-serif }</style><!-- a/b --><p class="x/y" title="3 t DM">'
+            "3 t DM at 80 USD/acre</p><img src=\"data:image/svg+xml;base64,AB/CD\">")
+    got = pdf.units_kept_together(html)
+    assert got == ('<style>p { font: 10pt/1.2 sans-serif }</style><!-- a/b --><p class="x/y" title="3 t DM">'
+                   "3 t\u00a0DM at 80 USD/\u2060acre</p><img src=\"data:image/svg+xml;base64,AB/CD\">")
+
+
+def test_the_us_demo_page_has_no_line_ending_in_a_slash(tmp_path):
+    import shutil
+    import subprocess
+
+    if not shutil.which("pdftotext"):
+        pytest.skip("poppler-utils (pdftotext) not installed")
+    out = tmp_path / "us.pdf"
+    res = run_cli(["run", str(CASES_DIR / "sandy_slope_switchgrass.toml"), "--brief", "--pdf", str(out)])
+    assert res.code == 0, res.err
+    text = subprocess.run(["pdftotext", "-raw", str(out), "-"], capture_output=True, text=True, check=True).stdout
+    assert "USD/short ton DM" in text
+    assert not [line for line in text.splitlines() if line.rstrip().endswith("/")]

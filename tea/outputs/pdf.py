@@ -24,6 +24,7 @@ import contextlib
 import io
 import logging
 import os
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -190,6 +191,34 @@ def _from_listing(listing: bytes, name: str) -> str | None:
            "s390x-64": "libc6,64bit", "ia64-64": "libc6,IA-64"}.get(machine, "libc6")
     found = re.search(os.fsencode(r"\s+(lib%s\.[^\s]+)\s+\(%s" % (re.escape(name), abi)), listing)
     return os.fsdecode(found.group(1)) if found else None
+
+
+#: the parts of an HTML page that are not text: style and script elements, tags, comments
+_NOT_TEXT = re.compile(r"(<style[\s\S]*?</style>|<script[\s\S]*?</script>|<!--[\s\S]*?-->|<[^>]*>)", re.I)
+#: where a line must not break in a unit: after a slash between two words ("USD/short ton"); inside a
+#: unit of several words ("short ton", "t DM"); before a per cent sign ("5.5 %"); around the slash of a
+#: division ("1.07 / 1.025"). A number may still end a line before its unit: the page's narrow tiles
+#: would otherwise take a line more
+_UNIT_JOINS = (
+    (re.compile(r"(?<=[^\s<>])/(?=[^\s<>])"), "/\u2060"),  # U+2060 WORD JOINER: no break, no width
+    (re.compile(r"\b(short|metric|long) (tons?)\b"), "\\1\u00a0\\2"),
+    (re.compile(r"\b(t|tons?|kg|lb|g)(?: )(DM|C|CO2e|N)\b"), "\\1\u00a0\\2"),
+    (re.compile(r"(?<=\d) %"), "\u00a0%"),
+    (re.compile(r"(?<=[\d)]) / (?=[\d(])"), "\u00a0/\u00a0"),  # a division between two numbers: "1.07 / 1.025"
+)
+
+
+def units_kept_together(html: str) -> str:
+    """The page's text with no line break inside a unit (:data:`_UNIT_JOINS`): for the PDF engine, which
+    would otherwise break a line after the slash of "USD/short ton DM". The joiner and the no-break spaces
+    read as nothing and as a space in the PDF's text (what a reader copies or searches)."""
+    parts = _NOT_TEXT.split(html)
+    for i in range(0, len(parts), 2):  # even pieces are text; odd ones the markup around it
+        text = parts[i]
+        for pattern, joined in _UNIT_JOINS:
+            text = pattern.sub(joined, text)
+        parts[i] = text
+    return "".join(parts)
 
 
 @lru_cache(maxsize=4)

@@ -411,7 +411,9 @@ def _summary_page(page: CasePage, size: str, meta: dict[str, Any], density: int,
 
 
 def _render(template: str, **context: Any) -> str:
-    return _environment().get_template(template).render(**context)
+    """A template rendered; for the PDF engine (``embed``) with its units kept whole on a line."""
+    html = _environment().get_template(template).render(**context)
+    return pdf.units_kept_together(html) if context.get("embed") else html
 
 
 def _remember(key: tuple[Any, ...], value: Any) -> None:
