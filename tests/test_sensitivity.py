@@ -238,6 +238,27 @@ class TestViews:
         text = analysis_text.sensitivity_text(clay_run)
         assert "Biomass price" in text and "Break-even surface" in text and "Planning estimates" in text
 
+    @pytest.mark.parametrize("figure, name, unit", [
+        ("npv", "NPV", "EUR/ha"), ("eav", "EAV", "EUR/ha/yr"),
+        ("npv_vs_current_use", "NPV vs current use", "EUR/ha"),
+        ("eav_vs_current_use", "EAV vs current use", "EUR/ha/yr")])
+    def test_the_table_is_headed_by_the_figure_it_gives(self, clay_run, figure, name, unit):
+        # the equivalent annual value is a yearly amount (Brealey, Myers and Allen, ch. 6): its table says
+        # "EAV ... /yr", and its numbers are the run's EAV, never headed as NPV
+        text = " ".join(analysis_text.sensitivity_text(clay_run, figure).split())
+        assert f"ranked by the swing of {name} ({unit})" in text
+        assert f"Tornado ({name}, {unit};" in text
+        short = name.replace(" vs current use", " vs now")
+        assert f"{short} low {short} high swing" in text
+        top = clay_run.order(figure)[0]
+        low, high = (round(float(v[figure][top])) for v in (clay_run.low, clay_run.high))
+        row = next(line for line in analysis_text.sensitivity_text(clay_run, figure).splitlines()
+                   if line.split()[:1] == ["1"])
+        assert f"{low:,}".replace("-", "\u2212") in row or f"{low:,}" in row, row
+        assert f"{high:,}".replace("-", "\u2212") in row or f"{high:,}" in row, row
+        if figure.startswith("eav"):
+            assert "NPV" not in text.split("Base NPV")[1].split("Biomass price")[0].replace("NPV vs current use", "")
+
 
 class TestSection:
     def test_normalised_section_parses_to_itself(self, clay):

@@ -11,6 +11,7 @@ from tea.inputs.case import Case
 from tea.core.texts import CAUTIONS
 from tea.outputs.terminal import wrapped
 from tea.inputs import display
+from tea.outputs.whatmoves import FIGURES
 
 
 #: longest note on where a range comes from that sits in the table's last column [characters]
@@ -28,8 +29,9 @@ def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
     out.append(f"Base NPV {display.money(res.base['npv'] * scale, c.currency)}/{per}; "
                f"EAV {display.money(res.base['eav'] * scale, c.currency)}/{per}/yr; NPV vs current use "
                f"{display.money(res.base['npv_vs_current_use'] * scale, c.currency)}/{per}.")
-    out.append(f"Each input moved alone, the others at their base values; ranked by the swing of "
-               f"{'NPV vs current use' if figure.endswith('vs_current_use') else 'NPV'} ({c.currency}/{per}).")
+    name, yearly = FIGURES[figure]  # the words and unit of the page's and --plot's tornado chart
+    unit = f"{c.currency}/{per}" + ("/yr" if yearly else "")
+    out.append(f"Each input moved alone, the others at their base values; ranked by the swing of {name} ({unit}).")
     out.append("")
     rows, notes = [], []
     for rank, i in enumerate(res.order(figure), start=1):
@@ -41,22 +43,22 @@ def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
         rows.append([str(rank), m.label, m.range_text(c),
                      money(res.low[figure][i]), money(res.high[figure][i]),
                      money(abs(res.high[figure][i] - res.low[figure][i])), where])
-    name = "NPV vs now" if figure.endswith("vs_current_use") else "NPV"
-    heads = ["#", "input", "low / high", f"{name} low", f"{name} high", "swing", "range"]
+    short = name.replace(" vs current use", " vs now")
+    heads = ["#", "input", "low / high", f"{short} low", f"{short} high", "swing", "range"]
     widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(heads)] if rows else [len(h) for h in heads]
     align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 6) else s.rjust(widths[j])  # noqa: E731
     out.append("  ".join(align(j, h) for j, h in enumerate(heads)).rstrip())
     out.extend("  ".join(align(j, s) for j, s in enumerate(r)).rstrip() for r in rows)
     out.extend(f"note {k}: {text}" for k, text in enumerate(notes, start=1))
-    out.append(f"(EAV low and high, per {per} a year: `tea sensitivity --json`.)")
+    if figure == "npv":
+        out.append(f"(EAV low and high, per {per} a year: `tea sensitivity --json` or --figure eav.)")
     only_vs = [res.moved[i].label for i in range(len(res.moved))
                if res.low["npv"][i] == res.high["npv"][i] and res.low["npv_vs_current_use"][i] != res.high["npv_vs_current_use"][i]]
     if only_vs and figure == "npv":
         out.append(f"{', '.join(only_vs)}: changes only the comparison with today's use "
                    "(NPV vs current use), not the stand's own NPV; see --figure npv_vs_current_use.")
     out.append("")
-    out.append(f"Tornado ({figure.upper() if figure == 'npv' else figure}, {c.currency}/{per}; '<' input low, '>' input high, "
-               "| base):")
+    out.append(f"Tornado ({name}, {unit}; '<' input low, '>' input high, | base):")
     out.extend(_text_tornado(res, figure, scale))
     if res.surface is not None:
         out.append("")
