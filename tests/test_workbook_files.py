@@ -394,6 +394,16 @@ def test_cli_writes_a_portfolio(tmp_path, capsys):
     assert units and not [u for u in units if "EUR" in u or "USD" in u], units
     heads = " ".join(str(c) for c in rows[5] if c)
     assert "EUR" in heads and "USD" in heads
+    # the willow case is priced per GJ, the others per t DM: the break-even price's unit names neither for all
+    # of them, and each case's column says what its price is per, as the case's own summary sheet does
+    label = {row[0]: row for row in rows if row and row[0]}
+    assert label["Break-even price"][1] == "currency/price unit"
+    by_case = {str(rows[3][2 + j]): str(rows[5][2 + j]) for j in range(3)}
+    for j in range(3):
+        own = wb[f"C0{j + 1} Summary"]
+        text = " ".join(str(v) for row in own.iter_rows(values_only=True) for v in row if v is not None)
+        per = "GJ" if "EUR/GJ" in text else "t DM"
+        assert rows[5][2 + j].endswith(f"price per {per}"), (by_case, per)
     wb.close()
     assert cli.main(args) == 2  # exists: not overwritten without --force
     assert "exists" in capsys.readouterr().err

@@ -191,6 +191,11 @@ class Case:
         return "gj" if self.values.get("revenue.price_per_gj") is not None else "t_dm"
 
     @property
+    def price_unit(self) -> str:
+        """What the biomass price is per, in words: ``"t DM"`` (a tonne of dry matter) or ``"GJ"``."""
+        return "GJ" if self.price_basis == "gj" else "t DM"
+
+    @property
     def real_discount_rate(self) -> float:
         """The real rate the ledger is discounted at (Fisher equation for a nominal rate)."""
         r = self.values["finance.discount_rate"]

@@ -83,7 +83,7 @@ def tone(value: float | None, good_if_negative: bool = False) -> str:
 
 def _money(case: Case, value: float | None, unit: str = "money/ha", digits: int | None = None) -> str:
     v, shown = display.convert(value, unit, case.unit_system)
-    price_unit = "GJ" if case.price_basis == "gj" else "t DM"
+    price_unit = case.price_unit
     return print_minus(display.money(v, display.unit_text(shown, case.currency, price_unit), digits))
 
 

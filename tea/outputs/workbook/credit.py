@@ -157,7 +157,7 @@ class CreditWriter(SheetWriter):
     def _priced(self, unit: str) -> str:
         """A unit with the price unit spelled out (per t DM or per GJ), so that it converts to US customary
         units (per short ton DM) like any other."""
-        return unit.replace("price unit", "GJ" if self.case.price_basis == "gj" else "t DM")
+        return unit.replace("price unit", self.case.price_unit)
 
     def _lender(self, ws, r: int) -> int:
         st, lc = self.st, self.lender
@@ -543,11 +543,15 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     ws.set_tab_color(PALETTE["head_fill"])
     text(ws, 0, 0, f"Side by side: {len(cases)} cases", st("title"))
     currencies = {c.currency for c in cases}
+    price_units = {c.price_unit for c in cases}
+    price_unit = next(iter(price_units)) if len(price_units) == 1 else "price unit"  # each case's own, as money
     money = next(iter(currencies)) if len(currencies) == 1 else "currency"  # each case's own, in its column head
     text(ws, 1, 0, "Every figure links to the case's own figures sheet; whole field where a figure scales with the "
                    "area, per ha otherwise, in metric units (ha, metric t) for every case"
-                   + (", US customary ones too" if any(c.unit_system == "us_customary" for c in cases) else "")
+                   + (", even those in US customary units (their own sheets give acres and short tons)"
+                      if any(c.unit_system == "us_customary" for c in cases) else "")
                    + ("; money in each case's own currency (under its name)" if len(currencies) > 1 else "")
+                   + ("; prices per each case's own price unit (under its name)" if len(price_units) > 1 else "")
                    + ". Planning estimates, not financial advice.", st("subtitle"))
     head = st("head")
     for c, label in enumerate(("Figure", "Unit")):
@@ -555,13 +559,14 @@ def comparison(ws, st, cases: Sequence[Case], layouts: Sequence[CaseLayout], val
     for j, case in enumerate(cases):
         text(ws, 3, 2 + j, case.name, head)
         text(ws, 4, 2 + j, f"{case['field.name']} · {case['crop.preset']}", st("keyname"))
-        text(ws, 5, 2 + j, f"{layouts[j].sheet_prefix.strip()} sheets · {case.currency}", st("keyname"))
+        text(ws, 5, 2 + j, f"{layouts[j].sheet_prefix.strip()} sheets · {case.currency}"
+             + (f" · price per {case.price_unit}" if len(price_units) > 1 else ""), st("keyname"))
     r = 7
     model = layouts[0].model
     for name in (*KEY_FIGURES, *SOURCES_USES):
         d = model.figure(name)
         text(ws, r, 0, d.label + (" (whole field)" if d.scales else ""), st("label"))
-        text(ws, r, 1, unit_shown(whole_field_unit(d.unit) if d.scales else d.unit, money), st("keyname"))
+        text(ws, r, 1, unit_shown(whole_field_unit(d.unit) if d.scales else d.unit, money, price_unit), st("keyname"))
         for j, (case, lay) in enumerate(zip(cases, layouts)):
             v = cached(values[j][d.key])
             col = FIG_FIELD_COL if d.scales else FIG_VALUE_COL

@@ -78,7 +78,7 @@ class SheetWriter:
     def __init__(self, wb, st: Styles, case: Case, lay: CaseLayout, values: dict, renderer: Renderer):
         self.wb, self.st, self.case, self.lay, self.values, self.ren = wb, st, case, lay, values, renderer
         self.cur = case.currency
-        self.price_unit = "GJ" if case.price_basis == "gj" else "t DM"
+        self.price_unit = case.price_unit
 
     def unit(self, unit: str) -> str:
         return unit_shown(unit, self.cur, self.price_unit)
