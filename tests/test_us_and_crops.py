@@ -326,3 +326,22 @@ def test_a_us_pages_credit_price_is_per_short_ton_beside_its_tonnages_in_short_t
     assert f"short ton CO2e/acre credited over the stand life at {per_short_ton:.2f} USD/short ton CO2e " \
            f"(30.00 USD/metric ton)" in page
     assert "USD/t CO2e" not in page
+
+
+def test_the_crop_is_described_with_the_cases_own_harvest_interval(demo_mappings):
+    # common practice: a grass cut every second year is described so; the preset's usual interval (every
+    # year) must not be printed over the case's own, which drives the cash and the loan cover
+    from tea.outputs import report
+
+    data = copy_case(demo_mappings["sandy_slope_switchgrass"])
+    data.setdefault("harvest", {})["interval_years"] = 2
+    case = tea.load_text(to_toml(data), source="two.toml")
+    text = _summary(case)
+    assert "switchgrass type), harvested every 2 years" in text
+    assert "harvested every year" not in text
+    frame = tea.build_ledger(case)
+    html = report.summary_html(case, frame, tea.summarise(case, frame), sensitivity=False)
+    assert "harvested every 2 years" in html and "harvested every year" not in html
+    res = run_cli(["presets"])
+    assert "switchgrass type), harvested every year" in res.out  # the preset's own interval
+    assert "willow type), cut back after year 1, harvested every 3 years" in res.out

@@ -53,6 +53,16 @@ class Preset:
     non_native_regions: tuple[str, ...] = ()
     region_sources: Mapping[str, str] = field(default_factory=dict)
 
+    def described(self, interval_years: Any = None) -> str:
+        """The preset's title with the harvest interval it is grown at: a case's own (``interval_years``), else
+        the preset's. ``case.preset.described(case["harvest.interval_years"])``, or :attr:`Case.crop_words`.
+
+        >>> load_preset("seeded_grass").described(2)
+        'Seed-sown perennial grass (switchgrass type), harvested every 2 years'
+        """
+        n = self.values.get("harvest.interval_years", 1) if interval_years is None else interval_years
+        return f"{self.title}, harvested every " + ("year" if int(n) == 1 else f"{int(n)} years")
+
     def values_in(self, system: str) -> dict[str, Any]:
         """The preset's values for a case in a unit system: as given, except that a US customary case counts
         planting material the preset counts in kilograms (seed) in pounds, as US seed is sold, with the rate per
@@ -189,6 +199,11 @@ class Case:
     def price_basis(self) -> str:
         """``"t_dm"`` or ``"gj"``: which price the case gave."""
         return "gj" if self.values.get("revenue.price_per_gj") is not None else "t_dm"
+
+    @property
+    def crop_words(self) -> str:
+        """The crop in words, harvested as this case harvests it (:meth:`Preset.described`)."""
+        return self.preset.described(self.values["harvest.interval_years"])
 
     @property
     def price_unit(self) -> str:

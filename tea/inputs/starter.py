@@ -301,7 +301,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 and k.path not in carried and (k.default is schema.REQUIRED or k.path in examples)]
     yield_doc: int | None = None  # the line describing the mature yield
     left_for_user = 0  # money keys left for the user's own values (a currency far from a dollar)
-    lines = [f"# Starter case for `tea`, crop preset {crop}: {preset.title}."]
+    lines = [f"# Starter case for `tea`, crop preset {crop}: {preset.described()}."]
     if base is None:
         lines += ["# Keys without '#' need your values: the numbers there are invented examples."]
     elif same_crop:

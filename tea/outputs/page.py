@@ -327,7 +327,7 @@ def _assumptions(case: Case, res: Results) -> list[dict[str, str]]:
                   f"climate, {_words(v['field.soil'])} soil", _source(case, "field.area_ha")),
         ("Current use", f"{_words(v['field.current_use'])}, earning {fig_text(case, res, 'current_margin')}",
          _source(case, "field.current_margin_per_ha")),
-        ("Crop", case.preset.title, f"crop preset {_words(case.preset.name)}"),
+        ("Crop", case.crop_words, f"crop preset {_words(case.preset.name)}"),
         ("Stand life", f"{case.stand_life} years", _source(case, "finance.stand_life_years")),
         ("Mature yield", f"{_quantity(case, v['yield.mature_t_dm_per_ha'], 't DM/ha/yr')} "
                          f"× site factor {v['yield.site_factor']:.2f}" + page_line(case),
@@ -485,7 +485,7 @@ class CasePage:
             "demo": bool(case.values.get("case.demo")),
             "title": case.name,
             "field_line": f"{case.values.get('field.name', '')} · {display.number(area_v)} {area_u} · "
-                          f"{case.preset.title}",
+                          f"{case.crop_words}",
             "notes": case.values.get("case.notes") or "",
             "verdict": head.verdict,
             "verdict_tone": head.tone,

@@ -195,7 +195,7 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
         head += "   [DEMO DATA]"
     out.append(head)
     out.append("=" * len(head))
-    out.append(f"{case['field.name']}: {display.number(area)} {area_unit}, {case.preset.title}")
+    out.append(f"{case['field.name']}: {display.number(area)} {area_unit}, {case.crop_words}")
     rate = f"{display.percent(res.discount_rate_real, 2)} real"
     if res.rate_basis == "nominal":
         rate += f" (from {display.percent(res.discount_rate_given, 2)} nominal, {display.percent(res.inflation, 2)} inflation, Fisher)"
@@ -454,7 +454,7 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
     for name in preset_names():
         p = load_preset(name)
         aliases = f" (also: {', '.join(p.aliases)})" if p.aliases else ""
-        out.append(f"{name}: {p.title}{aliases}")
+        out.append(f"{name}: {p.described()}{aliases}")
         if verbose:
             for path, value in p.values_in(system).items():
                 key = schema.BY_PATH[path]
