@@ -112,3 +112,15 @@ class TestNetGhg:
     def test_reversion_never_improves_the_balance(self, path):
         res = tea.summarise(load_case(path))
         assert res["ghg_net_with_reversion_t_co2e"] >= res["ghg_net_t_co2e"] - 1e-12
+
+
+def test_a_case_that_sells_no_credits_has_no_credited_or_paid_back_tonnes():
+    # common practice: a credit exists only where it is sold (a buyer's price); a case with no credit price
+    # has no credit volumes to show a lender, nor a payback liability at removal, though its soil still gains
+    led = tea.build_ledger(_case(**{"carbon.credit_price_per_t_co2e": 0.0}))
+    assert led["soc_change_t_c"].iloc[1:20].gt(0).all()  # the soil gains as before
+    for line in ("credit_eligible_t_co2e", "credited_gross_t_co2e", "credited_t_co2e", "credit_buffer_t_co2e",
+                 "credit_reversal_t_co2e", "credit_payback_t_co2e", "credit_payback_cost"):
+        assert (led[line] == 0).all(), line
+    sold = tea.build_ledger(_case())
+    assert sold["credited_t_co2e"].sum() > 0 and sold["credit_payback_t_co2e"].sum() > 0

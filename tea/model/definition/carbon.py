@@ -153,8 +153,9 @@ DEFS = (
           "registry fee).",
           (CB.credit_price_per_t_co2e > 0) & (total(L.credited_t_co2e) > 0)),
     line("credit_eligible_t_co2e", "t CO2e/ha", "carbon", "Removals eligible",
-         "SOC gain of the year as CO2 while the stand stands, the removal year excepted.",
-         L.stand_year * (t < LIFE) * maximum(L.soc_change_t_c, 0) * C_TO_CO2),
+         "SOC gain of the year as CO2 while the stand stands, the removal year excepted, where the case sells "
+         "credits (a credit price > 0; none claimed, none paid back, otherwise).",
+         (CB.credit_price_per_t_co2e > 0) * L.stand_year * (t < LIFE) * maximum(L.soc_change_t_c, 0) * C_TO_CO2),
     line("credited_gross_t_co2e", "t CO2e/ha", "carbon", "Removals verified",
          "Removals verified: all eligible removals so far in the first verification year, the year's after it.",
          (t == CB.credit_first_year) * cumsum(L.credit_eligible_t_co2e)
