@@ -452,3 +452,21 @@ def test_a_distribution_or_range_away_from_the_case_value_is_pointed_out():
     assert any("sensitivity.ranges.yield.mature_t_dm_per_ha: the case's own value 20.85 is outside the range "
                "13 to 19" in w for w in found)
     assert not [w for w in load_text(CLAY.read_text(), source="demo.toml").warnings if "centre" in w or "outside" in w]
+
+
+@pytest.mark.parametrize("draws", [10, 1_000, 10_000, 100_000])
+def test_a_bound_where_every_draw_counts_is_printed_short_of_100_percent(draws):
+    # Clopper and Pearson (Biometrika 26, 1934): with all n draws counted, the one-sided 95 % lower bound is
+    # 0.05 ** (1/n); with none, the upper bound is 1 - 0.05 ** (1/n). Printed, neither may round to 100 % or 0 %
+    import re
+
+    from tea.analysis.risk import Probability
+    from tea.outputs.analysis_text import probability_line
+
+    exact = 0.05 ** (1 / draws)
+    above = probability_line("P(lowest DSCR < 1.25)", Probability(1.0, 0.0, draws))
+    below = probability_line("P(NPV < 0)", Probability(0.0, 0.0, draws))
+    high = float(re.search(r"above ([\d.]+)%", above).group(1))
+    low = float(re.search(r"below ([\d.]+)%", below).group(1))
+    assert high < 100.0 and low > 0.0, (above, below)
+    assert high == pytest.approx(exact * 100, abs=0.06) and low == pytest.approx((1 - exact) * 100, abs=0.06)

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from tea.analysis.risk import BOUND_CONFIDENCE, PERCENTILES, Probability, RiskResult
@@ -199,14 +201,25 @@ def probability_note(pr: Probability, count: bool = False) -> str:
     one-sided bound where none or all of the draws count (:func:`probability_line`)."""
     draws = f"{pr.of:,} draw{'s' if pr.of != 1 else ''}"
     if pr.upper_bound is not None:
-        why = f"in none of {draws}: below {pr.upper_bound:.1%} at {BOUND_CONFIDENCE:.0%} confidence"
+        why = f"in none of {draws}: below {_bound(pr.upper_bound)} at {BOUND_CONFIDENCE:.0%} confidence"
     elif pr.lower_bound is not None:
-        why = f"in all of {draws}: above {pr.lower_bound:.1%} at {BOUND_CONFIDENCE:.0%} confidence"
+        why = f"in all of {draws}: above {_bound(pr.lower_bound)} at {BOUND_CONFIDENCE:.0%} confidence"
     elif pr.standard_error is not None:
         why = f"s.e. {pr.standard_error:.1%}"
     else:
         why = f"{draws}: no standard error"
     return f"{why}, {draws}" if count and pr.standard_error is not None else why
+
+
+def _bound(share: float) -> str:
+    """A bound on a chance as a percentage with the decimals it takes to stay short of 0 % and of 100 %.
+
+    >>> _bound(0.95), _bound(1 - 0.05 ** (1 / 10_000)), _bound(0.05 ** (1 / 10_000))
+    ('95.0%', '0.030%', '99.970%')
+    """
+    gap = min(share, 1.0 - share) * 100.0  # percentage points from 0 % or 100 %
+    decimals = 1 if gap >= 0.1 else min(6, 1 - math.floor(math.log10(gap)) if gap > 0 else 6)
+    return f"{share * 100:.{decimals}f}%"
 
 
 def _joined(lines: list[str]) -> str:
