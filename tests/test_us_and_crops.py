@@ -241,6 +241,13 @@ def test_a_us_workbook_gives_each_schedule_per_acre_and_in_short_tons(tmp_path):
     cash = found[("Cash flow", "Incremental cash flow")]
     assert cash[1] == "USD/acre" and cash[3].endswith(f"*{HA_PER_ACRE!r}")
     assert any(unit == "short ton DM/acre" for _, unit, *_ in found.values())
+    # diesel in US gallons per acre (NIST HB44: 1 US gallon = 3.785411784 L), never litres per acre
+    diesel = [row for row in found.values() if "l/acre" in row[1] or "gal/acre" in row[1]]
+    assert diesel and all(row[1].startswith("gal/acre") for row in diesel), diesel
+    assert all(float(row[3].rsplit("*", 1)[1]) == pytest.approx(HA_PER_ACRE / 3.785411784, rel=1e-14)
+               for row in diesel)
+    debt = [row[0] for row in wb["Debt and tax"].iter_rows(values_only=True) if str(row[0]).startswith("Whole field")]
+    assert debt == [f"Whole field ({case['field.area_ha'] / HA_PER_ACRE:.10g} acre)"]
     values = openpyxl.load_workbook(out, data_only=True)["Cash flow"]
     row = next(r for r in values.iter_rows(values_only=True) if r[0] == "Incremental cash flow"
                and r[1] == "USD/acre")

@@ -10,7 +10,11 @@ from __future__ import annotations
 
 import math
 
-from tea.inputs.units import HA_PER_ACRE, KG_PER_LB, T_PER_SHORT_TON
+from tea.inputs.units import HA_PER_ACRE, KG_PER_LB, KM_PER_MILE, L_PER_US_GALLON, T_PER_SHORT_TON
+
+#: a metric unit of a canonical unit string -> its US customary unit and size [metric units per US unit]
+_US_FORMS = {"t": ("short ton", T_PER_SHORT_TON), "kg": ("lb", KG_PER_LB), "ha": ("acre", HA_PER_ACRE),
+             "l": ("gal", L_PER_US_GALLON), "km": ("mile", KM_PER_MILE)}
 
 #: GJ per million British thermal units (International Table Btu = 1055.05585262 J; NIST SP 811, 2008, B.8)
 GJ_PER_MMBTU = 1.05505585262
@@ -28,30 +32,27 @@ def convert(value: float | None, unit: str, system: str) -> tuple[float | None, 
     >>> v, u = convert(1.0, "t C/ha", "us_customary")
     >>> round(v, 4), u
     (0.4461, 'short ton C/acre')
+    >>> v, u = convert(100.0, "l/ha", "us_customary")
+    >>> round(v, 4), u
+    (10.6907, 'gal/acre')
     >>> convert(100.0, "money/ha", "metric")
     (100.0, 'money/ha')
     """
     if system == "metric" or value is None:
         return value, unit
-    parts = unit.split("/")
-    head, rest = parts[0], parts[1:]
+    head, *rest = unit.split("/")
     factor = 1.0
-    if head.startswith("t ") or head == "t":
-        head = head.replace("t", "short ton", 1)
-        factor /= T_PER_SHORT_TON
-    elif head.startswith("kg ") or head == "kg":
-        head = head.replace("kg", "lb", 1)
-        factor /= KG_PER_LB
+    for metric, (us, size) in _US_FORMS.items():  # the amount: t -> short ton, litres -> gallons, ...
+        if head == metric or head.startswith(metric + " "):
+            head, factor = us + head[len(metric):], factor / size
+            break
     new_rest = []
-    for part in rest:
-        if part == "ha":
-            factor *= HA_PER_ACRE
-            new_rest.append("acre")
-        elif part.startswith("t ") or part == "t":
-            factor *= T_PER_SHORT_TON
-            new_rest.append(part.replace("t", "short ton", 1))
-        else:
-            new_rest.append(part)
+    for part in rest:  # per ha -> per acre, per t DM -> per short ton DM, ...
+        for metric, (us, size) in _US_FORMS.items():
+            if part == metric or part.startswith(metric + " "):
+                part, factor = us + part[len(metric):], factor * size
+                break
+        new_rest.append(part)
     return value * factor, "/".join([head, *new_rest])
 
 

@@ -278,7 +278,8 @@ class SheetWriter:
         """Money lines of the debt and tax sheet for the whole field: the per-ha cell times the area."""
         lay, st = self.lay, self.st
         area = lay.input("field.area_ha")
-        text(ws, r, LABEL_COL, f"Whole field ({_short(self.case['field.area_ha'])} ha)", st("group"))
+        shown, unit = display.convert(self.case["field.area_ha"], "ha", self.case.unit_system)
+        text(ws, r, LABEL_COL, f"Whole field ({_short(shown)} {unit})", st("group"))
         r += 1
         for kind, d in lay.sheet_rows[DEBT]:
             if kind != "line" or not d.unit.startswith("money") or not d.show:
