@@ -297,7 +297,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
     # the unit this case counts planting material in, which the preset's rate is shown in
     planting_unit = carried.get(PLANTING_UNIT, in_system.get(PLANTING_UNIT))
     # the crop's keys a case must give that get an invented example (none with the same crop: all carried)
-    invented = [k.path for k in schema.KEYS if base is not None and k.section != "crop" and whose(k.path) == CROP
+    invented = [k for k in schema.KEYS if base is not None and k.section != "crop" and whose(k.path) == CROP
                 and k.path not in carried and (k.default is schema.REQUIRED or k.path in examples)]
     yield_doc: int | None = None  # the line describing the mature yield
     left_for_user = 0  # money keys left for the user's own values (a currency far from a dollar)
@@ -321,7 +321,8 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                   "#   [new crop: example] an invented starter value for this crop: put in the real one before",
                   "#                       comparing the crops;",
                   "#   [new crop: preset]  this crop's preset value (behind '#'; remove the '#' to change it).",
-                  "# Invented for this crop, check them: " + ", ".join(invented) + ".",
+                  *_wrapped("Invented for this crop, check them: ",  # named as this case's keys are spelled
+                            [f"{k.section}.{units.spell(k.template, system)}" for k in invented]),
                   *_wrapped("Not carried, the source crop's own values: ", dropped),
                   "# Not carried: the source case's [[operations]] (below, behind '#': take back those of the field),",
                   "# [sensitivity] and [risk] (their ranges are about the source crop)."]
