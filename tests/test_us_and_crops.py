@@ -352,3 +352,14 @@ def test_the_crop_is_described_with_the_cases_own_harvest_interval(demo_mappings
     res = run_cli(["presets"])
     assert "switchgrass type), harvested every year" in res.out  # the preset's own interval
     assert "willow type), cut back after year 1, harvested every 3 years" in res.out
+
+
+@pytest.mark.parametrize("system, paper", [("us_customary", "Letter"), ("metric", "A4")])
+def test_a_starters_commented_defaults_are_the_ones_the_case_takes(tmp_path, system, paper):
+    # ANSI/ASME Y14.1 Letter paper is the US default: a starter's commented page_size must say what the
+    # case takes when the line stays commented, as every other commented default does
+    target = tmp_path / "s"
+    assert run_cli(["new", str(target), "--crop", "switchgrass", "--units", system]).code == 0
+    text = target.with_suffix(".toml").read_text(encoding="utf-8")
+    assert f'# page_size = "{paper}"' in text
+    assert tea.load_case(target.with_suffix(".toml"))["case.page_size"] == paper

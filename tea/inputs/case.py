@@ -665,11 +665,8 @@ def load_mapping(data: Mapping[str, Any], source: str = "<case>") -> Case:
         elif k.default is schema.DERIVED:
             pass  # below, once climate and soil are known
         else:
-            values[k.path] = k.default
+            values[k.path], notes[k.path] = schema.default_in(k, system)
             origin[k.path] = "default"
-            notes[k.path] = k.source or "default"
-            if k.path == "case.page_size" and system == "us_customary":
-                values[k.path], notes[k.path] = "Letter", "default for a US customary case (ANSI Letter paper)"
             if k.path == "field.current_margin_per_ha":
                 warnings.append(Notice(source, f"field.{units.spell(k.template, system)}",
                                        "not given; the current use is taken to earn 0 a year", path=k.path,

@@ -560,6 +560,21 @@ SECTIONS: tuple[str, ...] = tuple(dict.fromkeys(k.section for k in KEYS))
 BY_PATH: dict[str, Key] = {k.path: k for k in KEYS}
 
 
+#: defaults that depend on the case's unit system: key path -> {system: (default, where it comes from)}
+DEFAULTS_BY_SYSTEM: dict[str, dict[str, tuple[Any, str]]] = {
+    "case.page_size": {"us_customary": ("Letter", "default for a US customary case (ANSI Letter paper)")},
+}
+
+
+def default_in(key: Key, system: str) -> tuple[Any, str]:
+    """A key's default in a unit system and where it comes from (:data:`DEFAULTS_BY_SYSTEM`, else the key's own).
+
+    >>> default_in(BY_PATH["case.page_size"], "us_customary")[0], default_in(BY_PATH["case.page_size"], "metric")[0]
+    ('Letter', 'A4')
+    """
+    return DEFAULTS_BY_SYSTEM.get(key.path, {}).get(system, (key.default, key.source or "default"))
+
+
 def keys_in(section: str) -> list[Key]:
     return [k for k in KEYS if k.section == section]
 

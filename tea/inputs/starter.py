@@ -383,7 +383,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 value, active = True, True
             elif base is not None and whose(k.path) == FIELD_AND_DEAL and k.default is not schema.DERIVED:
                 # not given in the source case: its default (or left out) here too, never an example
-                value = None if k.default in (None, schema.PRESET, schema.REQUIRED) else k.default
+                value = None if k.default in (None, schema.PRESET, schema.REQUIRED) else schema.default_in(k, system)[0]
                 active = False
                 tag = "[source case: not given there] "
             elif k.default is schema.REQUIRED or k.path in examples:
@@ -407,7 +407,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 elif value is not None:
                     doc += " Not used unless given; the value shown is an example."
             else:
-                value, active = k.default, False
+                value, active = schema.default_in(k, system)[0], False
             if active and k.money and k.path in examples and value is not None and not dollar_like:
                 # an example in a currency of about a dollar would read as a real price in this one: the key
                 # is left for the user's own value, which the loader asks for until it is given
