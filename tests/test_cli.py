@@ -558,3 +558,27 @@ def test_an_input_the_machine_will_not_let_be_read_is_status_1(tmp_path, monkeyp
     assert res.code == 1, res.err
     assert res.err_lines == [f"error: {target}: cannot read the file: permission denied"], res.err
     assert not (tmp_path / "r.csv").exists()
+
+
+@pytest.mark.parametrize("system", ["metric", "us_customary"])
+def test_on_a_terminal_presets_and_explanations_keep_within_100_characters(system):
+    # README: terminal lines stay within 100 characters. On a terminal the lists are fitted to that width (a
+    # source goes on as comment lines); in a pipe each item stays one line, for grep. Both say the same words
+    from tea.core.texts import WIDTH
+    from tea.model import explain as X
+    from tea.outputs.explain_text import explain_text
+    from tea.outputs.terminal import presets_text
+
+    def words(text: str) -> list[str]:  # a comment's further lines start with "#" again
+        return [w for w in text.split() if w != "#"]
+
+    for verbose in (False, True):
+        fitted, whole = presets_text(verbose, system, width=WIDTH), presets_text(verbose, system)
+        assert max(map(len, fitted.splitlines())) <= WIDTH
+        assert max(map(len, whole.splitlines())) > WIDTH  # the check can fail: the pipe's lines are longer
+        assert words(fitted) == words(whole)
+    case = tea.load_case(CASES_DIR / "sandy_slope_switchgrass.toml")
+    ex = X.explain(case, "npv")
+    fitted, whole = explain_text(ex, case.currency, system, WIDTH), explain_text(ex, case.currency, system)
+    assert max(map(len, fitted.splitlines())) <= WIDTH < max(map(len, whole.splitlines()))
+    assert fitted.split() == whole.split()

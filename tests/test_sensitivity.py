@@ -249,7 +249,11 @@ class TestViews:
         assert f"ranked by the swing of {name} ({unit})" in text
         assert f"Tornado ({name}, {unit};" in text
         short = name.replace(" vs current use", " vs now")
-        assert f"{short} low {short} high swing" in text
+        table = analysis_text.sensitivity_text(clay_run, figure).splitlines()
+        over = next(i for i, line in enumerate(table) if line.split()[:1] == ["#"])
+        assert table[over - 1].strip() == short and table[over].split()[-4:] == ["low", "high", "swing", "range"]
+        assert len(table[over - 1]) == table[over].index("  swing")  # the name ends over the "high" column
+        assert max(len(line) for line in table) <= 100  # README: terminal lines within 100 characters
         top = clay_run.order(figure)[0]
         low, high = (round(float(v[figure][top])) for v in (clay_run.low, clay_run.high))
         row = next(line for line in analysis_text.sensitivity_text(clay_run, figure).splitlines()

@@ -7,6 +7,7 @@ import json
 import sys
 
 from tea.core.errors import CaseError, Problem
+from tea.core.texts import on_terminal
 
 
 def add_commands(sub) -> None:
@@ -45,6 +46,6 @@ def _cmd_explain(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(ex.to_dict(), indent=2, allow_nan=False, default=str))
     else:
-        print(explain_text(ex, case.currency, case.unit_system))
+        print(explain_text(ex, case.currency, case.unit_system, on_terminal()))
     sys.stdout.flush()
     return 0

@@ -24,6 +24,7 @@ from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
 from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say, warn
+from tea.core.texts import fitted, on_terminal
 from tea.core.errors import (INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, ReadRefused, TeaError,
                              WriteError)
 
@@ -107,7 +108,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
     def report(path: str, case) -> None:
         for w in case.warnings:
             warn(w)
-        _say(f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})")
+        line = f"{path}: ok ({case.name}; preset {case['crop.preset']}; {case.stand_life} years; hash {case.hash})"
+        _say(fitted(line, on_terminal()))  # one line per case in a log or a pipe, for grep
 
     _load_all(args.cases, report)
     return 0
@@ -143,7 +145,7 @@ def _cmd_new(args: argparse.Namespace) -> int:
 def _cmd_presets(args: argparse.Namespace) -> int:
     from tea.outputs import terminal
 
-    _say(terminal.presets_text(verbose=args.verbose, system=args.units))
+    _say(terminal.presets_text(verbose=args.verbose, system=args.units, width=on_terminal()))
     return 0
 
 

@@ -45,10 +45,12 @@ def sensitivity_text(res: Sensitivity, figure: str = "npv") -> str:
         rows.append([str(rank), m.label, m.range_text(c),
                      money(res.low[figure][i]), money(res.high[figure][i]),
                      money(abs(res.high[figure][i] - res.low[figure][i])), where])
-    short = name.replace(" vs current use", " vs now")
-    heads = ["#", "input", "low / high", f"{short} low", f"{short} high", "swing", "range"]
+    short = name.replace(" vs current use", " vs now")  # over the two columns it heads: the table stays narrow
+    heads = ["#", "input", "low / high", "low", "high", "swing", "range"]
     widths = [max(len(h), *(len(r[j]) for r in rows)) for j, h in enumerate(heads)] if rows else [len(h) for h in heads]
+    widths[4] = max(widths[4], len(short) - widths[3] - 2)
     align = lambda j, s: s.ljust(widths[j]) if j in (1, 2, 6) else s.rjust(widths[j])  # noqa: E731
+    out.append(" " * (sum(widths[:3]) + 6) + short.rjust(widths[3] + 2 + widths[4]))
     out.append("  ".join(align(j, h) for j, h in enumerate(heads)).rstrip())
     out.extend("  ".join(align(j, s) for j, s in enumerate(r)).rstrip() for r in rows)
     out.extend(f"note {k}: {text}" for k, text in enumerate(notes, start=1))

@@ -7,7 +7,7 @@ from typing import Any
 import numpy as np
 
 from tea.model.explain import Explanation, Node
-from tea.core.texts import WIDTH
+from tea.core.texts import fitted
 from tea.inputs import display, schema, units
 
 
@@ -69,7 +69,8 @@ def _node(n: Node, currency: str, indent: str, out: list[str], system: str = "me
         out.append(f"{indent}    ... {n.more} more below (raise --depth to see them)")
 
 
-def explain_text(ex: Explanation, currency: str, system: str = "metric") -> str:
+def explain_text(ex: Explanation, currency: str, system: str = "metric", width: int | None = None) -> str:
+    """The explanation as text; lines fitted to ``width`` characters (else one line per item)."""
     out = [f"{ex.case} (case hash {ex.case_hash})" + (f", year {ex.year}" if ex.year is not None else ""), ""]
     if system != "metric":
         out[-1:] = ["The formulas work in metric units per ha; a value in brackets is in the case's units.", ""]
@@ -91,4 +92,4 @@ def explain_text(ex: Explanation, currency: str, system: str = "metric") -> str:
     if ex.unused_inputs:
         out += ["", "In the formulas, but no effect in this case (a branch not taken, a zero factor):",
                 "  " + ", ".join(ex.unused_inputs)]
-    return "\n".join(out)
+    return "\n".join(fitted(line, width) for line in out)

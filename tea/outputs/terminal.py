@@ -18,7 +18,7 @@ from tea.outputs.headline import headline, payback_caveat
 from tea.outputs import yield_text
 from tea.model.ledger import BY_NAME, LINE_NAMES
 from tea.model.results import FIGURE_BY_NAME, Results
-from tea.core.texts import CAUTIONS, WIDTH
+from tea.core.texts import CAUTIONS, WIDTH, commented, fitted
 
 
 def _fig(res: Results, case: Case, name: str, whole: bool = False) -> str:
@@ -446,8 +446,9 @@ def _before_first_stop(text: str) -> str:
     return text.strip()
 
 
-def presets_text(verbose: bool = False, system: str = "metric") -> str:
-    """The crop presets; with ``verbose`` every value with its source, spelled and converted to ``system``."""
+def presets_text(verbose: bool = False, system: str = "metric", width: int | None = None) -> str:
+    """The crop presets; with ``verbose`` every value with its source, spelled and converted to ``system``;
+    lines fitted to ``width`` characters (a value's source going on as comment lines), else one per item."""
     from tea.inputs import schema, units
 
     out = []
@@ -459,11 +460,12 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
             for path, value in p.values_in(system).items():
                 key = schema.BY_PATH[path]
                 spelling, shown = units.in_system(key.template, value, system, digits=3)
-                out.append(f"    {key.section}.{spelling} = {toml_value(shown, limit=10_000)}"
-                           f"    # {p.sources[path]}")  # as a case writes it
+                out.append(commented(f"    {key.section}.{spelling} = {toml_value(shown, limit=10_000)}",
+                                     p.sources[path], width))  # as a case writes it
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
-                    out.append(f"    {what}: {', '.join(regions)}    # {p.region_sources[what.split()[0]]}")
+                    out.append(commented(f"    {what}: {', '.join(regions)}", p.region_sources[what.split()[0]],
+                                         width))
             unsettled = [r for r in schema.REGIONS if r not in p.native_regions + p.non_native_regions]
             if unsettled:
                 out.append(f"    not settled by its sources (the outputs say so): {', '.join(unsettled)}")
@@ -473,4 +475,4 @@ def presets_text(verbose: bool = False, system: str = "metric") -> str:
     out.append("")
     out.append("`tea presets -v` lists every value with its source (--units us_customary in US units); "
                "a case overrides any of them.")
-    return "\n".join(out)
+    return "\n".join(fitted(line, width) for line in out)
