@@ -450,8 +450,8 @@ class TestIrrExplained:
     @pytest.mark.parametrize(
         "flows, reason",
         [
-            ([10, 20, 0], "the flows never change sign (all receipts)"),
-            ([-10, -20, 0], "the flows never change sign (all costs)"),
+            ([10, 20, 0], "the net flows are never negative (no year costs more than it brings in)"),
+            ([-10, -20, 0], "the net flows are never positive (no year brings in more than it costs)"),
             # hand-worked quadratic (see TestIrr.test_two_roots_hand_worked)
             ([-100, 230, -132], "2 rates make NPV zero (10.0 %, 20.0 %); see MIRR"),
             # hand calculation: -100 g^2 + 50 g - 100 = 0 has discriminant

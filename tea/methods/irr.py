@@ -468,7 +468,7 @@ def irr_explained(flows: Sequence[float] | np.ndarray, instead: str = "see MIRR"
     >>> irr_explained([-100, 230, -132])
     (nan, '2 rates make NPV zero (10.0 %, 20.0 %); see MIRR')
     >>> irr_explained([-10, -5])
-    (nan, 'the flows never change sign (all costs)')
+    (nan, 'the net flows are never positive (no year brings in more than it costs)')
     """
     v = np.asarray(flows, dtype=float)
     if v.ndim != 1:
@@ -478,9 +478,9 @@ def irr_explained(flows: Sequence[float] | np.ndarray, instead: str = "see MIRR"
     if not (v != 0).any():
         return math.nan, "the flows are all zero"
     if not (v < 0).any():
-        return math.nan, "the flows never change sign (all receipts)"
+        return math.nan, "the net flows are never negative (no year costs more than it brings in)"
     if not (v > 0).any():
-        return math.nan, "the flows never change sign (all costs)"
+        return math.nan, "the net flows are never positive (no year brings in more than it costs)"
     rate = irr_scalar(v)
     if not math.isnan(rate):
         return rate, None
