@@ -183,3 +183,17 @@ def test_the_gain_tile_names_what_todays_use_nets_not_its_margin(demo_mappings):
     page = _flat(html_text.unescape(re.sub(r"<[^>]+>", " ", html)))
     assert f"present value, vs today's use at {nets:,.0f} EUR/ha/yr net of rent and overheads" in page
     assert "today's margin" not in page
+
+
+def test_a_payback_beside_a_loss_says_it_counts_no_interest(demo_mappings):
+    # Brealey, Myers and Allen (ch. 5): the payback period counts cash without discounting. Beside a loss at
+    # the discount rate (numpy-financial npv < 0) a plain "pays back" would read as a contradiction; the
+    # sentence says the payback counts no interest, and says nothing of interest where the stand earns
+    case, frame, res = _case(demo_mappings, costs__rent_per_ha=250.0, field__current_margin_per_ha=100.0)
+    assert _npv(case, frame) < 0 and res["payback_year"] is not None
+    head = headline.headline(case, res)
+    assert f"counted without interest, its cash flow pays back in year {res['payback_year']:.0f}" in head.sentence
+    _shown(case, frame, res, head)
+    case, frame, res = _case(demo_mappings)
+    assert _npv(case, frame) > 0
+    assert "without interest" not in headline.headline(case, res).sentence

@@ -77,7 +77,9 @@ def headline(case: Case, res: Results) -> Headline:
     opening = f"Over {case.stand_life} years at {display.percent(res.discount_rate_real, 1)} (real), "
     pay = res["payback_year"]
     caveat = payback_caveat(case, res)
-    closing = (f", and its cash flow pays back in year {pay:.0f}" + (f" but is {caveat}." if caveat else ".")
+    # payback counts the cash without interest: beside a loss at the discount rate, the sentence says so
+    paid = ("; counted without interest, its cash flow pays back" if stand_loses else ", and its cash flow pays back")
+    closing = (f"{paid} in year {pay:.0f}" + (f" but is {caveat}." if caveat else ".")
                if pay is not None else ", and its cash flow does not pay back within the stand life.")
     if margin_assumed(case):
         key = "field." + units.spell("current_margin_per_{ha}", case.unit_system)
