@@ -277,6 +277,10 @@ class TestDemoFieldTable:
         assert list(column) == sorted(column, reverse=True)  # ranked by that very column, largest first
         with pytest.raises(CaseError, match="npv_per_acre"):  # the error lists the file's names
             screen.screen(path, base, rank_by="npv_per_ha", progress=False)
+        # the terminal names the figure in words (the model's own label) and the file's column that holds it
+        words = {"npv": "NPV", "soc_gain_t_co2e_field": "SOC gain as CO2, whole field",
+                 "sold_t_dm": "Dry matter sold (life)"}[model_name]
+        assert f"Top 3 by {words} (column {file_name}):" in screen_files.summary_text(by_file)
 
 
 BAD_TABLE = """\

@@ -209,7 +209,7 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
             cells.append((h, vals))
         widths = [max(*(len(line) for line in h), *(len(v) for v in vals)) for h, vals in cells]
         out.append("")
-        out.append(f"Top {len(head)} by {result.rank_by} ({case.currency}):")
+        out.append(f"Top {len(head)} by {_ranked_by(case, result.rank_by)}:")
         for row in (0, 1):
             out.append("  ".join(h[row].rjust(w) for (h, _), w in zip(cells, widths)).rstrip())
         for i in range(len(head)):
@@ -217,3 +217,19 @@ def summary_text(result: ScreenResult, top: int = 10) -> str:
     out.append("Cautions:")
     out.extend(wrapped(f"  - {c}") for c in CAUTIONS)
     return "\n".join(out)
+
+
+def _ranked_by(case, column: str) -> str:
+    """The figure a screen ranks by, in words, with the file's column that holds it: "EAV vs current use
+    (column eav_vs_current_use_per_ha)"."""
+    from tea.model.definition import MODEL
+
+    name = next((n for n, (shown, _f) in file_columns(case).items() if shown == column), None)
+    if name is None:
+        return column
+    whole = name.endswith("_field")
+    try:
+        label = MODEL.figure(name[:-len("_field")] if whole else name).label
+    except (KeyError, ValueError):
+        return column
+    return f"{label}{', whole field' if whole else ''} (column {column})"
