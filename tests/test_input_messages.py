@@ -13,7 +13,7 @@ from pathlib import Path
 
 import pytest
 
-from conftest import CASES_DIR, run_cli
+from conftest import CASES_DIR, copy_case, run_cli, to_toml
 from tea.core.errors import CaseError
 from tea.inputs.case import load_case, load_preset, load_text, preset_names
 
@@ -175,3 +175,19 @@ def test_preset_notes_give_the_basis_and_source_not_an_edit_history(name):
     history = {path: note for path, note in notes.items()
                if re.search(r"changed from|\bkept \d|\d kept\b|previously|\bwas \d", note, re.IGNORECASE)}
     assert history == {}
+
+
+@pytest.mark.parametrize("key, given, meant", [
+    # IPCC 2006 Vol. 4 Ch. 3 (Figure 3A.5.1): four temperate climate zones, two with "clay" soils in Table 2.3
+    ("climate", "temperate", ["cool_temperate_dry", "cool_temperate_moist", "warm_temperate_dry",
+                              "warm_temperate_moist"]),
+    ("soil", "clay", ["high_activity_clay", "low_activity_clay"]),
+    ("climate", "borel", ["boreal"]),
+])
+def test_a_near_miss_names_every_choice_it_could_mean_never_one_of_equals(demo_mappings, key, given, meant):
+    data = copy_case(demo_mappings["clay_corner_miscanthus"])
+    data["field"][key] = given
+    with pytest.raises(CaseError) as caught:
+        load_text(to_toml(data), source="x.toml")
+    said = str(caught.value).split("did you mean ", 1)[1]
+    assert sorted(re.findall(r"'(\w+)'", said)) == sorted(meant), said

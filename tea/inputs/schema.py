@@ -607,5 +607,25 @@ def alias_index() -> dict[str, dict[str, tuple[Key, float]]]:
 
 
 def suggest(word: str, candidates: Iterable[str]) -> str:
-    close = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.5)
-    return f"; did you mean {close[0]!r}?" if close else ""
+    """"; did you mean 'x'?" for the nearest candidate; every candidate the word is part of, or that is as near
+    as the nearest, where there are several (a guess between equals would mislead).
+
+    >>> suggest("temperat", ["boreal", "cool_temperate_dry", "warm_temperate_dry"])
+    "; did you mean 'cool_temperate_dry' or 'warm_temperate_dry'?"
+    >>> suggest("borel", ["boreal", "cool_temperate_dry"])
+    "; did you mean 'boreal'?"
+    >>> suggest("clay", ["high_activity_clay", "low_activity_clay", "sandy"])
+    "; did you mean 'high_activity_clay' or 'low_activity_clay'?"
+    """
+    candidates = list(candidates)
+    within = [c for c in candidates if len(word) >= 3 and word.lower() in c.lower() and word != c]
+    close = difflib.get_close_matches(word, candidates, n=4, cutoff=0.5)
+    if len(within) > 1:
+        named = within[:4]
+    elif close:
+        nearness = lambda c: difflib.SequenceMatcher(None, word, c).ratio()  # noqa: E731 - get_close_matches' own
+        named = [c for c in close if nearness(c) >= nearness(close[0]) - 0.02]
+    else:
+        return ""
+    shown = [repr(c) for c in named]
+    return f"; did you mean {shown[0] if len(shown) == 1 else ', '.join(shown[:-1]) + ' or ' + shown[-1]}?"
