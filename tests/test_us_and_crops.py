@@ -363,3 +363,17 @@ def test_a_starters_commented_defaults_are_the_ones_the_case_takes(tmp_path, sys
     text = target.with_suffix(".toml").read_text(encoding="utf-8")
     assert f'# page_size = "{paper}"' in text
     assert tea.load_case(target.with_suffix(".toml"))["case.page_size"] == paper
+
+
+def test_a_us_starter_gives_the_metric_value_its_source_speaks_of(tmp_path):
+    # a preset's source speaks of its metric value ("35 lies below both"); beside a value in US units the
+    # starter says that metric value first, and converting it by NIST HB44 gives the US value shown
+    target = tmp_path / "u"
+    assert run_cli(["new", str(target), "--crop", "switchgrass", "--units", "us_customary"]).code == 0
+    lines = target.with_suffix(".toml").read_text(encoding="utf-8").splitlines()
+    key = next(i for i, line in enumerate(lines) if line.startswith("# record_short_ton_dm_per_acre = "))
+    assert "Preset: metric value 35 t DM/ha/yr; " in lines[key - 1]
+    shown = float(lines[key].split(" = ")[1])
+    assert shown == pytest.approx(35 * HA_PER_ACRE / 0.90718474, abs=0.05)  # 1 short ton = 0.90718474 t
+    metric = tea.load_preset("seeded_grass")
+    assert metric.source_in("yield.record_t_dm_per_ha", "metric") == metric.sources["yield.record_t_dm_per_ha"]

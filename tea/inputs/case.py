@@ -63,6 +63,21 @@ class Preset:
         n = self.values.get("harvest.interval_years", 1) if interval_years is None else interval_years
         return f"{self.title}, harvested every " + ("year" if int(n) == 1 else f"{int(n)} years")
 
+    def source_in(self, path: str, system: str, currency: str = "") -> str:
+        """The source of a preset value, read beside the value in ``system``: where the value is converted
+        (a US customary case), its metric value first, the units the source's own figures are in.
+
+        >>> load_preset("seeded_grass").source_in("yield.record_t_dm_per_ha", "us_customary")[:34]
+        'metric value 35 t DM/ha/yr; Wullsc'
+        """
+        source = self.sources[path]
+        key = schema.BY_PATH.get(path)
+        value = self.values.get(path)
+        if system == "metric" or key is None or not isinstance(value, (int, float)) or isinstance(value, bool) \
+                or units.display_factor(key.template, system) == 1.0:
+            return source
+        return f"metric value {value:g} {key.unit_text('metric', currency)}; {source}"
+
     def values_in(self, system: str) -> dict[str, Any]:
         """The preset's values for a case in a unit system: as given, except that a US customary case counts
         planting material the preset counts in kilograms (seed) in pounds, as US seed is sold, with the rate per

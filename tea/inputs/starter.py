@@ -398,7 +398,7 @@ def starter_case(name: str, crop: str, system: str = "metric", currency: str = "
                 value, active = in_system[k.path], False
                 if k.path == PLANTING_RATE:
                     value = preset.planting_rate_in(planting_unit)
-                doc += f" Preset: {preset.sources[k.path]}."
+                doc += f" Preset: {preset.source_in(k.path, system, currency)}."
                 tag = "[new crop: preset] " if base is not None else ""
             elif k.default in (schema.DERIVED, schema.PRESET) or k.default is None:
                 value, active = OPTIONAL_EXAMPLES.get(k.path), False

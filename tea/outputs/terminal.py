@@ -461,7 +461,7 @@ def presets_text(verbose: bool = False, system: str = "metric", width: int | Non
                 key = schema.BY_PATH[path]
                 spelling, shown = units.in_system(key.template, value, system, digits=3)
                 out.append(commented(f"    {key.section}.{spelling} = {toml_value(shown, limit=10_000)}",
-                                     p.sources[path], width))  # as a case writes it
+                                     p.source_in(path, system), width))  # as a case writes it
             for what, regions in (("native in", p.native_regions), ("non-native in", p.non_native_regions)):
                 if regions:
                     out.append(commented(f"    {what}: {', '.join(regions)}", p.region_sources[what.split()[0]],
