@@ -135,3 +135,12 @@ def percent(value: float | None, digits: int = 1) -> str:
 def unit_text(unit: str, currency: str, price_unit: str = "t DM") -> str:
     """A unit string with ``money`` replaced by the currency."""
     return unit.replace("money", currency).replace("price unit", price_unit)
+
+
+def before_site_factor(factor: float) -> str:
+    """What a mature yield given in a case is, said beside it: "before site factor 0.85" ("" at 1).
+
+    >>> before_site_factor(0.85), before_site_factor(1.0)
+    ('before site factor 0.85', '')
+    """
+    return f"before site factor {factor:g}" if factor != 1 else ""

@@ -219,9 +219,9 @@ def _breakeven_yield_hint(case: Case, res: Results) -> str:
     def number(value: float | None) -> str:
         return "–" if value is None else f"{display.convert(value, 't DM/ha/yr', case.unit_system)[0]:,.2f}"
 
-    factor = case["yield.site_factor"]
+    before = display.before_site_factor(case["yield.site_factor"])
     return (f"sold a year on average (case {number(value_of(res, 'mean_sold_t_dm_per_year'))}); as mature yield"
-            + (f" before site factor {factor:g}" if factor != 1 else "")
+            + (f" {before}" if before else "")
             + f": {number(value_of(res, 'breakeven_mature_yield_t_dm_per_ha'))} "
             f"(case {number(case['yield.mature_t_dm_per_ha'])})")
 

@@ -225,8 +225,8 @@ def summary_text(case: Case, frame: pd.DataFrame, res: Results, yearly: bool = T
                 per_ha += f" on average (case: {sold:,.2f})"
             if name.startswith("breakeven_mature") and res[name] is not None:  # beside the case's own value
                 given, _ = display.convert(case["yield.mature_t_dm_per_ha"], "t DM/ha/yr", case.unit_system)
-                factor = case["yield.site_factor"]
-                per_ha += f" (case: {given:,.2f}" + (f", before site factor {factor:g})" if factor != 1 else ")")
+                before = display.before_site_factor(case["yield.site_factor"])
+                per_ha += f" (case: {given:,.2f}" + (f", {before})" if before else ")")
             whole = _fig(res, case, name, whole=True) if FIGURE_BY_NAME[name].scales else ""
             row = f"  {label(name, case):<{width}}{per_ha:<34}{whole}".rstrip()
             # a long figure (a reason it is undefined) continues under the figures, not under the labels
