@@ -43,6 +43,12 @@ def margin_assumed(case: Case) -> bool:
     return case.origin.get("field.current_margin_per_ha") == "default"
 
 
+def _per_area(case: Case, value_per_ha: float) -> str:
+    """Money per ha said in the case's units and currency: "-1,548 EUR per ha", "626 USD per acre"."""
+    value, _ = display.convert(value_per_ha, "money/ha", case.unit_system)
+    return f"{display.money(value, case.currency)} per {'acre' if case.unit_system == 'us_customary' else 'ha'}"
+
+
 def payback_caveat(case: Case, res: Results) -> str:
     """What the payback year alone hides, as a clause ("below zero again in year 15 and ends the stand life at
     -1,548 EUR per ha"), or "" where the running total of cash stays at or above zero from the payback year on.
@@ -55,21 +61,16 @@ def payback_caveat(case: Case, res: Results) -> str:
     again, end = res["payback_lost_year"], res["cash_at_removal"]
     if res["payback_year"] is None or again is None:
         return ""
-    per = "acre" if case.unit_system == "us_customary" else "ha"
-    value, _ = display.convert(end or 0.0, "money/ha", case.unit_system)
-    total = f"{display.money(value, case.currency)} per {per}"
-    if value < 0:
+    total = _per_area(case, end or 0.0)
+    if (end or 0.0) < 0:
         return f"below zero again in year {again:.0f} and ends the stand life at {total}"
     return f"below zero again in year {again:.0f} before ending at {total}"
 
 
 def headline(case: Case, res: Results) -> Headline:
     """The banner and sentence of a computed case."""
-    per = "acre" if case.unit_system == "us_customary" else "ha"
-
     def money(name: str) -> str:
-        value, _ = display.convert(abs(res[name] or 0.0), "money/ha", case.unit_system)
-        return f"{display.money(value, case.currency)} per {per} per year"
+        return _per_area(case, abs(res[name] or 0.0)) + " per year"
 
     diff = res["eav_vs_current_use"] or 0.0
     stand_loses = (res["npv"] or 0.0) < 0
