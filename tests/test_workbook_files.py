@@ -479,3 +479,24 @@ def test_a_workbook_read_back_tells_every_problem_at_once_each_at_its_cell(tmp_p
     assert f"field.area_acre ({area_cell})" in keys, keys
     assert f"finance.discount_rate ({rate_cell})" in keys, keys
     assert not [p for p in err.value.problems if "area" in p.key and "missing value" in p.message]
+
+
+@pytest.mark.parametrize("made, status, said", [
+    # README (exit statuses): 2 for a file that is not what was expected, 1 for one the machine would not read
+    (OSError(22, "Invalid argument"), 2, "not an xlsx file"),  # a file too small to seek its zip directory in
+    (OSError(5, "Input/output error"), 1, "input/output error"),
+    (PermissionError(13, "Permission denied"), 1, "permission denied"),
+])
+def test_a_workbook_the_machine_cannot_read_is_not_called_a_wrong_file(tmp_path, demo, monkeypatch, capsys, made,
+                                                                        status, said):
+    case, frame, res = demo["clay_corner_miscanthus"]
+    path = tmp_path / "book.xlsx"
+    write_workbook(case, frame, res, path)
+
+    def refused(*_args, **_kwargs):
+        raise made
+
+    monkeypatch.setattr(zipfile, "ZipFile", refused)
+    assert cli.main(["run", str(path), "--brief"]) == status
+    err = capsys.readouterr().err
+    assert said in err.lower() and "book.xlsx" in err and len(err.strip().splitlines()) == 1, err

@@ -17,6 +17,7 @@ deeply is a clear error, never a silent fallback.
 """
 from __future__ import annotations
 
+import errno
 import json
 import math
 import posixpath
@@ -134,9 +135,14 @@ class _Book:
                              f"({MAX_FILE_BYTES:,} bytes at most)")
         try:
             self.zip = zipfile.ZipFile(path)
-        except (PermissionError, IsADirectoryError) as exc:
-            raise unreadable(source, exc, "a workbook written by tea (.xlsx)") from None
-        except (zipfile.BadZipFile, OSError, ValueError, EOFError) as exc:
+        except OSError as exc:
+            # a file too small to hold a zip's directory fails its seek (EINVAL); any other error of the machine
+            # (no permission, a folder, an input/output error) is the file not read, not a file of another kind
+            if exc.errno not in (None, errno.EINVAL):
+                raise unreadable(source, exc, "a workbook written by tea (.xlsx)") from None
+            raise self.error(f"cannot read the workbook: not an xlsx file ({exc.__class__.__name__}: "
+                             f"{brief(str(exc))})") from None
+        except (zipfile.BadZipFile, ValueError, EOFError) as exc:
             raise self.error(f"cannot read the workbook: not an xlsx file ({exc.__class__.__name__}: "
                              f"{brief(str(exc))})") from None
         if len(self.zip.infolist()) > MAX_PARTS:
