@@ -482,3 +482,18 @@ def test_a_us_screens_terminal_view_stays_within_the_terminal_width(cases, tmp_p
     assert len(lines[heads]) == len(lines[heads + 1])  # right-aligned: the first row ends where the headings do
     assert "[DEMO DATA]" in text
     assert "North-forty-by-\u2026" in text  # a long id cut short in the terminal (the ranked file has it whole)
+
+
+@pytest.mark.parametrize("made, status, said", [
+    # README (exit statuses): 2 for a path that names no file, 1 for a file the machine would not read
+    ("folder", 2, "cannot read the file: it is a folder; expected a field table (.csv)"),
+    ("missing", 2, "file not found"),
+])
+def test_a_field_table_that_cannot_be_read_is_said_as_any_input_is(tmp_path, capsys, made, status, said):
+    from tea.cli.main import main
+
+    path = tmp_path / ("fields" if made == "folder" else "none.csv")
+    if made == "folder":
+        path.mkdir()
+    assert main(["screen", str(path), "--case", str(CASES / "clay_corner_miscanthus.toml")]) == status
+    assert capsys.readouterr().err.strip() == f"error: {path}: {said}"

@@ -16,7 +16,7 @@ import sys
 from pathlib import Path
 
 from tea.cli.common import say, warn
-from tea.core.errors import CaseError, Problem
+from tea.core.errors import CaseError, Problem, unreadable
 
 
 def _whole_number(minimum: int):
@@ -120,9 +120,10 @@ def _cmd_screen(args: argparse.Namespace) -> int:
     check_outputs([(out, screen_files.TABLE_SUFFIXES), (errors, screen_files.ERRORS_SUFFIXES)], args.force,
                   inputs=[args.fields, args.case])
     screen_files.check_parquet(out)
-    if not Path(args.fields).is_file():
-        raise CaseError([Problem(args.fields, "", "is a folder, not a field table" if Path(args.fields).is_dir()
-                                 else "file not found")])
+    try:  # the table readable before any work, said as any input that cannot be read is
+        Path(args.fields).open("rb").close()
+    except OSError as exc:
+        raise unreadable(args.fields, exc, "a field table (.csv)") from None
     _warn(case)
     result = screen.screen(args.fields, case, rank_by=args.rank_by, ascending=args.ascending,
                            chunk_rows=args.chunk_rows, progress=_progress(args))

@@ -263,11 +263,7 @@ class FieldTable:
         self.case = case
         try:
             self._handle = self.path.open("rb")
-        except FileNotFoundError:
-            raise CaseError([Problem(self.source, "", "file not found")]) from None
-        except IsADirectoryError:
-            raise CaseError([Problem(self.source, "", "is a folder, not a field table")]) from None
-        except OSError as exc:
+        except OSError as exc:  # not found or a folder (exit 2); refused by the machine (exit 1)
             raise unreadable(self.source, exc, "a field table (.csv)") from None
         self._lines = _physical_lines(self._handle)
         self.header_line, header = self._header()
