@@ -377,3 +377,21 @@ def test_a_us_starter_gives_the_metric_value_its_source_speaks_of(tmp_path):
     assert shown == pytest.approx(35 * HA_PER_ACRE / 0.90718474, abs=0.05)  # 1 short ton = 0.90718474 t
     metric = tea.load_preset("seeded_grass")
     assert metric.source_in("yield.record_t_dm_per_ha", "metric") == metric.sources["yield.record_t_dm_per_ha"]
+
+
+def test_us_json_gives_the_figures_as_the_case_shows_them_too():
+    # NIST HB44 Appendix C: 1 acre = 0.40468564224 ha, 1 short ton = 0.90718474 t. The canonical figures stay
+    # (per ha, metric t); a US case's JSON adds them per acre and in short tons, with their units
+    import json
+
+    res = run_cli(["run", str(SANDY), "--json"])
+    assert res.code == 0, res.err
+    doc = json.loads(res.out)
+    shown, canonical = doc["figures_in_case_units"], doc["figures_per_ha"]
+    assert shown["npv"] == {"value": pytest.approx(canonical["npv"] * HA_PER_ACRE, rel=1e-12), "unit": "USD/acre"}
+    assert shown["breakeven_price"]["unit"] == "USD/short ton DM"
+    assert shown["breakeven_price"]["value"] == pytest.approx(canonical["breakeven_price"] * 0.90718474, rel=1e-12)
+    assert shown["soc_gain_t_co2e"]["unit"] == "short ton CO2e/acre"
+    assert shown["irr"] == {"value": canonical["irr"], "unit": "fraction"}
+    metric = json.loads(run_cli(["run", str(CLAY), "--json"]).out)
+    assert "figures_in_case_units" not in metric

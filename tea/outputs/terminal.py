@@ -315,6 +315,13 @@ def json_payload(case: Case, frame: pd.DataFrame, res: Results) -> dict[str, Any
     payload["unit_system"] = case.unit_system
     payload["region"] = case.values.get("field.region")
     payload["non_native_crop"] = case.preset.non_native_in(case.values.get("field.region"))
+    if case.unit_system != "metric":  # the figures also as the case's outputs show them (per acre, short tons)
+        payload["figures_in_case_units"] = {}
+        for name, value in payload["figures_per_ha"].items():
+            unit = payload["figure_units"].get(name, "").replace("price unit", case.price_unit)
+            shown, shown_unit = display.convert(value if isinstance(value, float) else None, unit, case.unit_system)
+            payload["figures_in_case_units"][name] = {"value": shown if shown is not None else value,
+                                                      "unit": shown_unit.replace("money", case.currency)}
     payload["ledger"] = {
         "per": "ha",
         "years": [int(y) for y in frame["year"]],
