@@ -45,11 +45,14 @@ def _end_on_interrupt() -> None:
     received = signal.sigwait(_watched())
     from tea.core.errors import INTERRUPTED, INTERRUPTED_MESSAGE
 
+    from tea.core.files import not_written_note
+
     if received == signal.SIGINT:
-        status, message = INTERRUPTED, INTERRUPTED_MESSAGE
+        status, message = INTERRUPTED, INTERRUPTED_MESSAGE + not_written_note()
     else:
         status = 128 + int(received)
-        message = f"stopped ({signal.Signals(received).name}); no output file was left half-written"
+        message = f"stopped ({signal.Signals(received).name}); no output file was left half-written" \
+                  + not_written_note()
 
     try:
         from tea.core.files import in_flight

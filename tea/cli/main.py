@@ -24,6 +24,7 @@ from tea.cli import explain as explain_cli
 from tea.cli import yield_cli
 from tea.cli.common import SafeStream, check_outputs as _check_outputs, load_all as _load_all
 from tea.cli.common import quiet_stdout as _quiet_stdout, say as _say, warn
+from tea.core.files import promised
 from tea.core.texts import fitted, on_terminal
 from tea.core.errors import (INTERRUPTED, INTERRUPTED_MESSAGE, CaseError, OutputError, ReadRefused, TeaError,
                              WriteError)
@@ -62,6 +63,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     ledgers, results = [], []
     _check_outputs([(args.xlsx, (".xlsx",)), (args.pdf, (".pdf",)), (args.html, (".html", ".htm"))], args.force,
                    inputs=args.cases)
+    promised([args.xlsx, args.pdf, args.html])  # an interrupt names those not written yet
     sensitivity = True if args.sensitivity else None  # None: where a case has a [sensitivity] section
     _unused_options(args)
     for case in cases:
@@ -310,7 +312,9 @@ def _run(argv: Sequence[str] | None) -> int:
     try:
         return args.func(args)
     except KeyboardInterrupt:
-        print(INTERRUPTED_MESSAGE, file=sys.stderr)
+        from tea.core.files import not_written_note
+
+        print(INTERRUPTED_MESSAGE + not_written_note(), file=sys.stderr)
         return INTERRUPTED
     except BrokenPipeError:  # a reader that went away: no more printing, and not an error
         _quiet_stdout()

@@ -7,7 +7,8 @@ a run killed outright (``kill -9``, a power cut) can leave one behind, and
 the next write of the same target removes those whose process is gone.
 The temporary files being written are listed in this process
 (:func:`in_flight`), so that a run ended by Ctrl-C from outside the
-interpreter's own exception path removes them before it exits.
+interpreter's own exception path removes them before it exits; the outputs asked
+for and not yet written (:func:`promised`) are named in its last words.
 A write the machine refuses (no permission, disk full, a folder in the way)
 raises :class:`~tea.core.errors.WriteError` naming the target.
 """
@@ -19,7 +20,7 @@ import os
 import re
 import tempfile
 from pathlib import Path
-from typing import Callable
+from typing import Callable, Iterable
 
 from tea.core.errors import OutputError, WriteError
 
@@ -30,6 +31,23 @@ _IN_FLIGHT: set[Path] = set()
 def in_flight() -> list[Path]:
     """The temporary files this process is writing at this moment."""
     return list(_IN_FLIGHT)
+
+
+#: the output files the command was asked for and has not written yet, by their resolved path
+_PROMISED: dict[Path, str] = {}
+
+
+def promised(paths: Iterable[str | Path | None]) -> None:
+    """Note the output files a command was asked for (None: not asked for), so that a run interrupted after
+    some of them can say which it did not write (:func:`not_written_note`)."""
+    for p in paths:
+        if p:
+            _PROMISED[Path(p).resolve()] = str(p)
+
+
+def not_written_note() -> str:
+    """"; not written: b.pdf, c.html" for the output files asked for and not written yet; "" for none."""
+    return f"; not written: {', '.join(_PROMISED.values())}" if _PROMISED else ""
 
 
 _REASONS = {
@@ -121,6 +139,7 @@ def atomic_write(path: str | Path, write: Callable[[Path], None], force: bool = 
         write(tmp_path)
         os.chmod(tmp_path, 0o644)
         os.replace(tmp_path, path)
+        _PROMISED.pop(path.resolve(), None)
     except OSError as exc:
         tmp_path.unlink(missing_ok=True)
         raise write_refused(path, exc) from None
