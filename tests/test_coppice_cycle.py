@@ -80,3 +80,26 @@ def test_poplar_preset_against_its_trial():
     assert p["establishment.planting_units_per_ha"] == 7140
     assert p["yield.mature_t_dm_per_ha"] == 13.0 and p["harvest.interval_years"] == 3
     assert p["yield.mortality_per_year"] == pytest.approx(1 - 0.899 ** (1 / 5), abs=5e-4)
+
+
+SWITCHGRASS = CASES_DIR / "sandy_slope_switchgrass.toml"  # seeded grass preset
+
+
+@pytest.mark.parametrize("interval", [2, 3])
+def test_a_grass_left_uncut_keeps_a_fifth_of_its_standing_crop_from_earlier_years(interval):
+    """Adler, Sanderson, El Nashaar, Griffith & Banowetz 2008 (ASA-CSSA-SSSA Annual Meeting Abstracts 296,
+    USDA-ARS): in switchgrass harvested every 2 or 3 years only 15-25 % of the standing harvestable biomass was
+    from earlier years' growth. A grass cut every `interval` years must not sell `interval` years of growth at
+    once, as a coppice does with its wood; once the yield is mature, the share of the cut standing crop that
+    grew before the harvest year lies in that published range."""
+    grass = load_case(SWITCHGRASS).replace(**{"harvest.interval_years": interval, "harvest.first_year": 1})
+    led = tea.build_ledger(grass)
+    cut = [int(t) for t in led.index if led.at[t, "harvest"] and t >= 4 and t < grass.stand_life]
+    assert cut
+    for t in cut:
+        earlier = 1.0 - led.at[t, "growth_t_dm"] / led.at[t, "standing_t_dm"]
+        assert 0.15 <= earlier <= 0.25, (t, earlier)
+        assert led.at[t, "standing_t_dm"] < 1.5 * led.at[t, "growth_t_dm"]
+    # a coppice keeps its wood: a rotation's growth is all cut at once (mass balance)
+    willow = tea.build_ledger(_variant(interval, 20))
+    assert_allclose(willow["standing_t_dm"].sum(), willow["growth_after_cut_back_t_dm"].sum(), rtol=1e-12)

@@ -262,6 +262,9 @@ KEYS: tuple[Key, ...] = (
     # --- harvest -----------------------------------------------------------------
     _k("harvest", "timing", "enum", PRESET, "When the crop is cut.", choices=("autumn", "late_winter")),
     _k("harvest", "interval_years", "int", PRESET, "Years between harvests (1 for grasses, 2-5 for coppice).", lo=1, hi=10),
+    _k("harvest", "uncut_carryover", "float", PRESET,
+       "Share of a year's growth left uncut that is still there to harvest a year later (1 for coppice, whose "
+       "wood keeps; far less for a grass, whose uncut shoots die back and weather).", **FRACTION),
     _k("harvest", "first_year", "int", PRESET, "Year of the first harvest; each harvest takes the growth since the last.", lo=1),
     _k("harvest", "cut_back_year", "int", PRESET,
        "Last year whose growth is cut back and never sold (a coppice's cut-back, a grass's topped first year); "

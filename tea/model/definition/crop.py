@@ -101,9 +101,10 @@ DEFS = (
          "Growth of the years after the cut-back year (the cut-back year's and earlier growth is never sold).",
          (t > H.cut_back_year) * L.growth_t_dm),
     line("uncut_t_dm", "t DM/ha", "yield", "Growth standing uncut",
-         "Growth standing at the end of the year before any harvest: last year's, unless it was harvested, plus "
-         "this year's growth after the cut-back.",
-         lag(L.uncut_t_dm, 1) * (1 - lag(L.harvest, 1)) + L.growth_after_cut_back_t_dm, show=False),
+         "Growth standing at the end of the year before any harvest: what is left of last year's (its share "
+         "carried over a year uncut), unless it was harvested, plus this year's growth after the cut-back.",
+         lag(L.uncut_t_dm, 1) * (1 - lag(L.harvest, 1)) * H.uncut_carryover + L.growth_after_cut_back_t_dm,
+         show=False),
     line("uncut_ramp_as_planted", "fraction", "yield", "Ramp-up standing uncut, as planted",
          "Ramp-up fractions of the years since the cut-back or the last harvest, summed, where establishment "
          "succeeds: above 0 where a harvest of the stand as planted takes dry matter.",
